@@ -1,0 +1,78 @@
+/**
+ * Allocating convenience operators on a periodic grid (diagnostics, set-up, tests). Hot loops use the
+ * buffer-reusing transforms in fft.ts directly.
+ */
+import { RealFFT } from './fft.ts';
+import type { Grid } from './grid.ts';
+
+const cache = new Map<number, RealFFT>();
+export function realFFT(n: number): RealFFT {
+  let f = cache.get(n);
+  if (!f) {
+    f = new RealFFT(n);
+    cache.set(n, f);
+  }
+  return f;
+}
+
+/** half spectrum (interleaved, N+2) of a real signal */
+export function spectrum(u: Float64Array): Float64Array {
+  const s = new Float64Array(u.length + 2);
+  realFFT(u.length).forward(u, s);
+  return s;
+}
+
+/** d^order u / dx^order by Fourier differentiation (Nyquist dropped for odd orders) */
+export function derivative(grid: Grid, u: Float64Array, order: number): Float64Array {
+  const n = grid.n;
+  const s = spectrum(u);
+  for (let m = 0; m <= n / 2; m++) {
+    const k = grid.kHalf[m];
+    if (order % 2 === 1 && m === n / 2) {
+      s[2 * m] = 0;
+      s[2 * m + 1] = 0;
+      continue;
+    }
+    // (ik)^order
+    const mag = Math.pow(k, order);
+    const re = s[2 * m];
+    const im = s[2 * m + 1];
+    switch (order % 4) {
+      case 0: s[2 * m] = mag * re; s[2 * m + 1] = mag * im; break;
+      case 1: s[2 * m] = -mag * im; s[2 * m + 1] = mag * re; break;
+      case 2: s[2 * m] = -mag * re; s[2 * m + 1] = -mag * im; break;
+      default: s[2 * m] = mag * im; s[2 * m + 1] = -mag * re; break;
+    }
+  }
+  const out = new Float64Array(n);
+  realFFT(n).inverse(s, out);
+  return out;
+}
+
+/** trapezoidal (spectrally exact for periodic functions) integral Σ f_j dx */
+export function integrate(grid: Grid, f: Float64Array): number {
+  let s = 0;
+  for (let j = 0; j < f.length; j++) s += f[j];
+  return s * grid.dx;
+}
+
+/**
+ * Band-limited resampling of a periodic signal to a new number of points (zero-padding or truncating the
+ * spectrum; the Nyquist mode of the shorter length is split/halved so that the result stays real).
+ */
+export function resample(u: Float64Array, nOut: number): Float64Array {
+  const nIn = u.length;
+  const s = spectrum(u);
+  const t = new Float64Array(nOut + 2);
+  const mMax = Math.min(nIn, nOut) / 2;
+  const scale = nOut / nIn;
+  for (let m = 0; m <= mMax; m++) {
+    let f = scale;
+    if (m === mMax && nIn !== nOut) f *= nOut > nIn ? 0.5 : 1;
+    t[2 * m] = s[2 * m] * f;
+    t[2 * m + 1] = m === mMax ? 0 : s[2 * m + 1] * f;
+  }
+  const out = new Float64Array(nOut);
+  realFFT(nOut).inverse(t, out);
+  return out;
+}
