@@ -1,8 +1,8 @@
 /**
  * Fast Fourier transforms on top of fft.js (radix-4, complex, interleaved re/im).
  *
- * RealFFT packs a real signal of length N into a complex one of length N/2 and unpacks the half spectrum
- * X_k, k = 0 … N/2 (Press, Teukolsky, Vetterling & Flannery, Numerical Recipes, 3rd ed. 2007, §12.3.2).
+ * RealFFT keeps the half spectrum X_k, k = 0 … N/2, of a real signal, using fft.js's real-input transform
+ * in both directions (the inverse through the Hartley transform, see below).
  * Conventions: forward X_k = Σ_j x_j e^{-2πijk/N} (unnormalised); inverse carries the 1/N.
  * Every buffer is allocated once in the constructor: forward/inverse allocate nothing.
  */
@@ -27,85 +27,41 @@ export class ComplexFFT {
 
 export class RealFFT {
   readonly n: number;
-  private readonly half: number;
   private readonly fft: FFT;
-  private readonly z: Float64Array;
-  private readonly zHat: Float64Array;
-  /** twiddles W^k = e^{-2πik/N}, k = 0 … N/2 */
-  private readonly wr: Float64Array;
-  private readonly wi: Float64Array;
+  private readonly full: Float64Array;
+  private readonly hartley: Float64Array;
 
   constructor(n: number) {
     if (n < 4 || (n & (n - 1)) !== 0) throw new RangeError(`RealFFT size must be a power of two ≥ 4, got ${n}`);
     this.n = n;
-    this.half = n / 2;
-    this.fft = new FFT(this.half);
-    this.z = new Float64Array(n);
-    this.zHat = new Float64Array(n);
-    this.wr = new Float64Array(this.half + 1);
-    this.wi = new Float64Array(this.half + 1);
-    for (let k = 0; k <= this.half; k++) {
-      this.wr[k] = Math.cos((2 * Math.PI * k) / n);
-      this.wi[k] = -Math.sin((2 * Math.PI * k) / n);
-    }
+    this.fft = new FFT(n);
+    this.full = new Float64Array(2 * n);
+    this.hartley = new Float64Array(n);
   }
 
   /** spec (interleaved, length N+2: modes 0 … N/2) = DFT of the real signal x (length N) */
   forward(x: Float64Array, spec: Float64Array): void {
-    const h = this.half;
-    const z = this.z;
-    for (let m = 0; m < h; m++) {
-      z[2 * m] = x[2 * m];
-      z[2 * m + 1] = x[2 * m + 1];
-    }
-    const Z = this.zHat;
-    this.fft.transform(Z, z);
-    const wr = this.wr;
-    const wi = this.wi;
-    for (let k = 0; k <= h; k++) {
-      const a = k === h ? 0 : k;
-      const b = k === 0 || k === h ? 0 : h - k;
-      const zr = Z[2 * a];
-      const zi = Z[2 * a + 1];
-      const cr = Z[2 * b];
-      const ci = -Z[2 * b + 1];
-      // E = (Z_k + conj Z_{-k})/2, O = (Z_k - conj Z_{-k})/(2i)
-      const er = 0.5 * (zr + cr);
-      const ei = 0.5 * (zi + ci);
-      const or = 0.5 * (zi - ci);
-      const oi = -0.5 * (zr - cr);
-      spec[2 * k] = er + wr[k] * or - wi[k] * oi;
-      spec[2 * k + 1] = ei + wr[k] * oi + wi[k] * or;
-    }
+    const full = this.full;
+    this.fft.realTransform(full, x);
+    for (let i = 0; i < this.n + 2; i++) spec[i] = full[i];
   }
 
-  /** x (length N) = inverse DFT of the Hermitian half spectrum spec (length N+2); spec is not modified */
+  /**
+   * x (length N) = inverse DFT of the Hermitian half spectrum spec (length N+2); spec is not modified.
+   * Uses the Hartley transform, which is its own inverse (Bracewell, The Hartley Transform, 1986):
+   * H_k = Re X_k − Im X_k, and x_n = (1/N)(Re G_n − Im G_n) with G = DFT(H), H real, so that the fast
+   * real-input transform serves both directions.
+   */
   inverse(spec: Float64Array, x: Float64Array): void {
-    const h = this.half;
-    const Z = this.zHat;
-    const wr = this.wr;
-    const wi = this.wi;
-    for (let k = 0; k < h; k++) {
-      const xr = spec[2 * k];
-      const xi = spec[2 * k + 1];
-      const yr = spec[2 * (h - k)];
-      const yi = -spec[2 * (h - k) + 1];
-      // E = (X_k + conj X_{h-k})/2, O = (X_k - conj X_{h-k}) W^{-k} / 2
-      const er = 0.5 * (xr + yr);
-      const ei = 0.5 * (xi + yi);
-      const dr = 0.5 * (xr - yr);
-      const di = 0.5 * (xi - yi);
-      const or = dr * wr[k] + di * wi[k];
-      const oi = di * wr[k] - dr * wi[k];
-      // Z = E + iO
-      Z[2 * k] = er - oi;
-      Z[2 * k + 1] = ei + or;
-    }
-    const z = this.z;
-    this.fft.inverseTransform(z, Z);
-    for (let m = 0; m < h; m++) {
-      x[2 * m] = z[2 * m];
-      x[2 * m + 1] = z[2 * m + 1];
-    }
+    const n = this.n;
+    const h = n / 2;
+    const H = this.hartley;
+    for (let k = 0; k <= h; k++) H[k] = spec[2 * k] - spec[2 * k + 1];
+    for (let k = h + 1; k < n; k++) H[k] = spec[2 * (n - k)] + spec[2 * (n - k) + 1];
+    const G = this.full;
+    this.fft.realTransform(G, H);
+    const inv = 1 / n;
+    for (let m = 0; m <= h; m++) x[m] = (G[2 * m] - G[2 * m + 1]) * inv;
+    for (let m = h + 1; m < n; m++) x[m] = (G[2 * (n - m)] + G[2 * (n - m) + 1]) * inv;
   }
 }

@@ -1,0 +1,152 @@
+/**
+ * Exact solutions of the KdV equation u_τ = 6uu_ξ − u_ξξξ (natural units, physics.md §3–§4).
+ *
+ * - One soliton: u = −2κ² sech²(κ(ξ − 4κ²τ − ξ₀)).
+ * - N solitons (reflectionless potentials): u = −2 ∂²_ξ ln det(I + A),
+ *   A_ij = c_i c_j/(κ_i + κ_j) exp(−(κ_i + κ_j)ξ + 4(κ_i³ + κ_j³)τ)
+ *   (Kay & Moses, J. Appl. Phys. 27, 1503, 1956; Hirota, Phys. Rev. Lett. 27, 1192, 1971).
+ *   We write c_i² = 2κ_i e^{2κ_i x_i}: x_i is where soliton i would sit at τ = 0 if it were alone.
+ * - The closed-form two-soliton from u(ξ, 0) = −6 sech²ξ (Drazin & Johnson, Solitons: an Introduction, 1989).
+ */
+
+export function oneSoliton(kappa: number, center: number, xi: number, tau: number): number {
+  const s = 1 / Math.cosh(kappa * (xi - 4 * kappa * kappa * tau - center));
+  return -2 * kappa * kappa * s * s;
+}
+
+/** −12[3 + 4cosh(2ξ − 8τ) + cosh(4ξ − 64τ)] / [3cosh(ξ − 28τ) + cosh(3ξ − 36τ)]² (Drazin & Johnson 1989) */
+export function twoSolitonFromSech2(xi: number, tau: number): number {
+  // divide numerator and denominator by e^{|ξ|·4}-sized factors implicitly by using cosh ratios in log form
+  const num = 3 + 4 * Math.cosh(2 * xi - 8 * tau) + Math.cosh(4 * xi - 64 * tau);
+  const den = 3 * Math.cosh(xi - 28 * tau) + Math.cosh(3 * xi - 36 * tau);
+  return (-12 * num) / (den * den);
+}
+
+export interface SolitonSpec {
+  /** inverse width κ (natural units): depth 2κ², speed 4κ², bound state at −κ² */
+  kappa: number;
+  /** position the soliton would have at τ = 0 if alone */
+  center: number;
+}
+
+/**
+ * Kay–Moses N-soliton potential at one τ on the given points. ln det(I + A) is differentiated analytically:
+ * ∂² ln det M = tr(M⁻¹M″) − tr(M⁻¹M′M⁻¹M′). To avoid overflow, M = I + DBD (D = diag d_i,
+ * d_i = c_i e^{−κ_i ξ + 4κ_i³τ}, B_ij = 1/(κ_i + κ_j)) is rescaled as S(S⁻² + GBG)S with s_i = max(d_i, 1),
+ * g_i = d_i/s_i; ln det S is piecewise linear in ξ, so its second derivative vanishes.
+ */
+export function nSolitonPotential(solitons: readonly SolitonSpec[], x: ArrayLike<number>, tau: number): Float64Array {
+  const n = solitons.length;
+  const out = new Float64Array(x.length);
+  const kap = solitons.map((s) => s.kappa);
+  const logc = solitons.map((s) => 0.5 * Math.log(2 * s.kappa) + s.kappa * s.center);
+  const M = new Float64Array(n * n);
+  const M1 = new Float64Array(n * n);
+  const M2 = new Float64Array(n * n);
+  const g = new Float64Array(n);
+  const dg = new Float64Array(n); // g'/g
+  const sd = new Float64Array(n); // s⁻² diagonal
+  const dsd = new Float64Array(n); // (s⁻²)'/s⁻²
+  for (let p = 0; p < x.length; p++) {
+    const xi = x[p];
+    for (let i = 0; i < n; i++) {
+      const logd = logc[i] - kap[i] * xi + 4 * kap[i] ** 3 * tau;
+      if (logd > 0) {
+        g[i] = 1;
+        dg[i] = 0;
+        sd[i] = Math.exp(-2 * logd);
+        dsd[i] = 2 * kap[i];
+      } else {
+        g[i] = Math.exp(logd);
+        dg[i] = -kap[i];
+        sd[i] = 1;
+        dsd[i] = 0;
+      }
+    }
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) {
+        const b = (g[i] * g[j]) / (kap[i] + kap[j]);
+        const r = dg[i] + dg[j];
+        let m0 = b, m1 = r * b, m2 = r * r * b;
+        if (i === j) {
+          m0 += sd[i];
+          m1 += dsd[i] * sd[i];
+          m2 += dsd[i] * dsd[i] * sd[i];
+        }
+        M[i * n + j] = m0;
+        M1[i * n + j] = m1;
+        M2[i * n + j] = m2;
+      }
+    }
+    // solve M X = [M1 | M2] by Gaussian elimination with partial pivoting (n is small)
+    const X1 = Float64Array.from(M1);
+    const X2 = Float64Array.from(M2);
+    const A = Float64Array.from(M);
+    for (let col = 0; col < n; col++) {
+      let piv = col;
+      for (let r = col + 1; r < n; r++) if (Math.abs(A[r * n + col]) > Math.abs(A[piv * n + col])) piv = r;
+      if (piv !== col) {
+        for (const arr of [A, X1, X2]) {
+          for (let c = 0; c < n; c++) {
+            const t = arr[col * n + c];
+            arr[col * n + c] = arr[piv * n + c];
+            arr[piv * n + c] = t;
+          }
+        }
+      }
+      const d = A[col * n + col];
+      for (let r = col + 1; r < n; r++) {
+        const f = A[r * n + col] / d;
+        if (f === 0) continue;
+        for (let c = 0; c < n; c++) {
+          A[r * n + c] -= f * A[col * n + c];
+          X1[r * n + c] -= f * X1[col * n + c];
+          X2[r * n + c] -= f * X2[col * n + c];
+        }
+      }
+    }
+    for (let col = n - 1; col >= 0; col--) {
+      const d = A[col * n + col];
+      for (let c = 0; c < n; c++) {
+        let s1 = X1[col * n + c];
+        let s2 = X2[col * n + c];
+        for (let k = col + 1; k < n; k++) {
+          s1 -= A[col * n + k] * X1[k * n + c];
+          s2 -= A[col * n + k] * X2[k * n + c];
+        }
+        X1[col * n + c] = s1 / d;
+        X2[col * n + c] = s2 / d;
+      }
+    }
+    // tr(M⁻¹M″) − tr((M⁻¹M′)²)
+    let tr2 = 0;
+    let tr11 = 0;
+    for (let i = 0; i < n; i++) {
+      tr2 += X2[i * n + i];
+      for (let k = 0; k < n; k++) tr11 += X1[i * n + k] * X1[k * n + i];
+    }
+    out[p] = -2 * (tr2 - tr11);
+  }
+  return out;
+}
+
+/**
+ * Asymptotic straight-line trajectories ξ = offset + 4κ²τ of each soliton of a Kay–Moses solution, for τ → −∞
+ * and τ → +∞. Expanding det(I + A) near one soliton, every other soliton lying to its RIGHT multiplies its
+ * norming constant by ((κ_i − κ_j)/(κ_i + κ_j))², i.e. moves it back by (1/κ_i) ln((κ_i+κ_j)/|κ_i−κ_j|)
+ * (pairwise-additive phase shifts, Drazin & Johnson 1989, §5; Hirota 1971). Faster solitons are on the right
+ * at τ → +∞, slower ones at τ → −∞.
+ */
+export function solitonAsymptotes(solitons: readonly SolitonSpec[]): { kappa: number; speed: number; offsetMinus: number; offsetPlus: number }[] {
+  return solitons.map((s, i) => {
+    let minus = 0;
+    let plus = 0;
+    solitons.forEach((o, j) => {
+      if (j === i) return;
+      const l = Math.log((s.kappa + o.kappa) / Math.abs(s.kappa - o.kappa)) / s.kappa;
+      if (o.kappa > s.kappa) plus -= l;
+      else minus -= l;
+    });
+    return { kappa: s.kappa, speed: 4 * s.kappa * s.kappa, offsetMinus: s.center + minus, offsetPlus: s.center + plus };
+  });
+}
