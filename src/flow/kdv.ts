@@ -26,8 +26,8 @@ export const MAX_FACTOR = 4;
 export const MIN_FACTOR = 0.2;
 /** the step-doubling estimate of ETDRK4 scales as h⁵: controller exponent 1/5 */
 export const ERROR_EXPONENT = 1 / 5;
-/** a dispersionless flow is declared broken when this fraction of the spectral energy sits in the top third of
- * the retained band: the truncated Fourier series no longer represents the steepening front (common practice) */
+/** a dispersionless flow is declared broken when the top of the retained band reaches this amplitude relative
+ * to the largest mode: the truncated Fourier series no longer represents the steepening front (common practice) */
 export const BREAKING_TAIL = 1e-6;
 /** give up when the step falls below this fraction of the flow length (stalled controller) */
 export const MIN_STEP_FRACTION = 1e-9;
@@ -75,7 +75,7 @@ export interface FlowRun {
   dense: DenseFlow;
   stats: FlowStats;
   breaking: BreakingInfo | null;
-  /** spectral tail of the last state: fraction of energy in the top third of the retained band (sqrt) */
+  /** spectral tail of the last state (FlowOperator.tail) */
   tail: number;
   /** sqrt of the spectral energy of u(0) beyond the retained band, relative to the rest (dropped at the start) */
   discardedTail: number;
@@ -141,15 +141,18 @@ export class FlowOperator {
     }
   }
 
-  /** sqrt of the fraction of spectral energy in the top third of the retained band (m in (2c/3, c]) */
+  /**
+   * Resolution indicator: the largest amplitude in the top tenth of the retained band (m in [0.9c, c]) relative
+   * to the largest amplitude of all non-constant modes. A resolved smooth field decays to round-off there.
+   */
   tail(v: Float64Array): number {
     let all = 0;
     let top = 0;
-    const lo = Math.floor((2 * this.cutoff) / 3);
-    for (let m = 1; m < this.modes; m++) {
+    const lo = Math.floor(0.9 * this.cutoff);
+    for (let m = 1; m <= this.cutoff; m++) {
       const e = v[2 * m] * v[2 * m] + v[2 * m + 1] * v[2 * m + 1];
-      all += e;
-      if (m > lo) top += e;
+      if (e > all) all = e;
+      if (m >= lo && e > top) top = e;
     }
     return all > 0 ? Math.sqrt(top / all) : 0;
   }

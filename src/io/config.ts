@@ -1,0 +1,416 @@
+/**
+ * Run configuration: YAML text → validated, defaulted `Config`.
+ *
+ * Validation uses zod v4 strict objects, so unknown keys anywhere are errors. Every problem becomes one line
+ * `<source>: <dotted.key> = <value> is not allowed: <what is allowed>` (or `<source>: <key> is missing: …`),
+ * and all problems of a file are collected into a single UserError (exit code 2). YAML syntax errors report
+ * `<source>:<line>:<column>`.
+ *
+ * The returned object is the validated config with a `meta` field added: `config.meta = {source, baseDir}`
+ * (source: the name used in messages, baseDir: the folder relative paths were resolved against).
+ * For `initial.kind: samples`, `initial.file` is returned resolved to an absolute path.
+ *
+ * The schema pieces are exported so that later sections (compare, lattice, check, …) can be added with
+ * `configSchema.extend({...})` and validated with `parseConfigWith`.
+ */
+import { existsSync, readFileSync, statSync } from 'node:fs';
+import { dirname, isAbsolute, resolve } from 'node:path';
+import { parseDocument } from 'yaml';
+import { z } from 'zod';
+import { SPECIES, SPECIES_CHOICES, type SpeciesChoice } from '../units/species.ts';
+import { makeUnitSystem, type EnergyUnit, type UnitSystem } from '../units/scales.ts';
+import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
+import { UserError } from './errors.ts';
+
+/** longest rendering of a bad value inside a message (a whole list would drown the message) */
+const MAX_VALUE_CHARS = 80;
+/** grid sizes allowed: powers of two in this range (fft.js needs powers of two; 65536 keeps memory modest) */
+export const GRID_POINTS_MIN = 16;
+export const GRID_POINTS_MAX = 65536;
+
+// ---------------------------------------------------------------------------------------------------------
+// building blocks: each leaf carries the text of "what is allowed" as its zod error message
+
+/**
+ * Strict object whose own errors (not a mapping / unknown key) say which keys are allowed. The key list is read
+ * from the schema that raised the issue, so it stays right after `.extend()`.
+ */
+export function strictSection<S extends z.core.$ZodLooseShape>(shape: S, where: string) {
+  return z.strictObject(shape, {
+    error: (iss) => {
+      const owner = iss.inst as { _zod?: { def?: { shape?: object } } } | undefined;
+      const keys = Object.keys(owner?._zod?.def?.shape ?? shape).join(', ');
+      return iss.code === 'unrecognized_keys' ? `unknown key; allowed keys in ${where} are ${keys}` : `must be a mapping with keys ${keys}`;
+    },
+  });
+}
+
+/** finite number satisfying `ok`; `allowed` describes the rule */
+function numberWhere(allowed: string, ok: (v: number) => boolean = () => true) {
+  return z.number({ error: allowed }).refine(ok, { error: allowed });
+}
+
+function intBetween(lo: number, hi: number) {
+  const allowed = `must be an integer from ${lo} to ${hi}`;
+  return numberWhere(allowed, (v) => Number.isInteger(v) && v >= lo && v <= hi);
+}
+
+function positive(what: string) {
+  return numberWhere(`must be a number > 0 (${what})`, (v) => v > 0);
+}
+
+function oneOf<const T extends readonly [string, ...string[]]>(values: T) {
+  return z.enum(values, { error: `must be one of ${values.join(', ')}` });
+}
+
+function isPowerOfTwoInRange(v: number): boolean {
+  return Number.isInteger(v) && v >= GRID_POINTS_MIN && v <= GRID_POINTS_MAX && (v & (v - 1)) === 0;
+}
+
+const centerSchema = numberWhere('must be a number (position of the centre, in the length unit)').default(0);
+
+// ---------------------------------------------------------------------------------------------------------
+// sections
+
+export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._-]*$/;
+const NAME_RULE = 'must start with a letter or digit and contain only letters, digits, ".", "_" and "-" (it names the output folder outputs/<name>)';
+export const nameSchema = z.string({ error: NAME_RULE }).regex(NAME_PATTERN, { error: NAME_RULE });
+
+export const UNIT_SYSTEMS = ['natural', 'lab'] as const;
+export const ENERGY_UNITS = ['h*kHz', 'uK'] as const satisfies readonly EnergyUnit[];
+
+export type UnitsConfig =
+  | { readonly system: 'natural' }
+  | {
+      readonly system: 'lab';
+      readonly species: SpeciesChoice;
+      /** mass in u: the table value for a named species, the given mass_u for custom */
+      readonly mass_u: number;
+      /** display label, e.g. "⁸⁷Rb" */
+      readonly label: string;
+      /** length unit ℓ of the KdV variables, µm */
+      readonly length_unit_um: number;
+      /** unit of every energy in the config and the outputs */
+      readonly energy: EnergyUnit;
+    };
+
+const unitsShape = {
+  system: oneOf(UNIT_SYSTEMS).default('natural'),
+  species: oneOf(SPECIES_CHOICES).optional(),
+  mass_u: positive('mass in u').optional(),
+  length_unit_um: positive('the length unit ℓ in µm').optional(),
+  energy: oneOf(ENERGY_UNITS).optional(),
+};
+
+export const unitsSchema = strictSection(unitsShape, 'units')
+  .superRefine((u, ctx) => {
+    const lab = u.system === 'lab';
+    if (!lab) {
+      for (const key of ['species', 'mass_u', 'length_unit_um', 'energy'] as const) {
+        if (u[key] !== undefined) {
+          ctx.addIssue({ code: 'custom', path: [key], message: 'only allowed with units.system: lab (natural units need no mass or lab units)' });
+        }
+      }
+      return;
+    }
+    if (u.species === undefined) {
+      ctx.addIssue({ code: 'custom', path: ['species'], message: `required when units.system is lab: one of ${SPECIES_CHOICES.join(', ')}` });
+    } else if (u.species === 'custom' && u.mass_u === undefined) {
+      ctx.addIssue({ code: 'custom', path: ['mass_u'], message: 'required when units.species is custom: the mass in u, a number > 0' });
+    } else if (u.species !== 'custom' && u.mass_u !== undefined) {
+      ctx.addIssue({ code: 'custom', path: ['mass_u'], message: `only allowed with units.species: custom (${u.species} has a tabulated mass)` });
+    }
+  })
+  .transform((u): UnitsConfig => {
+    if (u.system === 'natural') return { system: 'natural' };
+    const species = u.species as SpeciesChoice;
+    const custom = species === 'custom';
+    const massU = custom ? (u.mass_u as number) : SPECIES[species].massU;
+    return {
+      system: 'lab',
+      species,
+      mass_u: massU,
+      label: custom ? `custom (${massU} u)` : SPECIES[species].label,
+      length_unit_um: u.length_unit_um ?? 1,
+      energy: u.energy ?? 'h*kHz',
+    };
+  });
+
+/** The unit system of a validated `units` section (mass in kg = mass_u · m_u, CODATA 2018). */
+export function unitSystemOf(units: UnitsConfig): UnitSystem {
+  if (units.system === 'natural') return makeUnitSystem({ system: 'natural' });
+  return makeUnitSystem({
+    system: 'lab',
+    massKg: units.mass_u * ATOMIC_MASS_CONSTANT,
+    lengthUnitUm: units.length_unit_um,
+    energy: units.energy,
+  });
+}
+
+export const gridSchema = strictSection(
+  {
+    length: positive('box length, in ℓ (natural) or µm (lab)'),
+    points: numberWhere(`must be a power of two (${GRID_POINTS_MIN}, 32, …, ${GRID_POINTS_MAX})`, isPowerOfTwoInRange),
+  },
+  'grid',
+);
+
+const depthPositive = positive('well depth, in the energy unit');
+const widthPositive = positive('width, in the length unit');
+
+export const sech2InitialSchema = strictSection(
+  { kind: z.literal('sech2'), depth: depthPositive, width: widthPositive, center: centerSchema },
+  'initial (kind sech2)',
+);
+
+export const WELL_SHAPES = ['sech2', 'gaussian'] as const;
+export const wellSchema = strictSection(
+  {
+    shape: oneOf(WELL_SHAPES),
+    depth: numberWhere('must be a number ≠ 0 (well depth in the energy unit; negative for a barrier)', (v) => v !== 0),
+    width: widthPositive,
+    center: centerSchema,
+  },
+  'a well',
+);
+
+export const wellsInitialSchema = strictSection(
+  {
+    kind: z.literal('wells'),
+    wells: z.array(wellSchema, { error: 'must be a list of wells {shape, depth, width, center}' }).min(1, { error: 'must list at least one well' }),
+  },
+  'initial (kind wells)',
+);
+
+export const solitonSchema = strictSection(
+  { kappa: positive('soliton parameter κ, per length unit'), center: centerSchema },
+  'a soliton',
+);
+
+export const solitonsInitialSchema = strictSection(
+  {
+    kind: z.literal('solitons'),
+    solitons: z
+      .array(solitonSchema, { error: 'must be a list of solitons {kappa, center}' })
+      .min(1, { error: 'must list at least one soliton' })
+      .superRefine((list, ctx) => {
+        const seen = new Set<number>();
+        for (const s of list) {
+          if (seen.has(s.kappa)) {
+            ctx.addIssue({ code: 'custom', message: `the kappa values must be distinct (kappa = ${s.kappa} appears more than once)` });
+            return;
+          }
+          seen.add(s.kappa);
+        }
+      }),
+  },
+  'initial (kind solitons)',
+);
+
+export const samplesInitialSchema = strictSection(
+  {
+    kind: z.literal('samples'),
+    file: z.string({ error: "must be a file name (.csv or .npy, relative to the config file's folder)" }).min(1, {
+      error: "must be a file name (.csv or .npy, relative to the config file's folder)",
+    }),
+  },
+  'initial (kind samples)',
+);
+
+export const INITIAL_KINDS = ['sech2', 'wells', 'solitons', 'samples'] as const;
+
+export const initialSchema = z.discriminatedUnion(
+  'kind',
+  [sech2InitialSchema, wellsInitialSchema, solitonsInitialSchema, samplesInitialSchema],
+  {
+    error: (iss) =>
+      iss.code === 'invalid_union'
+        ? `must be one of ${INITIAL_KINDS.join(', ')}`
+        : `must be a mapping with a key kind (${INITIAL_KINDS.join(', ')})`,
+  },
+);
+
+export const DISPERSIONS = ['quantum', 'classical'] as const;
+export const flowSchema = strictSection(
+  {
+    dispersion: oneOf(DISPERSIONS).default('quantum'),
+    lambda_end: positive('final KdV time λ, dimensionless'),
+    frames: intBetween(2, 10000).default(11),
+    tolerance: numberWhere('must be a number in (0, 1e-2] (local error per step relative to max|u|)', (v) => v > 0 && v <= 1e-2).default(1e-10),
+    drift: numberWhere('must be a number (co-moving drift c, length unit per unit λ)').default(0),
+  },
+  'flow',
+);
+
+export const RAMPS = ['sin2', 'smooth', 'linear'] as const;
+export const protocolSchema = strictSection(
+  {
+    duration: positive('ramp duration, in t₀ (natural) or ms (lab)'),
+    ramp: oneOf(RAMPS).default('sin2'),
+  },
+  'protocol',
+);
+
+export const verifySchema = strictSection(
+  {
+    states: intBetween(1, 200).optional(),
+    tolerance: numberWhere('must be a number in (0, 1e-3]', (v) => v > 0 && v <= 1e-3).default(1e-8),
+    temperature: numberWhere('must be a number ≥ 0 (in E₀ natural, nK lab)', (v) => v >= 0).optional(),
+    fermions: intBetween(1, 200).optional(),
+    compare_classical: z.boolean({ error: 'must be true or false' }).default(false),
+  },
+  'verify',
+);
+
+/** top-level keys; extend with `configSchema.extend({...})` */
+export const configShape = {
+  name: nameSchema,
+  description: z.string({ error: 'must be a text string' }).optional(),
+  units: unitsSchema.prefault({ system: 'natural' }),
+  grid: gridSchema,
+  initial: initialSchema,
+  flow: flowSchema,
+  protocol: protocolSchema.optional(),
+  verify: verifySchema.optional(),
+};
+
+export const configSchema = strictSection(configShape, 'the config');
+
+export interface ConfigMeta {
+  /** name of the source used in messages (the path as given) */
+  readonly source: string;
+  /** folder that relative paths in the config are resolved against */
+  readonly baseDir: string;
+}
+
+/** validated config with defaults applied */
+export type ConfigData = z.output<typeof configSchema>;
+export type Config = ConfigData & { readonly meta: ConfigMeta };
+
+// ---------------------------------------------------------------------------------------------------------
+// messages
+
+type PathKey = PropertyKey;
+
+function formatPath(path: readonly PathKey[]): string {
+  let out = '';
+  for (const p of path) {
+    if (typeof p === 'number') out += `[${p}]`;
+    else out += out === '' ? String(p) : `.${String(p)}`;
+  }
+  return out === '' ? '(top level)' : out;
+}
+
+function lookup(raw: unknown, path: readonly PathKey[]): { present: boolean; value: unknown } {
+  let cur: unknown = raw;
+  for (const p of path) {
+    if (cur === null || typeof cur !== 'object' || !Object.prototype.hasOwnProperty.call(cur, p)) return { present: false, value: undefined };
+    cur = (cur as Record<PropertyKey, unknown>)[p];
+  }
+  return { present: true, value: cur };
+}
+
+function showValue(v: unknown): string {
+  let s: string;
+  if (typeof v === 'number') s = String(v);
+  else if (v === undefined) s = 'undefined';
+  else {
+    try {
+      s = JSON.stringify(v) ?? String(v);
+    } catch {
+      s = String(v);
+    }
+  }
+  return s.length > MAX_VALUE_CHARS ? `${s.slice(0, MAX_VALUE_CHARS - 1)}…` : s;
+}
+
+/** One message line per problem: key, value and what is allowed. */
+export function formatIssues(issues: readonly z.core.$ZodIssue[], raw: unknown, source: string): string[] {
+  const lines: string[] = [];
+  for (const iss of issues) {
+    if (iss.code === 'unrecognized_keys') {
+      for (const key of iss.keys) {
+        const full = [...iss.path, key];
+        lines.push(`${source}: ${formatPath(full)} = ${showValue(lookup(raw, full).value)} is not allowed: ${iss.message}`);
+      }
+      continue;
+    }
+    const { present, value } = lookup(raw, iss.path);
+    if (!present) {
+      const rule = iss.message.startsWith('required') ? iss.message : `required, ${iss.message}`;
+      lines.push(`${source}: ${formatPath(iss.path)} is missing: ${rule}`);
+    }
+    else lines.push(`${source}: ${formatPath(iss.path)} = ${showValue(value)} is not allowed: ${iss.message}`);
+  }
+  return lines;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// loading
+
+function parseYaml(text: string, sourceName: string): unknown {
+  const doc = parseDocument(text);
+  if (doc.errors.length > 0) {
+    const lines = doc.errors.map((e) => {
+      const pos = e.linePos?.[0];
+      const where = pos ? `${sourceName}:${pos.line}:${pos.col}` : sourceName;
+      const msg = e.message.split(/ at line \d+, column \d+/)[0].split('\n')[0];
+      return `${where}: YAML syntax error: ${msg}`;
+    });
+    throw new UserError(lines.join('\n'));
+  }
+  return doc.toJS();
+}
+
+/** file-system checks that zod cannot do: samples file must exist (resolved against baseDir) */
+function fileIssues(raw: unknown, sourceName: string, baseDir: string): string[] {
+  const { value: file } = lookup(raw, ['initial', 'file']);
+  const { value: kind } = lookup(raw, ['initial', 'kind']);
+  if (kind !== 'samples' || typeof file !== 'string' || file === '') return [];
+  const abs = isAbsolute(file) ? file : resolve(baseDir, file);
+  if (!existsSync(abs)) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: file not found (looked for ${abs})`];
+  if (!statSync(abs).isFile()) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: ${abs} is not a regular file`];
+  return [];
+}
+
+/**
+ * Validate already-parsed YAML data against `schema` (configSchema or an extension of it), collecting every
+ * problem into one UserError. Adds `meta` and resolves a samples file path against `baseDir`.
+ */
+export function parseConfigWith<S extends z.ZodType<ConfigData>>(
+  schema: S,
+  raw: unknown,
+  sourceName: string,
+  baseDir: string,
+): z.output<S> & { readonly meta: ConfigMeta } {
+  if (raw === null || raw === undefined) throw new UserError(`${sourceName}: the config is empty: it must be a mapping with at least name, grid, initial and flow`);
+  if (typeof raw !== 'object' || Array.isArray(raw)) {
+    throw new UserError(`${sourceName}: the config must be a mapping (key: value lines), got ${Array.isArray(raw) ? 'a list' : showValue(raw)}`);
+  }
+  const result = schema.safeParse(raw);
+  const lines = result.success ? [] : formatIssues(result.error.issues, raw, sourceName);
+  lines.push(...fileIssues(raw, sourceName, baseDir));
+  if (!result.success || lines.length > 0) throw new UserError(lines.join('\n'));
+  const data = result.data as z.output<S>;
+  if (data.initial.kind === 'samples' && !isAbsolute(data.initial.file)) {
+    data.initial.file = resolve(baseDir, data.initial.file);
+  }
+  return Object.assign(data, { meta: { source: sourceName, baseDir: resolve(baseDir) } });
+}
+
+/** Parse YAML text (named `sourceName` in messages; relative paths resolve against `baseDir`). */
+export function parseConfig(text: string, sourceName: string, baseDir: string): Config {
+  return parseConfigWith(configSchema, parseYaml(text, sourceName), sourceName, baseDir);
+}
+
+/** Read and validate a config file; relative paths inside it resolve against the file's folder. */
+export function loadConfig(path: string): Config {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
+  }
+  return parseConfig(text, path, dirname(resolve(path)));
+}

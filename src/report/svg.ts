@@ -1,0 +1,557 @@
+/**
+ * Internal SVG building blocks shared by the figure primitives: document set-up on d3-node's jsdom, safe number
+ * formatting (never "NaN"/"Infinity"), axes with d3 scales, legends, text and serialisation to a standalone
+ * SVG string.
+ */
+import { D3Node } from 'd3-node';
+import type { ContinuousScale, D3Module, D3Selection } from 'd3-node';
+import {
+  FONT_FAMILY,
+  FONT_PT,
+  STROKE,
+  estimateTextWidthPx,
+  pxToMm,
+  ptToPx,
+} from './style.ts';
+
+export const SVG_NS = 'http://www.w3.org/2000/svg';
+export const XLINK_NS = 'http://www.w3.org/1999/xlink';
+export const XMLNS_NS = 'http://www.w3.org/2000/xmlns/';
+
+/** Pixel coordinates are written with 2 decimals: 0.01 px ≈ 2.6 µm on paper, far below print resolution. */
+const PX_DECIMALS = 2;
+/** Tick length in px (≈ 0.9 mm, common practice). */
+export const TICK_LEN = 3.5;
+/** Gap between tick and its label, px. */
+export const TICK_GAP = 2;
+/** Placeholder replaced by a content hash so that ids stay unique when several SVGs are inlined in one page. */
+const ID_PLACEHOLDER = '__ISOTRAP_ID__';
+
+/** Format a pixel coordinate; throws on non-finite values so that NaN/Infinity can never reach the SVG. */
+export function px(v: number): string {
+  if (!Number.isFinite(v)) throw new Error(`internal: non-finite coordinate ${v}`);
+  const r = Number(v.toFixed(PX_DECIMALS));
+  return String(Object.is(r, -0) ? 0 : r);
+}
+
+/** Format a data value for a data-* attribute: shortest round-trip decimal, or a word for non-finite values. */
+export function dataNum(v: number): string {
+  if (Number.isNaN(v)) return 'missing';
+  if (v === Infinity) return 'inf';
+  if (v === -Infinity) return '-inf';
+  return String(v);
+}
+
+export interface Canvas {
+  readonly dn: D3Node;
+  readonly d3: D3Module;
+  readonly root: D3Selection;
+  readonly widthPx: number;
+  readonly heightPx: number;
+}
+
+/**
+ * Create an SVG root whose viewBox is in px at 96 dpi; width/height attributes are set in mm by `finish`
+ * (height may grow while laying out legends and annotations).
+ */
+export function createCanvas(widthPx: number, kind: string): Canvas {
+  const dn = new D3Node();
+  const root = dn.d3Element.append('svg');
+  const el = root.node() as Element;
+  el.setAttributeNS(XMLNS_NS, 'xmlns:xlink', XLINK_NS);
+  root
+    .attr('data-figure', kind)
+    .attr('font-family', FONT_FAMILY)
+    .attr('font-size', fontPx(FONT_PT.tick))
+    .attr('fill', 'none')
+    .attr('stroke', 'none');
+  return { dn, d3: dn.d3, root, widthPx, heightPx: 0 };
+}
+
+/** FNV-1a 32-bit hash (Fowler, Noll & Vo; public-domain reference), used only to derive unique ids. */
+function fnv1a(s: string): string {
+  let h = 0x811c9dc5;
+  for (let i = 0; i < s.length; i++) {
+    h ^= s.charCodeAt(i);
+    h = Math.imul(h, 0x01000193);
+  }
+  return (h >>> 0).toString(16).padStart(8, '0');
+}
+
+/** Unique-id placeholder: `idRef('clip')` → an id string to use in attributes, replaced in `finish`. */
+export function idRef(name: string): string {
+  return `${ID_PLACEHOLDER}-${name}`;
+}
+
+/** Set final size, add a white background, serialise as XML and replace id placeholders with a content hash. */
+export function finish(c: Canvas, heightPx: number): string {
+  const el = c.root.node() as Element;
+  c.root
+    .attr('viewBox', `0 0 ${px(c.widthPx)} ${px(heightPx)}`)
+    .attr('width', `${px(pxToMm(c.widthPx))}mm`)
+    .attr('height', `${px(pxToMm(heightPx))}mm`);
+  const bg = c.dn.document.createElementNS(SVG_NS, 'rect');
+  bg.setAttribute('class', 'background');
+  bg.setAttribute('width', px(c.widthPx));
+  bg.setAttribute('height', px(heightPx));
+  bg.setAttribute('fill', '#ffffff');
+  el.insertBefore(bg, el.firstChild);
+  const text = new c.dn.window.XMLSerializer().serializeToString(el);
+  const id = `isotrap-${fnv1a(text)}`;
+  return text.split(ID_PLACEHOLDER).join(id);
+}
+
+/** Font size attribute: rounded *up* to 2 decimals so the printed size never drops below the nominal pt. */
+export function fontPx(pt: number): string {
+  return String(Math.ceil(ptToPx(pt) * 10 ** PX_DECIMALS - 1e-9) / 10 ** PX_DECIMALS);
+}
+
+export function addText(
+  parent: D3Selection,
+  text: string,
+  x: number,
+  y: number,
+  fontPt: number,
+  opts: { anchor?: 'start' | 'middle' | 'end'; rotate?: number; cls?: string; baseline?: 'auto' | 'middle' | 'hanging' } = {},
+): D3Selection {
+  const t = parent
+    .append('text')
+    .attr('x', px(x))
+    .attr('y', px(y))
+    .attr('font-size', fontPx(fontPt))
+    .attr('fill', '#000000')
+    .attr('text-anchor', opts.anchor ?? 'start');
+  if (opts.baseline && opts.baseline !== 'auto') t.attr('dominant-baseline', opts.baseline);
+  if (opts.rotate) t.attr('transform', `rotate(${opts.rotate} ${px(x)} ${px(y)})`);
+  if (opts.cls) t.attr('class', opts.cls);
+  t.text(text);
+  return t;
+}
+
+export interface PlotRect {
+  left: number;
+  top: number;
+  width: number;
+  height: number;
+}
+
+export interface Tick {
+  value: number;
+  label: string; // plain-text form (exponents written as "10^-3")
+  major: boolean;
+}
+
+/** Target spacing between major ticks in px (≈ 12 mm, common practice). */
+const TICK_SPACING_PX = 45;
+
+/** Ticks for a linear scale via d3-scale's ticks()/tickFormat() (d3 "nice" 1-2-5 steps). */
+export function linearTicks(scale: ContinuousScale, lengthPx: number): Tick[] {
+  const n = Math.max(2, Math.round(lengthPx / TICK_SPACING_PX));
+  const fmt = scale.tickFormat(n);
+  return scale.ticks(n).map((v) => ({ value: v, label: fmt(v), major: true }));
+}
+
+/**
+ * Ticks for a log10 scale: majors at integer powers of ten (every k-th decade if many), minors at 2…9·10^k when
+ * the range spans few decades. If the domain spans less than one decade, falls back to d3's log ticks.
+ */
+export function logTicks(scale: ContinuousScale, lengthPx: number): Tick[] {
+  const [a, b] = scale.domain();
+  const lo = Math.min(a, b);
+  const hi = Math.max(a, b);
+  const e0 = Math.ceil(Math.log10(lo) - 1e-9);
+  const e1 = Math.floor(Math.log10(hi) + 1e-9);
+  if (e1 - e0 < 1) {
+    const n = Math.max(2, Math.round(lengthPx / TICK_SPACING_PX));
+    const fmt = scale.tickFormat(n, '~g');
+    return scale
+      .ticks(n)
+      .map((v) => ({ value: v, label: fmt(v), major: fmt(v) !== '' }))
+      .filter((t) => t.major);
+  }
+  const decades = e1 - e0;
+  const maxMajors = Math.max(2, Math.floor(lengthPx / (TICK_SPACING_PX * 0.6)));
+  const step = Math.max(1, Math.ceil((decades + 1) / maxMajors));
+  const ticks: Tick[] = [];
+  for (let e = e0; e <= e1; e++) {
+    const v = Math.pow(10, e);
+    if ((e - e0) % step === 0) ticks.push({ value: v, label: `10^${e}`, major: true });
+    else ticks.push({ value: v, label: '', major: false });
+  }
+  if (step === 1 && decades <= 6) {
+    for (let e = e0 - 1; e <= e1; e++) {
+      for (let m = 2; m <= 9; m++) {
+        const v = m * Math.pow(10, e);
+        if (v >= lo * (1 - 1e-12) && v <= hi * (1 + 1e-12)) ticks.push({ value: v, label: '', major: false });
+      }
+    }
+  }
+  return ticks.sort((p, q) => p.value - q.value);
+}
+
+/** Write a tick label; "10^e" becomes 10 with a superscript exponent (tspan), with a real minus sign. */
+function writeTickLabel(t: D3Selection, label: string): void {
+  const m = /^10\^(-?\d+)$/.exec(label);
+  if (!m) {
+    t.text(label);
+    return;
+  }
+  t.text('10');
+  const exp = m[1].replace('-', '\u2212');
+  t.append('tspan')
+    .attr('dy', px(-ptToPx(FONT_PT.tick) * 0.4))
+    .attr('font-size', fontPx(FONT_PT.tick))
+    .text(exp);
+}
+
+/** Estimated width of a formatted tick label in px. */
+export function tickLabelWidth(label: string): number {
+  const m = /^10\^(-?\d+)$/.exec(label);
+  const chars = m ? 2 + m[1].length : label.length;
+  return estimateTextWidthPx('0'.repeat(chars), FONT_PT.tick);
+}
+
+export type AxisSide = 'bottom' | 'left' | 'right';
+
+/**
+ * Draw an axis line with ticks and labels along one side of `plot`. Each tick is a <g class="tick"> with
+ * data-value (the data coordinate) and data-pos (the pixel coordinate along the axis), so tests can recover
+ * the mapping. Returns the extent (px) the tick labels occupy away from the axis.
+ */
+export function drawAxis(
+  parent: D3Selection,
+  side: AxisSide,
+  scale: ContinuousScale,
+  ticks: Tick[],
+  plot: PlotRect,
+  label: string,
+  name: string,
+  labelOffset: number,
+  offsetX = 0,
+): D3Selection {
+  const g = parent.append('g').attr('class', 'axis').attr('data-axis', name);
+  const [r0, r1] = scale.range();
+  const x0 = plot.left + offsetX;
+  if (side === 'bottom') {
+    const y = plot.top + plot.height;
+    g.append('path')
+      .attr('class', 'domain')
+      .attr('d', `M${px(Math.min(r0, r1))},${px(y)}H${px(Math.max(r0, r1))}`)
+      .attr('stroke', '#000000')
+      .attr('stroke-width', px(STROKE.axis));
+    for (const t of ticks) {
+      const p = scale(t.value);
+      if (!Number.isFinite(p)) continue;
+      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
+      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+      tg.append('path').attr('d', `M${px(p)},${px(y)}v${px(len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
+      if (t.label) {
+        const tt = addText(tg, '', p, y + TICK_LEN + TICK_GAP + ptToPx(FONT_PT.tick) * 0.8, FONT_PT.tick, { anchor: 'middle' });
+        writeTickLabel(tt, t.label);
+      }
+    }
+    addText(g, label, (Math.min(r0, r1) + Math.max(r0, r1)) / 2, y + labelOffset, FONT_PT.label, { anchor: 'middle', cls: 'axis-label' });
+  } else {
+    const x = side === 'left' ? x0 : x0 + plot.width;
+    const dir = side === 'left' ? -1 : 1;
+    g.append('path')
+      .attr('class', 'domain')
+      .attr('d', `M${px(x)},${px(Math.min(r0, r1))}V${px(Math.max(r0, r1))}`)
+      .attr('stroke', '#000000')
+      .attr('stroke-width', px(STROKE.axis));
+    for (const t of ticks) {
+      const p = scale(t.value);
+      if (!Number.isFinite(p)) continue;
+      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
+      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+      tg.append('path').attr('d', `M${px(x)},${px(p)}h${px(dir * len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
+      if (t.label) {
+        const tt = addText(tg, '', x + dir * (TICK_LEN + TICK_GAP), p + ptToPx(FONT_PT.tick) * 0.35, FONT_PT.tick, {
+          anchor: side === 'left' ? 'end' : 'start',
+        });
+        writeTickLabel(tt, t.label);
+      }
+    }
+    const cy = (Math.min(r0, r1) + Math.max(r0, r1)) / 2;
+    // rotated by −90°, glyphs extend towards −x from the baseline: on the right side shift by one em
+    const lx = side === 'left' ? x - labelOffset : x + labelOffset + ptToPx(FONT_PT.label) * 0.75;
+    addText(g, label, lx, cy, FONT_PT.label, { anchor: 'middle', rotate: -90, cls: 'axis-label' });
+  }
+  return g;
+}
+
+/** Height needed below the plot for x tick labels and the x label. */
+export function bottomAxisHeight(): number {
+  return TICK_LEN + TICK_GAP + ptToPx(FONT_PT.tick) + 3 + ptToPx(FONT_PT.label) + 2;
+}
+/** Distance from the x axis line to the x-label baseline. */
+export function bottomLabelOffset(): number {
+  return TICK_LEN + TICK_GAP + ptToPx(FONT_PT.tick) + 3 + ptToPx(FONT_PT.label) * 0.8;
+}
+
+/** Width needed beside the plot for y tick labels and the rotated y label, given the tick labels. */
+export function sideAxisWidth(ticks: Tick[]): number {
+  const w = ticks.reduce((m, t) => Math.max(m, t.label ? tickLabelWidth(t.label) : 0), 0);
+  return TICK_LEN + TICK_GAP + w + 4 + ptToPx(FONT_PT.label) * 1.05;
+}
+export function sideLabelOffset(ticks: Tick[]): number {
+  const w = ticks.reduce((m, t) => Math.max(m, t.label ? tickLabelWidth(t.label) : 0), 0);
+  return TICK_LEN + TICK_GAP + w + 4 + ptToPx(FONT_PT.label) * 0.3;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Legend
+
+export interface LegendEntry {
+  name: string;
+  color: string;
+  dash: string;
+  kind: 'line' | 'box';
+  marker?: boolean;
+  halo?: boolean;
+}
+
+const LEGEND_SAMPLE = 18; // px length of the line sample
+const LEGEND_PAD = 3; // px padding inside the legend box
+const LEGEND_GAP = 4; // px between sample and text, and between columns
+
+export function legendRowHeight(): number {
+  return ptToPx(FONT_PT.legend) * 1.35;
+}
+
+export function legendEntryWidth(e: LegendEntry): number {
+  return LEGEND_SAMPLE + LEGEND_GAP + estimateTextWidthPx(e.name, FONT_PT.legend);
+}
+
+/** Size of a one-column legend box. */
+export function legendBoxSize(entries: LegendEntry[]): { w: number; h: number } {
+  const w = entries.reduce((m, e) => Math.max(m, legendEntryWidth(e)), 0) + 2 * LEGEND_PAD;
+  const h = entries.length * legendRowHeight() + 2 * LEGEND_PAD;
+  return { w, h };
+}
+
+/** Layout for a legend placed outside the plot in rows of equal-width columns that fit `availWidth`. */
+export function legendGridSize(entries: LegendEntry[], availWidth: number): { w: number; h: number; cols: number; colW: number } {
+  const colW = entries.reduce((m, e) => Math.max(m, legendEntryWidth(e)), 0) + LEGEND_GAP * 2;
+  const cols = Math.max(1, Math.min(entries.length, Math.floor((availWidth - 2 * LEGEND_PAD) / colW)));
+  const rows = Math.ceil(entries.length / cols);
+  return { w: cols * colW + 2 * LEGEND_PAD, h: rows * legendRowHeight() + 2 * LEGEND_PAD, cols, colW };
+}
+
+/**
+ * Draw a legend at (x, y) (top-left of the box), `cols` columns of width `colW`. The group carries
+ * data-x/y/width/height (its box in px) and data-placement.
+ */
+export function drawLegend(
+  parent: D3Selection,
+  entries: LegendEntry[],
+  x: number,
+  y: number,
+  box: { w: number; h: number },
+  cols: number,
+  colW: number,
+  placement: string,
+  framed: boolean,
+): void {
+  const g = parent
+    .append('g')
+    .attr('class', 'legend')
+    .attr('data-placement', placement)
+    .attr('data-x', px(x))
+    .attr('data-y', px(y))
+    .attr('data-width', px(box.w))
+    .attr('data-height', px(box.h));
+  if (framed) {
+    g.append('rect')
+      .attr('x', px(x))
+      .attr('y', px(y))
+      .attr('width', px(box.w))
+      .attr('height', px(box.h))
+      .attr('fill', '#ffffff')
+      .attr('fill-opacity', '0.85')
+      .attr('stroke', '#bbbbbb')
+      .attr('stroke-width', px(STROKE.grid));
+  }
+  const rh = legendRowHeight();
+  entries.forEach((e, i) => {
+    const c = i % cols;
+    const r = Math.floor(i / cols);
+    const ex = x + LEGEND_PAD + c * colW;
+    const cy = y + LEGEND_PAD + r * rh + rh / 2;
+    const eg = g.append('g').attr('class', 'legend-entry').attr('data-series', e.name);
+    if (e.kind === 'line') {
+      if (e.halo) {
+        eg.append('path')
+          .attr('d', `M${px(ex)},${px(cy)}h${px(LEGEND_SAMPLE)}`)
+          .attr('stroke', '#ffffff')
+          .attr('stroke-width', px(STROKE.halo));
+      }
+      const p = eg
+        .append('path')
+        .attr('d', `M${px(ex)},${px(cy)}h${px(LEGEND_SAMPLE)}`)
+        .attr('stroke', e.color)
+        .attr('stroke-width', px(STROKE.data));
+      if (e.dash) p.attr('stroke-dasharray', e.dash);
+      if (e.marker) {
+        eg.append('circle').attr('cx', px(ex + LEGEND_SAMPLE / 2)).attr('cy', px(cy)).attr('r', '1.8').attr('fill', e.color);
+      }
+    } else {
+      eg.append('rect')
+        .attr('x', px(ex + 4))
+        .attr('y', px(cy - rh * 0.32))
+        .attr('width', px(LEGEND_SAMPLE - 8))
+        .attr('height', px(rh * 0.64))
+        .attr('fill', e.color)
+        .attr('stroke', '#000000')
+        .attr('stroke-width', px(STROKE.grid));
+    }
+    addText(eg, e.name, ex + LEGEND_SAMPLE + LEGEND_GAP, cy + ptToPx(FONT_PT.legend) * 0.35, FONT_PT.legend);
+  });
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Paths
+
+export interface PathResult {
+  d: string;
+  segments: number;
+  points: number;
+  /** Pixel segments (x0,y0,x1,y1 interleaved) for overlap tests during layout; isolated points repeat. */
+  pixelSegments: number[];
+  extremes: { xmin: number; xmax: number; ymin: number; ymax: number };
+  decimated: boolean;
+}
+
+/**
+ * Build an SVG path from data, breaking it into separate subpaths (new "M") at every point that cannot be
+ * plotted (non-finite x or y, or y ≤ 0 on a log axis). When x is non-decreasing and there are more than
+ * `maxPerPx` points per pixel column, keeps per pixel column the first, minimum, maximum and last point in
+ * order (min/max decimation), which preserves every extreme exactly.
+ */
+export function buildPath(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  sx: ContinuousScale,
+  sy: ContinuousScale,
+  plottable: (xv: number, yv: number) => boolean,
+  widthPx: number,
+  maxPerPx = 4,
+): PathResult {
+  const n = Math.min(x.length, y.length);
+  let monotone = true;
+  let prev = -Infinity;
+  let finiteCount = 0;
+  const ext = { xmin: Infinity, xmax: -Infinity, ymin: Infinity, ymax: -Infinity };
+  for (let i = 0; i < n; i++) {
+    const xv = x[i];
+    const yv = y[i];
+    if (!plottable(xv, yv)) continue;
+    finiteCount++;
+    if (xv < prev) monotone = false;
+    prev = xv;
+    if (xv < ext.xmin) ext.xmin = xv;
+    if (xv > ext.xmax) ext.xmax = xv;
+    if (yv < ext.ymin) ext.ymin = yv;
+    if (yv > ext.ymax) ext.ymax = yv;
+  }
+  const decimate = monotone && finiteCount > maxPerPx * widthPx;
+  const parts: string[] = [];
+  const segs: number[] = [];
+  let segments = 0;
+  let points = 0;
+  let open = false;
+  let lastX = 0;
+  let lastY = 0;
+  const emit = (X: number, Y: number): void => {
+    if (!open) {
+      parts.push(`M${px(X)},${px(Y)}`);
+      segments++;
+      open = true;
+      segs.push(X, Y, X, Y);
+    } else {
+      parts.push(`L${px(X)},${px(Y)}`);
+      segs.push(lastX, lastY, X, Y);
+    }
+    lastX = X;
+    lastY = Y;
+    points++;
+  };
+  if (!decimate) {
+    for (let i = 0; i < n; i++) {
+      const xv = x[i];
+      const yv = y[i];
+      if (!plottable(xv, yv)) {
+        open = false;
+        continue;
+      }
+      emit(sx(xv), sy(yv));
+    }
+  } else {
+    // Bucket by integer pixel column; within a run of plottable points flush at column change or break.
+    let col = NaN;
+    let iFirst = -1;
+    let iMin = -1;
+    let iMax = -1;
+    let iLast = -1;
+    const flush = (): void => {
+      if (iFirst < 0) return;
+      const idx = [iFirst, iMin, iMax, iLast].sort((a, b) => a - b);
+      let last = -1;
+      for (const k of idx) {
+        if (k === last) continue;
+        last = k;
+        emit(sx(x[k]), sy(y[k]));
+      }
+      iFirst = iMin = iMax = iLast = -1;
+    };
+    for (let i = 0; i < n; i++) {
+      const xv = x[i];
+      const yv = y[i];
+      if (!plottable(xv, yv)) {
+        flush();
+        open = false;
+        col = NaN;
+        continue;
+      }
+      const c = Math.floor(sx(xv));
+      if (c !== col) {
+        flush();
+        col = c;
+      }
+      if (iFirst < 0) {
+        iFirst = iMin = iMax = i;
+      } else {
+        if (yv < y[iMin]) iMin = i;
+        if (yv > y[iMax]) iMax = i;
+      }
+      iLast = i;
+    }
+    flush();
+  }
+  return { d: parts.join(''), segments, points, pixelSegments: segs, extremes: ext, decimated: decimate };
+}
+
+/** True if segment (x0,y0)-(x1,y1) intersects the axis-aligned rectangle (Liang–Barsky clipping test). */
+export function segmentHitsRect(x0: number, y0: number, x1: number, y1: number, r: { x: number; y: number; w: number; h: number }): boolean {
+  let t0 = 0;
+  let t1 = 1;
+  const dx = x1 - x0;
+  const dy = y1 - y0;
+  const p = [-dx, dx, -dy, dy];
+  const q = [x0 - r.x, r.x + r.w - x0, y0 - r.y, r.y + r.h - y0];
+  for (let i = 0; i < 4; i++) {
+    if (p[i] === 0) {
+      if (q[i] < 0) return false;
+    } else {
+      const t = q[i] / p[i];
+      if (p[i] < 0) {
+        if (t > t1) return false;
+        if (t > t0) t0 = t;
+      } else {
+        if (t < t0) return false;
+        if (t < t1) t1 = t;
+      }
+    }
+  }
+  return true;
+}
