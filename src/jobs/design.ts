@@ -16,9 +16,9 @@ import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { makeContext, type JobContext } from './context.ts';
 
-/** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the last frame is
- * under-resolved for work at the 1e-7 level (common practice) */
-export const TAIL_WARNING = 1e-9;
+/** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
+ * relative errors of about that size from the grid (common practice for this kind of indicator) */
+export const TAIL_WARNING = 1e-7;
 /** first guess for how many eigenpairs hold all bound states (doubled until one is unbound) */
 const BOUND_SEARCH_START = 8;
 
@@ -157,10 +157,10 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const drift = invariantDrift(invariantsFirst, invariantsLast);
 
   if (run.tail > TAIL_WARNING && !run.breaking) {
-    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): the grid under-resolves the sequence; raise grid.points`);
+    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points for a finer sequence`);
   }
   if (run.discardedTail > TAIL_WARNING) {
-    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}): it is too sharp for this grid; raise grid.points or smooth it`);
+    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
   }
   let breakingPredicted: number | null = null;
   if (flowCfg.dispersion === 'classical') breakingPredicted = characteristicsBreaking(grid, u0);
