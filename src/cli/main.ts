@@ -47,6 +47,7 @@ async function designCommand(configPath: string, opts: CommonOptions): Promise<n
       ['frames × points', `${s.frames} × ${s.points}, λ = 0 … ${num(s.lambda_reached)}${s.complete ? '' : ` (asked ${s.lambda_end})`}`],
       ['integrator', `${s.integrator.steps} steps (${s.integrator.rejected} rejected), ${num(s.integrator.seconds, 3)} s, tolerance ${s.integrator.tolerance}`],
       ['invariant drift (max rel.)', num(s.max_invariant_drift, 3)],
+      ['bound-state drift', `${num(s.spectral_drift, 3)} ${E} (isospectrality along the sequence)`],
       ['predicted solitons', s.predicted_solitons.map((p) => `depth ${num(p.depth)} ${E}, speed ${num(p.speed)} ${s.units.speed}`).join('; ') || 'none'],
       ['wells in last frame', s.wells_found.map((w) => `depth ${num(w.depth)} ${E} at ${num(w.position)} ${s.units.length}`).join('; ') || 'none'],
       ['outputs', dir],

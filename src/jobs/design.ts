@@ -10,17 +10,15 @@ import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
-import { lowestEigenpairs } from '../quantum/eigen.ts';
-import { derivative, resample, spectrum } from '../spectral/ops.ts';
-import { makeGrid, type Grid } from '../spectral/grid.ts';
+import { boundEnergies } from '../quantum/bound.ts';
+import { derivative } from '../spectral/ops.ts';
+import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { makeContext, type JobContext } from './context.ts';
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
  * relative errors of about that size from the grid (common practice for this kind of indicator) */
 export const TAIL_WARNING = 1e-7;
-/** first guess for how many eigenpairs hold all bound states (doubled until one is unbound) */
-const BOUND_SEARCH_START = 8;
 
 export const DESIGN_FILES = ['potential.npy', 'potential.csv', 'sequence.json'] as const;
 
@@ -43,7 +41,38 @@ export interface BoundStates {
   method: string;
 }
 
+/** eigenvalues of the bound states along the sequence: flat lines prove isospectrality */
+export interface SpectrumTrack {
+  lambda: number[];
+  /** energies[frame][level], natural units (E₀) */
+  energies: number[][];
+  /** largest |E_n(λ) − E_n(0)| over the tracked levels and frames, E₀ */
+  maxDrift: number;
+}
+
+/** at most this many frames get their spectrum computed (each is a dense diagonalisation) */
+export const SPECTRUM_FRAMES_MAX = 11;
+
+export function spectrumTrack(grid: Grid, lambdas: readonly number[], frames: readonly Float64Array[], levels: number): SpectrumTrack {
+  const count = Math.min(frames.length, SPECTRUM_FRAMES_MAX);
+  const picks = Array.from({ length: count }, (_, i) => Math.round((i * (frames.length - 1)) / Math.max(count - 1, 1)));
+  const lambda: number[] = [];
+  const energies: number[][] = [];
+  for (const p of picks) {
+    const b = boundStates(grid, frames[p]);
+    lambda.push(lambdas[p]);
+    energies.push(b.energies.slice(0, levels));
+  }
+  let maxDrift = 0;
+  for (const row of energies) {
+    for (let n = 0; n < Math.min(row.length, energies[0].length); n++) maxDrift = Math.max(maxDrift, Math.abs(row[n] - energies[0][n]));
+    if (row.length !== energies[0].length) maxDrift = Infinity; // a level appeared or vanished: not isospectral
+  }
+  return { lambda, energies, maxDrift };
+}
+
 export interface DesignResult {
+  spectrum: SpectrumTrack;
   ctx: JobContext;
   run: FlowRun;
   bound: BoundStates;
@@ -67,6 +96,8 @@ export interface DesignSummary {
   lambda_reached: number;
   complete: boolean;
   max_invariant_drift: number;
+  /** largest bound-state energy drift along the sequence, user energy unit */
+  spectral_drift: number;
   predicted_solitons: { kappa: number; depth: number; speed: number }[];
   wells_found: { position: number; depth: number }[];
   units: { length: string; energy: string; lambda: string; speed: string; kappa: string };
@@ -78,39 +109,15 @@ export interface DesignSummary {
   warnings: string[];
 }
 
-/** coarsest and finest grids tried for the bound-state diagonalisation */
-const BOUND_GRID_MIN = 128;
-const BOUND_GRID_MAX = 512;
-/** u is resolved on a coarse grid when the spectrum it drops is below this fraction (common practice) */
-const BOUND_RESOLUTION = 1e-12;
-
 /**
  * Bound states E < −(2π/L)² of H = k² + u: a state whose decay length exceeds L/2π cannot be told from the
- * box's continuum, so the threshold is set by the box (common practice). Diagonalised densely (ml-matrix) on
- * the coarsest power-of-two grid of the same box that still resolves u (spectral tail < 1e-12), at most 512.
+ * box's continuum, so the threshold is set by the box (common practice). Eigenvalues only
+ * (quantum/bound.ts: dense, on the coarsest grid that resolves u).
  */
 export function boundStates(grid: Grid, u: Float64Array): BoundStates {
   const threshold = -(((2 * Math.PI) / grid.length) ** 2);
-  let n = Math.min(grid.n, BOUND_GRID_MIN);
-  const s = spectrum(u);
-  const total = s.reduce((acc, v) => acc + v * v, 0);
-  const beyond = (m: number) => {
-    let e = 0;
-    for (let k = m; k <= grid.n / 2; k++) e += s[2 * k] ** 2 + s[2 * k + 1] ** 2;
-    return Math.sqrt(e / Math.max(total, 1e-300));
-  };
-  while (n < Math.min(grid.n, BOUND_GRID_MAX) && beyond(n / 2) > BOUND_RESOLUTION) n *= 2;
-  const g = n === grid.n ? grid : makeGrid(grid.length, n);
-  const uc = n === grid.n ? u : resample(u, n);
-  let count = Math.min(BOUND_SEARCH_START, n);
-  for (;;) {
-    const res = lowestEigenpairs(g, uc, count, { method: 'dense' });
-    const bound = res.energies.filter((e) => e < threshold);
-    if (bound.length < res.energies.length || count >= n) {
-      return { energies: bound, threshold, method: `dense (ml-matrix) on ${n} points` };
-    }
-    count = Math.min(2 * count, n);
-  }
+  const res = boundEnergies(grid, u, threshold);
+  return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
 }
 
 /** 1/max(6 ∂_ξu₀) over ∂_ξu₀ > 0: first crossing of the Hopf characteristics ξ + 6uτ = const (physics.md §4) */
@@ -152,6 +159,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     depth: units.energyFromNatural(w.depth),
     kappa_user: w.kappa * perLength,
   }));
+  const spectrum = spectrumTrack(grid, run.lambdas, run.frames, bound.energies.length);
   const invariantsFirst = invariants(grid, eq, u0);
   const invariantsLast = invariants(grid, eq, last);
   const drift = invariantDrift(invariantsFirst, invariantsLast);
@@ -183,6 +191,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     lambda_reached: run.lambdas[run.lambdas.length - 1],
     complete: run.breaking === null,
     max_invariant_drift: drift.max,
+    spectral_drift: units.energyFromNatural(spectrum.maxDrift),
     predicted_solitons: predicted.map((p) => ({ kappa: p.kappa_user, depth: p.depth, speed: p.speed })),
     wells_found: wellsFound.map((w) => ({ position: w.position, depth: w.depth })),
     units: { length: Lb, energy: E, lambda: 'dimensionless (KdV time in the natural units of ℓ)', speed: `${Lb} per unit λ`, kappa: `1/${Lb}` },
@@ -207,7 +216,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     },
     warnings,
   };
-  return { ctx, run, bound, predicted, wellsFound, invariantsFirst, invariantsLast, drift, breakingPredicted, warnings, summary };
+  return { spectrum, ctx, run, bound, predicted, wellsFound, invariantsFirst, invariantsLast, drift, breakingPredicted, warnings, summary };
 }
 
 export function scalesText(ctx: JobContext): { E0: string; t0: string; ell: string } {
@@ -257,6 +266,12 @@ export function writeDesignOutputs(result: DesignResult, dir: string, force: boo
       ell_metre: units.system === 'lab' ? units.ell : null,
     },
     invariants: { first: result.invariantsFirst, last: result.invariantsLast, relative_drift: result.drift, units: 'natural (ℓ, E₀): ∫u, ∫u², ∫(u³ + ½u_ξ²)' },
+    spectrum: {
+      lambda: result.spectrum.lambda,
+      energies: result.spectrum.energies.map((row) => row.map((e) => units.energyFromNatural(e))),
+      max_drift: units.energyFromNatural(result.spectrum.maxDrift),
+      unit: units.labels.energy,
+    },
     solitons: { predicted: result.predicted, bound_state_method: result.bound.method, bound_threshold_E0: result.bound.threshold, found_in_last_frame: result.wellsFound },
     summary: result.summary,
     config: { ...ctx.config, meta: undefined },

@@ -1,0 +1,47 @@
+import { describe, expect, it } from 'vitest';
+import { parseConfig } from '../src/io/config.ts';
+import { runDesign } from '../src/jobs/design.ts';
+
+const cfg = (initial: string, flow = 'flow: { dispersion: quantum, lambda_end: 0.05, frames: 2, tolerance: 1e-8 }', grid = 'grid: { length: 40, points: 512 }') =>
+  parseConfig(`name: t\n${grid}\ninitial: ${initial}\n${flow}\n`, 'test.yaml', '.');
+
+describe('design diagnostics', () => {
+  for (const N of [1, 2, 3]) {
+    it(`−N(N+1) sech²ξ, N = ${N}: bound states −(N−n)² predict solitons κ = 1 … N`, () => {
+      // Pöschl–Teller levels (Landau & Lifshitz, Quantum Mechanics §23) and their soliton content
+      // (Gardner, Greene, Kruskal & Miura, Phys. Rev. Lett. 19, 1095, 1967)
+      const r = runDesign(cfg(`{ kind: sech2, depth: ${N * (N + 1)}, width: 1 }`));
+      const kappas = r.predicted.map((p) => p.kappa);
+      expect(kappas).toHaveLength(N);
+      kappas.forEach((k, i) => expect(k).toBeCloseTo(N - i, 8));
+      r.predicted.forEach((p, i) => {
+        expect(p.depth).toBeCloseTo(2 * (N - i) ** 2, 7);
+        expect(p.speed).toBeCloseTo(4 * (N - i) ** 2, 7);
+      });
+    });
+  }
+
+  it('reports δ² = 1/(u₀w²) and the lab scales of ⁸⁷Rb (E₀/h = 58.15 Hz at ℓ = 1 µm, physics.md §3)', () => {
+    const c = parseConfig(
+      'name: t\nunits: { system: lab, species: Rb87 }\ngrid: { length: 40, points: 256 }\ninitial: { kind: sech2, depth: 0.2, width: 1.5 }\nflow: { lambda_end: 0.01, frames: 2, tolerance: 1e-8 }\n',
+      't.yaml',
+      '.',
+    );
+    const r = runDesign(c);
+    const u0 = 0.2 / 0.058150244; // depth in E₀
+    expect(r.ctx.delta2).toBeCloseTo(1 / (u0 * 1.5 * 1.5), 5);
+    expect(r.summary.scales.E0).toMatch(/58\.150 Hz/);
+  });
+
+  it('a classical (Hopf) design stops at the gradient catastrophe, near 1/max(6∂ξu₀) (characteristics)', () => {
+    const r = runDesign(cfg('{ kind: sech2, depth: 2, width: 2 }', 'flow: { dispersion: classical, lambda_end: 1, frames: 21 }'));
+    expect(r.summary.complete).toBe(false);
+    expect(r.breakingPredicted).not.toBeNull();
+    // u₀ = −2 sech²(ξ/2): max ∂ξu₀ = (2/2)·(4/(3√3)) … evaluate the closed form 1/max(6u₀′) directly
+    const tb = 1 / (6 * 2 * (4 / (3 * Math.sqrt(3))) * 0.5);
+    expect(r.breakingPredicted!).toBeCloseTo(tb, 3);
+    expect(r.run.breaking!.lambdaExtrapolated).toBeCloseTo(tb, 2);
+    expect(r.run.frames.length).toBeGreaterThan(1);
+    expect(r.run.lambdas[r.run.lambdas.length - 1]).toBeLessThan(tb);
+  });
+});
