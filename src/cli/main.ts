@@ -9,6 +9,7 @@ import { readFileSync } from 'node:fs';
 import { loadConfig } from '../io/config.ts';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
+import { renderFolder } from '../jobs/report.ts';
 import { makeProgress } from './progress.ts';
 import { num, table } from './table.ts';
 
@@ -58,6 +59,13 @@ async function designCommand(configPath: string, opts: CommonOptions): Promise<n
   return s.complete ? 0 : 1;
 }
 
+async function reportCommand(dir: string, opts: CommonOptions): Promise<number> {
+  const files = renderFolder(dir, { force: opts.force ?? false, toolVersion: version() });
+  if (opts.json) process.stdout.write(toJson({ outputs: files }, 2) + '\n');
+  else process.stdout.write(`isotrap report\n${table(files.map((f) => ['wrote', f] as [string, string]))}\n`);
+  return 0;
+}
+
 export function buildProgram(handlers: { exit: (code: number) => void }): Command {
   const program = new Command();
   program
@@ -74,6 +82,13 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
       .option('--quiet', 'no progress on stderr');
   common(program.command('design').argument('<config>', 'YAML scenario').description('integrate the KdV (or Hopf) flow from the configured trap'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await designCommand(config, opts)));
+  program
+    .command('report')
+    .argument('<dir>', 'a finished output folder')
+    .description('re-render the figures and report.html of an output folder without recomputing')
+    .option('--force', 'overwrite figures already there')
+    .option('--json', 'print the written files as JSON')
+    .action(async (dir: string, opts: CommonOptions) => handlers.exit(await reportCommand(dir, opts)));
   return program;
 }
 

@@ -1,0 +1,248 @@
+/**
+ * Figures and the HTML report of a finished output folder, rendered from its files only (sequence.json,
+ * potential.npy and, when present, verify.json and traces.npy), so `isotrap report DIR` never recomputes.
+ */
+import { createHash } from 'node:crypto';
+import { existsSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { stringify } from 'yaml';
+import { UserError } from '../io/errors.ts';
+import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { decodeNpy } from '../io/npy.ts';
+import { barChart, heatmap, lineChart, renderReport, type ReportFigure, type SummaryRow } from '../report/index.ts';
+
+export interface SequenceFile {
+  x: number[];
+  lambda: number[];
+  length_unit: string;
+  energy_unit: string;
+  species: string | null;
+  dispersion: string;
+  spectrum: { lambda: number[]; energies: number[][]; max_drift: number | null; unit: string };
+  solitons: {
+    predicted: { kappa: number; depth: number; speed: number; energy: number }[];
+    found_in_last_frame: { position: number; depth: number }[];
+  };
+  summary: Record<string, unknown> & { name: string; warnings: string[]; delta2: number | null; scales: { E0: string; t0: string; ell: string } };
+  config: Record<string, unknown>;
+}
+
+/** Optional verify results, as written by jobs/verify.ts (see its VerifyFile). */
+export interface VerifyFileLike {
+  units: { energy: string; time: string };
+  states: { index: number; energy: number; fidelity_cd: number; fidelity_bare: number; excess_cd: number; excess_bare: number }[];
+  thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; mean_excess_cd: number; mean_excess_bare: number };
+  fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number };
+  cd_strength: { unit: string; max_total: number; max_cubic: number; max_potential: number; samples?: { time: number[]; cubic: number[]; potential: number[]; total: number[] } };
+  traces: { file: string; times: number[]; rows: { drive: string; state: number }[] };
+  summary_rows?: SummaryRow[];
+}
+
+function readJson<T>(path: string): T {
+  if (!existsSync(path)) throw new UserError(`${path} does not exist: is this a finished isotrap output folder?`);
+  try {
+    return JSON.parse(readFileSync(path, 'utf8')) as T;
+  } catch (err) {
+    throw new UserError(`${path} is not valid JSON (${(err as Error).message})`);
+  }
+}
+
+/** straight soliton lines x = x_end + v(λ − λ_end) through the wells of the last frame, v from the bound states */
+function trajectories(seq: SequenceFile): { name: string; x: number[]; y: number[] }[] {
+  const lambdaEnd = seq.lambda[seq.lambda.length - 1];
+  const xmin = seq.x[0];
+  const xmax = seq.x[seq.x.length - 1];
+  const out: { name: string; x: number[]; y: number[] }[] = [];
+  const used = new Set<number>();
+  for (const well of seq.solitons.found_in_last_frame) {
+    let best = -1;
+    for (let i = 0; i < seq.solitons.predicted.length; i++) {
+      if (used.has(i)) continue;
+      if (best < 0 || Math.abs(seq.solitons.predicted[i].depth - well.depth) < Math.abs(seq.solitons.predicted[best].depth - well.depth)) best = i;
+    }
+    if (best < 0) continue;
+    const p = seq.solitons.predicted[best];
+    if (Math.abs(p.depth - well.depth) > 0.1 * p.depth) continue; // not yet a separated soliton
+    used.add(best);
+    const xs: number[] = [];
+    const ys: number[] = [];
+    for (let i = 0; i <= 50; i++) {
+      const l = (lambdaEnd * i) / 50;
+      const x = well.position + p.speed * (l - lambdaEnd);
+      if (x >= xmin && x <= xmax) {
+        xs.push(x);
+        ys.push(l);
+      }
+    }
+    if (xs.length > 1) out.push({ name: `soliton depth ${p.depth.toPrecision(3)} ${seq.energy_unit}`, x: xs, y: ys });
+  }
+  return out;
+}
+
+export function designFigures(seq: SequenceFile, potential: { data: Float64Array; shape: number[] }): ReportFigure[] {
+  const [nF, nX] = potential.shape;
+  const rows = Array.from({ length: nF }, (_, i) => potential.data.subarray(i * nX, (i + 1) * nX));
+  const E = seq.energy_unit;
+  const Lu = seq.length_unit;
+  const figures: ReportFigure[] = [];
+  figures.push({
+    id: 'spacetime',
+    caption: `Potential V(x, λ) along the designed sequence (${seq.dispersion} flow), with the straight trajectories predicted from the bound states of the initial trap (speed 4κ² in natural units) drawn through the wells of the last frame.`,
+    svg: heatmap({
+      xLabel: `position x (${Lu})`,
+      yLabel: 'flow parameter λ (dimensionless)',
+      zLabel: `potential V (${E})`,
+      x: Float64Array.from(seq.x),
+      y: Float64Array.from(seq.lambda),
+      z: rows,
+      overlays: trajectories(seq),
+      width: 'double',
+    }),
+  });
+  const levels = seq.spectrum.energies[0]?.length ?? 0;
+  if (levels > 0) {
+    figures.push({
+      id: 'spectrum',
+      caption: `Bound-state energies of H(λ) along the sequence: flat lines prove isospectrality. Largest drift ${seq.spectrum.max_drift === null ? 'n/a' : seq.spectrum.max_drift.toExponential(2)} ${E}.`,
+      svg: lineChart({
+        xLabel: 'flow parameter λ (dimensionless)',
+        yLabel: `energy E (${E})`,
+        series: Array.from({ length: levels }, (_, n) => ({
+          name: `level ${n}`,
+          x: seq.spectrum.lambda,
+          y: seq.spectrum.energies.map((row) => row[n] ?? NaN),
+          markers: true,
+        })),
+        width: 'single',
+        annotations: [`max drift ${seq.spectrum.max_drift === null ? 'n/a' : seq.spectrum.max_drift.toExponential(2)} ${E}`],
+      }),
+    });
+  }
+  return figures;
+}
+
+export function verifyFigures(v: VerifyFileLike, traces: { data: Float64Array; shape: number[] } | null): ReportFigure[] {
+  const figures: ReportFigure[] = [];
+  const T = v.units.time;
+  const E = v.units.energy;
+  if (traces && v.traces.rows.length > 0) {
+    const [nR, nT] = traces.shape;
+    const series = v.traces.rows.slice(0, nR).map((r, i) => ({
+      name: `${r.drive} n=${r.state}`,
+      x: v.traces.times,
+      y: Array.from(traces.data.subarray(i * nT, (i + 1) * nT), (f) => Math.max(1 - f, 1e-16)),
+      dashed: r.drive !== 'cd',
+    }));
+    figures.push({
+      id: 'fidelity',
+      caption: 'Infidelity 1 − F(t) of each tracked eigenstate: with the cubic counterdiabatic correction (solid) and with the bare drive (dashed). F is the weight in the instantaneous eigenspace.',
+      svg: lineChart({ xLabel: `time t (${T})`, yLabel: 'infidelity 1 − F', series, logY: true, width: 'double' }),
+    });
+  }
+  figures.push({
+    id: 'excess',
+    caption: `Excess energy ⟨H_final⟩ − E_final of each state after the ramp, with and without the correction (${E}).`,
+    svg: barChart({
+      xLabel: 'state n',
+      yLabel: `excess energy (${E})`,
+      groups: v.states.map((s) => ({ label: `n=${s.index}`, values: [{ name: 'cd', value: Math.abs(s.excess_cd) }, { name: 'bare', value: Math.abs(s.excess_bare) }] })),
+      logY: true,
+      width: 'single',
+    }),
+  });
+  const ens: { label: string; values: { name: string; value: number }[] }[] = [];
+  if (v.thermal) ens.push({ label: `thermal ${v.thermal.temperature} ${v.thermal.unit}`, values: [{ name: 'cd', value: 1 - v.thermal.fidelity_cd }, { name: 'bare', value: 1 - v.thermal.fidelity_bare }] });
+  if (v.fermions) ens.push({ label: `Fermi sea N=${v.fermions.count}`, values: [{ name: 'cd', value: 1 - v.fermions.fidelity_cd }, { name: 'bare', value: 1 - v.fermions.fidelity_bare }] });
+  if (ens.length > 0) {
+    figures.push({
+      id: 'ensembles',
+      caption: 'Infidelity of the thermal ensemble and of the filled Fermi sea after the ramp, with and without the correction.',
+      svg: barChart({ xLabel: 'ensemble', yLabel: 'infidelity 1 − F', groups: ens, logY: true, width: 'single' }),
+    });
+  }
+  const s = v.cd_strength.samples;
+  if (s && s.time.length > 1) {
+    figures.push({
+      id: 'correction',
+      caption: `Size of the counterdiabatic correction |λ̇|·‖A‖ on the occupied low-energy subspace against time, split into the p³ part and the potential-weighted momentum part (${v.cd_strength.unit}).`,
+      svg: lineChart({
+        xLabel: `time t (${T})`,
+        yLabel: `correction strength (${v.cd_strength.unit})`,
+        series: [
+          { name: 'p³ part', x: s.time, y: s.cubic },
+          { name: '{V, p} part', x: s.time, y: s.potential, dashed: true },
+          { name: 'total', x: s.time, y: s.total },
+        ],
+        width: 'single',
+      }),
+    });
+  }
+  return figures;
+}
+
+/** compute time recorded in the folder's own files (design integrator + verify), when no run time is given */
+function recordedSeconds(seq: SequenceFile, verify: VerifyFileLike | null): number {
+  const integ = (seq.summary as { integrator?: { seconds?: number } }).integrator?.seconds ?? 0;
+  const ver = (verify as unknown as { seconds?: number } | null)?.seconds ?? 0;
+  const total = integ + ver;
+  return Number.isFinite(total) && total >= 0 ? total : 0;
+}
+
+export interface ReportOptions {
+  force: boolean;
+  runSeconds?: number;
+  toolVersion: string;
+}
+
+/** Render all figures of an output folder into DIR/*.svg and DIR/report.html; returns the files written. */
+export function renderFolder(dir: string, opts: ReportOptions): string[] {
+  const seq = readJson<SequenceFile>(join(dir, 'sequence.json'));
+  const potPath = join(dir, 'potential.npy');
+  if (!existsSync(potPath)) throw new UserError(`${potPath} does not exist: is this a finished isotrap output folder?`);
+  const potential = decodeNpy(readFileSync(potPath), potPath);
+  const figures = designFigures(seq, potential);
+  let verify: VerifyFileLike | null = null;
+  if (existsSync(join(dir, 'verify.json'))) {
+    verify = readJson<VerifyFileLike>(join(dir, 'verify.json'));
+    const tp = join(dir, verify.traces.file);
+    const traces = existsSync(tp) ? decodeNpy(readFileSync(tp), tp) : null;
+    figures.push(...verifyFigures(verify, traces));
+  }
+  const names = [...figures.map((f) => `${f.id}.svg`), 'report.html'];
+  prepareOutputDir(dir, { force: opts.force, produces: names });
+  const written: string[] = [];
+  for (const f of figures) {
+    const p = join(dir, `${f.id}.svg`);
+    writeFileAtomic(p, f.svg);
+    written.push(p);
+  }
+  const sm = seq.summary;
+  const summaryRows: SummaryRow[] = [
+    { key: 'scenario', value: sm.name },
+    { key: 'species', value: seq.species ?? 'natural units' },
+    { key: 'units', value: `${sm.scales.ell}; ${sm.scales.E0}; ${sm.scales.t0}` },
+    { key: 'dispersion number δ²', value: sm.delta2 ?? NaN },
+    { key: 'solitons predicted', value: seq.solitons.predicted.map((p) => `${p.depth.toPrecision(4)} ${seq.energy_unit}`).join(', ') || 'none' },
+    { key: 'wells found at λ_end', value: seq.solitons.found_in_last_frame.map((w) => `${w.depth.toPrecision(4)} ${seq.energy_unit}`).join(', ') || 'none' },
+    { key: 'bound-state drift', value: seq.spectrum.max_drift ?? NaN, unit: seq.energy_unit },
+    ...(verify?.summary_rows ?? []),
+  ];
+  const configText = stringify(seq.config);
+  const html = renderReport({
+    title: `isotrap report: ${sm.name}`,
+    summaryRows,
+    figures,
+    configText,
+    provenance: {
+      toolVersion: opts.toolVersion,
+      configHash: createHash('sha256').update(configText).digest('hex').slice(0, 16),
+      date: new Date().toISOString(),
+      runSeconds: opts.runSeconds ?? recordedSeconds(seq, verify),
+    },
+    warnings: [...(sm.warnings ?? []), ...((verify as unknown as { warnings?: string[] })?.warnings ?? [])],
+  });
+  const hp = join(dir, 'report.html');
+  writeFileAtomic(hp, html);
+  written.push(hp);
+  return written;
+}
