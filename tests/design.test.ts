@@ -1,4 +1,8 @@
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { encodeNpy } from '../src/io/npy.ts';
 import { parseConfig } from '../src/io/config.ts';
 import { runDesign } from '../src/jobs/design.ts';
 
@@ -20,6 +24,19 @@ describe('design diagnostics', () => {
       });
     });
   }
+
+  it('samples on a coarser grid (.npy) are resampled spectrally: −6 sech² from 256 samples keeps its levels −4, −1', () => {
+    // Pöschl–Teller levels −(N−n)² with N = 2 (Landau & Lifshitz §23)
+    const dir = mkdtempSync(join(tmpdir(), 'isotrap-samples-'));
+    const m = 256;
+    const values = Float64Array.from({ length: m }, (_, j) => -6 / Math.cosh(-20 + (40 * j) / m) ** 2);
+    writeFileSync(join(dir, 'v.npy'), encodeNpy(values, [m]));
+    const c = parseConfig('name: t\ngrid: { length: 40, points: 512 }\ninitial: { kind: samples, file: v.npy }\nflow: { lambda_end: 0.01, frames: 2, tolerance: 1e-8 }\n', 't.yaml', dir);
+    const r = runDesign(c);
+    expect(r.bound.energies).toHaveLength(2);
+    expect(r.bound.energies[0]).toBeCloseTo(-4, 7);
+    expect(r.bound.energies[1]).toBeCloseTo(-1, 7);
+  });
 
   it('reports δ² = 1/(u₀w²) and the lab scales of ⁸⁷Rb (E₀/h = 58.15 Hz at ℓ = 1 µm, physics.md §3)', () => {
     const c = parseConfig(
