@@ -10,6 +10,8 @@ import { loadConfig } from '../io/config.ts';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
 import { renderFolder } from '../jobs/report.ts';
+import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
+import { basename, dirname, extname } from 'node:path';
 import { makeProgress } from './progress.ts';
 import { num, table } from './table.ts';
 
@@ -59,6 +61,64 @@ async function designCommand(configPath: string, opts: CommonOptions): Promise<n
   return s.complete ? 0 : 1;
 }
 
+interface CheckCliOptions extends CommonOptions {
+  tolerance?: string;
+  sidecar?: string;
+  repair?: 'median' | 'piecewise';
+  lengthUnit?: string;
+  energyUnit?: string;
+  species?: string;
+  massU?: string;
+  lengthUnitUm?: string;
+}
+
+/** a numeric command-line option: undefined when absent, UserError naming the option when not a number */
+function numberOption(name: string, v: string | undefined): number | undefined {
+  if (v === undefined) return undefined;
+  const x = Number(v);
+  if (!Number.isFinite(x)) throw new UserError(`option --${name} = ${JSON.stringify(v)} is not allowed: must be a finite number`);
+  return x;
+}
+
+async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
+  if (opts.repair !== undefined && opts.repair !== 'median' && opts.repair !== 'piecewise') {
+    throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: must be median or piecewise`);
+  }
+  const result = runCheck({
+    input,
+    tolerance: numberOption('tolerance', opts.tolerance),
+    sidecar: opts.sidecar,
+    repair: opts.repair,
+    units: {
+      length_unit: opts.lengthUnit,
+      energy_unit: opts.energyUnit,
+      species: opts.species,
+      mass_u: numberOption('mass-u', opts.massU),
+      length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
+    },
+  });
+  const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
+  const files = writeCheckOutputs(result, dir, opts.force ?? false);
+  const r = result.report;
+  if (opts.json) process.stdout.write(toJson(r, 2) + '\n');
+  else {
+    const rows: [string, string][] = [
+      ['input', `${r.input}${r.sidecar ? ` (units from ${r.sidecar})` : ''}`],
+      ['verdict', r.admissible ? `admissible (tolerance ${r.tolerance})` : `NOT admissible (tolerance ${r.tolerance})`],
+      ['frames', `${r.frames.length}, ${r.frames.filter((f) => f.admissible).length} pass`],
+      ['fitted a (median)', `${num(r.fit.a_median)} ${r.units.a}`],
+      ['fitted c (median)', `${num(r.fit.c_median)} ${r.units.c}`],
+      ['bound-state drift', `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
+      ['repaired sequence', `max distance ${num(r.repaired.max_distance, 3)} ${r.units.energy}, relative L² ${num(r.repaired.relative_l2, 3)}`],
+      ['outputs', files.join(', ')],
+    ];
+    process.stdout.write(`isotrap check\n${table(rows)}\n`);
+    for (const f of r.failures) process.stdout.write(`  fails: ${f}\n`);
+    for (const w of r.warnings) process.stderr.write(`warning: ${w}\n`);
+  }
+  return checkExitCode(result);
+}
+
 async function reportCommand(dir: string, opts: CommonOptions): Promise<number> {
   const files = renderFolder(dir, { force: opts.force ?? false, toolVersion: version() });
   if (opts.json) process.stdout.write(toJson({ outputs: files }, 2) + '\n');
@@ -82,6 +142,22 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
       .option('--quiet', 'no progress on stderr');
   common(program.command('design').argument('<config>', 'YAML scenario').description('integrate the KdV (or Hopf) flow from the configured trap'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await designCommand(config, opts)));
+  program
+    .command('check')
+    .argument('<sequence>', '.npy (with a JSON/YAML sidecar, e.g. a design folder) or .csv (x column + one column per frame headed by λ)')
+    .description('test a potential sequence from elsewhere for admissibility to exact cubic counterdiabatic driving')
+    .option('--out <dir>', 'output folder (default: <sequence>-check beside the input)')
+    .option('--force', 'overwrite results already in the output folder')
+    .option('--json', 'print the report as JSON on stdout')
+    .option('--tolerance <t>', 'tolerance on the relative residual and spectral drift (default 1e-3)')
+    .option('--sidecar <file>', 'JSON/YAML file with x, lambda and units')
+    .option('--repair <mode>', 'coefficients of the repaired sequence: median or piecewise')
+    .option('--length-unit <u>', 'length unit of the input: µm or ℓ')
+    .option('--energy-unit <u>', 'energy unit of the input: h·kHz, µK or E₀')
+    .option('--species <name>', 'species for lab units (Rb87, K40, …)')
+    .option('--mass-u <m>', 'mass in u for a custom species')
+    .option('--length-unit-um <l>', 'the length unit ℓ in µm')
+    .action(async (input: string, opts: CheckCliOptions) => handlers.exit(await checkCommand(input, opts)));
   program
     .command('report')
     .argument('<dir>', 'a finished output folder')

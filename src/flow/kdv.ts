@@ -319,8 +319,9 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
   const outFrames: Float64Array[] = [];
   let fi = 0;
   while (fi < frames.length && frames[fi] <= 0) {
+    // the field the integrator actually evolves: u₀ restricted to the retained band
     outLambdas.push(frames[fi]);
-    outFrames.push(Float64Array.from(u0));
+    outFrames.push(physical(v));
     fi++;
   }
 

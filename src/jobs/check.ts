@@ -1,0 +1,292 @@
+/**
+ * `check`: is a sequence from elsewhere admissible for exact cubic counterdiabatic driving (physics.md §2)?
+ * Reads the sequence (check/sequence.ts), fits â, ĉ of (★) per frame (check/admissibility.ts), checks the
+ * bound-state spectrum along the sequence, and integrates the repaired (admissible) sequence from the first
+ * frame (check/repair.ts). Lab outputs: a = âℓ³/ħ² as a p³ coefficient (µm³/ħ² and SI s²/(kg²·m)), c = ĉℓ as
+ * a velocity in length unit per unit λ. Exit codes for the CLI: 0 admissible, 1 not, 2 bad input (UserError).
+ */
+import { join } from 'node:path';
+import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { encodeNpy } from '../io/npy.ts';
+import { UserError } from '../io/errors.ts';
+import { HBAR } from '../units/constants.ts';
+import { fitFrames, spectrumCheck, STENCIL_WIDTH, type FrameFit, type SpectrumCheck } from '../check/admissibility.ts';
+import { readSequence, type Sequence, type SequenceUnitsInput } from '../check/sequence.ts';
+import { repairSequence, REPAIR_TOLERANCE, type Repair, type RepairMode } from '../check/repair.ts';
+import { toJson } from './design.ts';
+
+/** default tolerance on the relative residual and the relative bound-state drift (issue 5) */
+export const DEFAULT_TOLERANCE = 1e-3;
+/** frames up to this count all get their spectrum (each a dense diagonalisation, ~0.03–0.2 s); beyond it an
+ * even selection plus every frame that fails the residual */
+export const SPECTRUM_FRAMES_ALL = 201;
+
+export const CHECK_FILES = ['check.json', 'repaired.npy', 'repaired.json'] as const;
+
+export interface CheckOptions {
+  /** .npy (with sidecar) or .csv sequence */
+  input: string;
+  /** tolerance on the relative residual and relative spectral drift, default 1e-3 */
+  tolerance?: number;
+  /** explicit sidecar path */
+  sidecar?: string;
+  /** units given on the command line (win over the sidecar) */
+  units?: SequenceUnitsInput;
+  /** how the repaired sequence gets its coefficients, default 'median' */
+  repair?: RepairMode;
+}
+
+export interface FrameReport {
+  index: number;
+  lambda: number;
+  residual: number;
+  /** fitted a as a p³ coefficient: µm³/ħ² (lab) or ℓ³/ħ² (natural) */
+  a: number;
+  /** a in SI, s²/(kg²·m); null in natural units */
+  a_si: number | null;
+  /** c, length unit per unit λ */
+  c: number;
+  a_hat: number;
+  c_hat: number;
+  admissible: boolean;
+  /** max |E_n − median_n| over the compared levels, energy unit (null: spectrum not computed for this frame) */
+  spectral_drift: number | null;
+  /** the same relative to the ground-state depth |median_0| */
+  spectral_drift_relative: number | null;
+  bound_states: number | null;
+  stencil: [number, number];
+  lambda_resolution: number;
+  degenerate: boolean;
+  static: boolean;
+  reasons: string[];
+}
+
+export interface CheckReport {
+  format: 'isotrap-check/1';
+  input: string;
+  sidecar: string | null;
+  admissible: boolean;
+  tolerance: number;
+  frames: FrameReport[];
+  /** largest spread (max − min) of a bound-state energy along the sequence, energy unit */
+  spectral_drift: number;
+  spectral_drift_relative: number;
+  isospectral: boolean | null;
+  failures: string[];
+  units: {
+    length: string;
+    energy: string;
+    lambda: string;
+    a: string;
+    a_si: string | null;
+    c: string;
+    species: string | null;
+    mass_u: number | null;
+    length_unit_um: number | null;
+  };
+  fit: { a_median: number; c_median: number; a_hat_median: number; c_hat_median: number; stencil_width: number; method: string };
+  spectrum: { frames: number[]; lambda: number[]; energies: number[][]; reference: number[]; threshold: number; levels: number };
+  repaired: { mode: RepairMode; a: number[]; c: number[]; max_distance: number; relative_l2: number; frame_relative: number[]; tolerance: number; steps: number; files: string[] };
+  grid: { points: number; length: number; dx: number; x0: number };
+  warnings: string[];
+}
+
+export interface CheckResult {
+  sequence: Sequence;
+  fits: FrameFit[];
+  spectrum: SpectrumCheck;
+  repair: Repair;
+  report: CheckReport;
+  admissible: boolean;
+}
+
+function median(v: number[]): number {
+  if (v.length === 0) return 0;
+  const s = [...v].sort((a, b) => a - b);
+  const h = s.length >> 1;
+  return s.length % 2 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+}
+
+const fmt = (v: number) => v.toExponential(2);
+
+/** Run the whole check (no files written; see writeCheckOutputs). Bad input throws a UserError. */
+export function runCheck(opts: CheckOptions): CheckResult {
+  const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
+  if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
+  const mode = opts.repair ?? 'median';
+  if (mode !== 'median' && mode !== 'piecewise') throw new UserError(`repair = ${JSON.stringify(mode)} is not allowed: must be "median" or "piecewise"`);
+  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
+  const { grid, frames, lambda, system } = seq;
+  const warnings = [...seq.warnings];
+  const fits = fitFrames(grid, lambda, frames);
+
+  const count = frames.length;
+  let indices: number[];
+  if (count <= SPECTRUM_FRAMES_ALL) indices = frames.map((_, i) => i);
+  else {
+    const set = new Set<number>();
+    for (let i = 0; i < SPECTRUM_FRAMES_ALL; i++) set.add(Math.round((i * (count - 1)) / (SPECTRUM_FRAMES_ALL - 1)));
+    for (const f of fits) if (f.residual > tolerance) set.add(f.index);
+    indices = [...set].sort((a, b) => a - b);
+    warnings.push(`${count} frames: bound-state spectra computed for ${indices.length} of them (an even selection plus every frame failing the residual)`);
+  }
+  const spectrum = spectrumCheck(grid, frames, indices);
+  const depth = spectrum.levels > 0 ? Math.abs(spectrum.reference[0]) : 0;
+  if (spectrum.levels === 0) warnings.push(`no bound state below the box threshold ${fmt(spectrum.threshold)} E₀ in some frame: isospectrality not tested`);
+
+  const lab = system.system === 'lab';
+  const ellUm = seq.units.length_unit_um ?? 1;
+  const aUser = (aHat: number) => (lab ? aHat * ellUm ** 3 : aHat);
+  const aSi = (aHat: number) => (lab ? (aHat * system.ell ** 3) / (HBAR * HBAR) : null);
+  const E = system.labels.energy;
+  const Lb = system.labels.length;
+
+  const specOf = new Map<number, number>();
+  indices.forEach((frame, i) => specOf.set(frame, i));
+  const failures: string[] = [];
+  const frameReports: FrameReport[] = fits.map((f) => {
+    const reasons: string[] = [];
+    if (f.residual > tolerance) {
+      let why = `residual ${fmt(f.residual)} > ${tolerance}: ∂_λV is not of the form (★) for any a, c`;
+      if (f.lambdaResolution > tolerance) why += ` (the 3- and ${STENCIL_WIDTH}-point λ-derivatives differ by ${fmt(f.lambdaResolution)}: the frames are too far apart in λ, or the sequence is not smooth in λ here)`;
+      reasons.push(why);
+    }
+    if (f.degenerate) warnings.push(`frame ${f.index}: the cubic and drift terms of (★) are parallel here (as for a single soliton): fitted as a pure translation, a = 0`);
+    const si = specOf.get(f.index);
+    let drift: number | null = null, rel: number | null = null, nb: number | null = null;
+    if (si !== undefined) {
+      nb = spectrum.energies[si].length;
+      if (spectrum.levels > 0) {
+        drift = system.energyFromNatural(spectrum.deviation[si]);
+        rel = spectrum.deviation[si] / depth;
+        if (rel > tolerance) {
+          reasons.push(`not isospectral: bound-state energies off the sequence median by ${fmt(Math.abs(drift))} ${E} (relative ${fmt(rel)} > ${tolerance})`);
+        }
+      }
+      if (spectrum.countChanged[si]) reasons.push(`not isospectral: ${nb} bound states, while most frames have ${spectrum.levels === nb ? 'more' : 'a different number'}`);
+    }
+    const admissible = reasons.length === 0;
+    if (!admissible) failures.push(`frame ${f.index} (λ = ${f.lambda}): ${reasons.join('; ')}`);
+    return {
+      index: f.index,
+      lambda: f.lambda,
+      residual: f.residual,
+      a: aUser(f.aHat),
+      a_si: aSi(f.aHat),
+      c: system.lengthFromNatural(f.cHat),
+      a_hat: f.aHat,
+      c_hat: f.cHat,
+      admissible,
+      spectral_drift: drift,
+      spectral_drift_relative: rel,
+      bound_states: nb,
+      stencil: f.stencil,
+      lambda_resolution: f.lambdaResolution,
+      degenerate: f.degenerate,
+      static: f.static,
+      reasons,
+    };
+  });
+  const isospectral = spectrum.levels > 0 ? frameReports.every((r) => !r.reasons.some((s) => s.startsWith('not isospectral'))) : null;
+  if (isospectral === false) {
+    failures.push(`the sequence is not isospectral: the bound-state energies spread by ${fmt(system.energyFromNatural(spectrum.spread))} ${E} (relative ${fmt(spectrum.spread / depth)}) along it, so no exact cubic counterdiabatic term exists`);
+  }
+  const admissible = frameReports.every((r) => r.admissible);
+
+  const repair = repairSequence(grid, lambda, frames, fits, mode);
+  const good = fits.filter((f) => !f.static && !f.degenerate);
+  const aMed = median(good.map((f) => f.aHat));
+  const cMed = median((good.length ? good : fits.filter((f) => !f.static)).map((f) => f.cHat));
+  const report: CheckReport = {
+    format: 'isotrap-check/1',
+    input: seq.file,
+    sidecar: seq.sidecar,
+    admissible,
+    tolerance,
+    frames: frameReports,
+    spectral_drift: system.energyFromNatural(spectrum.spread),
+    spectral_drift_relative: depth > 0 ? spectrum.spread / depth : 0,
+    isospectral,
+    failures,
+    units: {
+      length: Lb,
+      energy: E,
+      lambda: 'dimensionless (KdV time in the natural units of ℓ)',
+      a: lab ? 'µm³/ħ² (a·ħ²/µm³)' : 'ℓ³/ħ² (â = aħ²/ℓ³)',
+      a_si: lab ? 's²/(kg²·m)' : null,
+      c: `${Lb} per unit λ`,
+      species: seq.units.species,
+      mass_u: seq.units.mass_u,
+      length_unit_um: seq.units.length_unit_um,
+    },
+    fit: {
+      a_median: aUser(aMed),
+      c_median: system.lengthFromNatural(cMed),
+      a_hat_median: aMed,
+      c_hat_median: cMed,
+      stencil_width: STENCIL_WIDTH,
+      method: `Fornberg ${STENCIL_WIDTH}-point λ-derivative (one-sided at the ends), spectral ξ-derivatives, least squares for â, ĉ of u_λ = â(−(3/2)uu_ξ + ¼u_ξξξ) − ĉu_ξ`,
+    },
+    spectrum: {
+      frames: spectrum.indices,
+      lambda: spectrum.indices.map((i) => lambda[i]),
+      energies: spectrum.energies.map((row) => row.map((e) => system.energyFromNatural(e))),
+      reference: spectrum.reference.map((e) => system.energyFromNatural(e)),
+      threshold: system.energyFromNatural(spectrum.threshold),
+      levels: spectrum.levels,
+    },
+    repaired: {
+      mode,
+      a: repair.aHat.map(aUser),
+      c: repair.cHat.map((c) => system.lengthFromNatural(c)),
+      max_distance: system.energyFromNatural(repair.maxDistance),
+      relative_l2: repair.relativeL2,
+      frame_relative: repair.frameRelative,
+      tolerance: REPAIR_TOLERANCE,
+      steps: repair.steps,
+      files: [],
+    },
+    grid: { points: grid.n, length: system.lengthFromNatural(grid.length), dx: system.lengthFromNatural(grid.dx), x0: seq.xUser[0] },
+    warnings,
+  };
+  return { sequence: seq, fits, spectrum, repair, report, admissible };
+}
+
+/** CLI exit code of a finished check: 0 admissible, 1 not (bad input never gets here: UserError → 2) */
+export function checkExitCode(result: CheckResult): 0 | 1 {
+  return result.admissible ? 0 : 1;
+}
+
+/**
+ * Write check.json, repaired.npy and repaired.json (a sidecar in the `design` format, so the repaired
+ * sequence can itself be checked) into dir; refuses to overwrite without force. Returns the paths.
+ */
+export function writeCheckOutputs(result: CheckResult, dir: string, force: boolean): string[] {
+  const outDir = prepareOutputDir(dir, { force, produces: [...CHECK_FILES] });
+  const files = CHECK_FILES.map((f) => join(outDir, f));
+  const { sequence: seq, repair } = result;
+  const n = seq.grid.n;
+  const flat = new Float64Array(repair.frames.length * n);
+  repair.frames.forEach((f, k) => {
+    for (let j = 0; j < n; j++) flat[k * n + j] = seq.system.energyFromNatural(f[j]);
+  });
+  result.report.repaired.files = [files[1], files[2]];
+  writeFileAtomic(files[1], encodeNpy(flat, [repair.frames.length, n]));
+  const sidecar = {
+    format: 'isotrap-sequence/1',
+    x: seq.xUser,
+    lambda: seq.lambda,
+    length_unit: seq.units.length_unit,
+    energy_unit: seq.units.energy_unit,
+    lambda_unit: 'dimensionless (KdV time τ in the natural units of ℓ)',
+    species: seq.units.species,
+    mass_u: seq.units.mass_u,
+    length_unit_um: seq.units.length_unit_um,
+    dispersion: 'quantum',
+    repaired_from: seq.file,
+    repair: { mode: repair.mode, a: result.report.repaired.a, c: result.report.repaired.c, a_unit: result.report.units.a, c_unit: result.report.units.c },
+  };
+  writeFileAtomic(files[2], toJson(sidecar));
+  writeFileAtomic(files[0], toJson(result.report, 2));
+  return files;
+}
