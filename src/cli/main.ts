@@ -6,11 +6,12 @@
 import { Command, CommanderError } from 'commander';
 import { join } from 'node:path';
 import { readFileSync } from 'node:fs';
-import { loadConfig } from '../io/config.ts';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
 import { renderFolder } from '../jobs/report.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
+// every command reads the same scenario file, so all of them validate against the full schema (with `compare`)
+import { loadCompareConfig as loadScenario, runCompare, writeCompareOutputs } from '../jobs/compare.ts';
 import { basename, dirname, extname } from 'node:path';
 import { makeProgress } from './progress.ts';
 import { num, table } from './table.ts';
@@ -32,7 +33,7 @@ function version(): string {
 }
 
 async function designCommand(configPath: string, opts: CommonOptions): Promise<number> {
-  const config = loadConfig(configPath);
+  const config = loadScenario(configPath);
   const progress = makeProgress('design', opts.quiet ?? false);
   const result = runDesign(config, { onProgress: (l, end) => progress.update(l / end) });
   progress.stop();
@@ -119,6 +120,32 @@ async function checkCommand(input: string, opts: CheckCliOptions): Promise<numbe
   return checkExitCode(result);
 }
 
+async function compareCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const config = loadScenario(configPath);
+  const progress = makeProgress('compare', opts.quiet ?? false);
+  const result = runCompare(config, { onProgress: (_stage, fraction) => progress.update(fraction) });
+  progress.stop();
+  const files = writeCompareOutputs(result.summary, outputDir(config.name, opts), opts.force ?? false);
+  const s = result.summary;
+  if (opts.json) {
+    const { sequences: _omit, ...rest } = s as typeof s & { sequences?: unknown };
+    process.stdout.write(toJson({ ...rest, outputs: files }, 2) + '\n');
+  } else {
+    const E = s.units.energy;
+    const rows: [string, string][] = [
+      ['scenario', `${s.name}${s.species ? ` (${s.species})` : ''}, δ² = ${num(s.delta2)}`],
+      ['classical breaking λ', `${num(s.breaking_lambda)} (characteristics, 1/max(6∂ξu₀))`],
+      ['1 % difference at λ', num(s.distance.lambda_1pct)],
+      ['ħ-scaling exponent', `${num(s.scaling.exponent)} ± ${num(s.scaling.uncertainty, 2)} (expected 2: dispersion ∝ ħ²)`],
+      ['phase-space energy drift', `classical sequence ${num(s.classical_phase_space.max.classical_energy_drift, 3)} ${E}, quantum sequence ${num(s.classical_phase_space.max.quantum_energy_drift, 3)} ${E}`],
+      ['outputs', files.join(', ')],
+    ];
+    process.stdout.write(`isotrap compare\n${table(rows)}\n`);
+    for (const w of s.warnings) process.stderr.write(`warning: ${w}\n`);
+  }
+  return 0;
+}
+
 async function reportCommand(dir: string, opts: CommonOptions): Promise<number> {
   const files = renderFolder(dir, { force: opts.force ?? false, toolVersion: version() });
   if (opts.json) process.stdout.write(toJson({ outputs: files }, 2) + '\n');
@@ -142,6 +169,8 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
       .option('--quiet', 'no progress on stderr');
   common(program.command('design').argument('<config>', 'YAML scenario').description('integrate the KdV (or Hopf) flow from the configured trap'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await designCommand(config, opts)));
+  common(program.command('compare').argument('<config>', 'YAML scenario').description('quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check'))
+    .action(async (config: string, opts: CommonOptions) => handlers.exit(await compareCommand(config, opts)));
   program
     .command('check')
     .argument('<sequence>', '.npy (with a JSON/YAML sidecar, e.g. a design folder) or .csv (x column + one column per frame headed by λ)')

@@ -1,0 +1,474 @@
+/**
+ * `compare`: quantum (KdV) against classical (Hopf) design of the same trap (issue 6; physics.md §2–§4).
+ *
+ * From one config: both sequences from the same u₀ (the classical one until its breaking λ), their relative
+ * distance against λ (max and L² norms, measured against the quantum sequence) and the λ where it reaches 1 %,
+ * a check of the classical sequence against the exact characteristics solution, the ħ-scaling study in the
+ * variables scaled by depth and width (classical/scaling.ts), and the classical phase-space check of the cubic
+ * CD Hamiltonian along both sequences (classical/cd.ts). The quantum consequence (fidelities of states driven
+ * with either sequence plus the cubic correction) has a marked slot, `quantum`, for the Schrödinger propagator.
+ *
+ * Config section (optional; every key has a default):
+ *
+ *   compare:
+ *     sweep: [0.1, 0.1778, 0.3162, 0.5623, 1]   # factors applied to the config's δ = √(ħ²/2mV₀w²) for the
+ *                                              # scaling study (≥ 3 distinct values > 0; a decade by default)
+ *     lambda_fraction: 0.25    # the fixed scaled λ of the study, as a fraction of the scaled Hopf breaking λ
+ *                              # T_b = 1/max(6∂_y v₀) (in (0, 0.9]); the δ² law holds at small λ
+ *     samples: 101             # λ points of the distance curve on [0, min(λ_end, classical end)]
+ *     sweep_drift: true        # also run the phase-space check for every δ of the sweep (scaled variables)
+ *     trajectories:
+ *       shells: 4              # energy shells of H(0) in the deepest well (between 15 % and 70 % of its height)
+ *       phases: 4              # starting points per shell
+ *       duration: …            # ramp duration 0 → λ (user time unit); default protocol.duration, else `periods`
+ *       periods: 4             # … small-oscillation periods of the deepest well
+ */
+import { readFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { parseDocument } from 'yaml';
+import { z } from 'zod';
+import { CURVATURE_SAFETY, phaseSpaceCheck, shellStarts, suggestSteps, wellShape, type TrajectoryReport } from '../classical/cd.ts';
+import { FourierProfile, spectralSequence } from '../classical/field.ts';
+import { characteristicsSequence, hopfBreaking, hopfCharacteristics } from '../classical/hopf.ts';
+import {
+  DISTANCE_THRESHOLD,
+  denseSampler,
+  distanceCurve,
+  driftSweep,
+  fromScaledLambda,
+  scaledProblem,
+  scalingStudy,
+  thresholdCrossing,
+  type DriftSweep,
+  type Sampler,
+  type ScalingStudy,
+} from '../classical/scaling.ts';
+import { configSchema, parseConfigWith, strictSection, type ConfigMeta } from '../io/config.ts';
+import { UserError } from '../io/errors.ts';
+import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
+import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import { characteristicsBreaking, scalesText, toJson } from './design.ts';
+import { makeContext, type JobContext } from './context.ts';
+
+/** a decade of δ below the config's own, five points evenly spaced in log δ */
+export const DEFAULT_SWEEP = [0.1, 0.1778, 0.3162, 0.5623, 1] as const;
+/** small enough that the δ² law of the distance holds to a few 0.01 in the exponent for a sech² well */
+export const DEFAULT_LAMBDA_FRACTION = 0.25;
+/** points of the check of the pseudo-spectral Hopf run against characteristics over its resolved range */
+export const CHARACTERISTICS_CHECK_POINTS = 6;
+/** the classical sequence is compared up to this fraction of its breaking λ (the front is vertical at 1) */
+export const CLASSICAL_END_FRACTION = 0.95;
+/** trajectories ramp at most to this fraction of the breaking λ: the Hopf curvature grows like q³ with
+ * q = 1/(1 − λ/λ_b) (8 here), and the step count with it; closer to breaking it grows without bound */
+export const TRAJECTORY_END_FRACTION = 0.5;
+/** trajectory ramps default to this many small-oscillation periods when neither duration is configured */
+export const DEFAULT_PERIODS = 4;
+
+export const COMPARE_FILES = ['compare.json'] as const;
+
+const sweepRule = 'must be a list of at least 3 distinct numbers > 0 (factors applied to the config’s δ)';
+export const trajectoriesSchema = strictSection(
+  {
+    shells: z.number({ error: 'must be an integer from 1 to 50' }).int({ error: 'must be an integer from 1 to 50' }).min(1, { error: 'must be an integer from 1 to 50' }).max(50, { error: 'must be an integer from 1 to 50' }).default(4),
+    phases: z.number({ error: 'must be an integer from 1 to 64' }).int({ error: 'must be an integer from 1 to 64' }).min(1, { error: 'must be an integer from 1 to 64' }).max(64, { error: 'must be an integer from 1 to 64' }).default(4),
+    duration: z.number({ error: 'must be a number > 0 (ramp duration, in t₀ (natural) or ms (lab))' }).positive({ error: 'must be a number > 0 (ramp duration, in t₀ (natural) or ms (lab))' }).optional(),
+    periods: z.number({ error: 'must be a number > 0 (small-oscillation periods of the deepest well)' }).positive({ error: 'must be a number > 0 (small-oscillation periods of the deepest well)' }).default(DEFAULT_PERIODS),
+  },
+  'compare.trajectories',
+);
+
+export const compareSectionSchema = strictSection(
+  {
+    sweep: z
+      .array(z.number({ error: sweepRule }).positive({ error: sweepRule }), { error: sweepRule })
+      .min(3, { error: sweepRule })
+      .refine((v) => new Set(v).size === v.length, { error: sweepRule })
+      .default([...DEFAULT_SWEEP]),
+    lambda_fraction: z
+      .number({ error: 'must be a number in (0, 0.9] (fraction of the scaled classical breaking λ)' })
+      .refine((v) => v > 0 && v <= 0.9, { error: 'must be a number in (0, 0.9] (fraction of the scaled classical breaking λ)' })
+      .default(DEFAULT_LAMBDA_FRACTION),
+    samples: z.number({ error: 'must be an integer from 3 to 2001' }).int({ error: 'must be an integer from 3 to 2001' }).min(3, { error: 'must be an integer from 3 to 2001' }).max(2001, { error: 'must be an integer from 3 to 2001' }).default(101),
+    sweep_drift: z.boolean({ error: 'must be true or false' }).default(true),
+    trajectories: trajectoriesSchema.prefault({}),
+  },
+  'compare',
+);
+
+export const compareConfigSchema = configSchema.extend({ compare: compareSectionSchema.prefault({}) });
+export type CompareConfig = z.output<typeof compareConfigSchema> & { readonly meta: ConfigMeta };
+
+/** Parse YAML text of a config with an optional `compare` section (messages as in io/config.ts). */
+export function parseCompareConfig(text: string, sourceName: string, baseDir: string): CompareConfig {
+  const doc = parseDocument(text);
+  if (doc.errors.length > 0) {
+    const lines = doc.errors.map((e) => {
+      const pos = e.linePos?.[0];
+      const where = pos ? `${sourceName}:${pos.line}:${pos.col}` : sourceName;
+      return `${where}: YAML syntax error: ${e.message.split(/ at line \d+, column \d+/)[0].split('\n')[0]}`;
+    });
+    throw new UserError(lines.join('\n'));
+  }
+  return parseConfigWith(compareConfigSchema, doc.toJS(), sourceName, baseDir);
+}
+
+/** Read and validate a config file for `compare`. */
+export function loadCompareConfig(path: string): CompareConfig {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
+  }
+  return parseCompareConfig(text, path, dirname(resolve(path)));
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// result
+
+/** per-drive quantum fidelities: filled by the Schrödinger side (src/quantum), not by runCompare */
+export interface DriveFidelity {
+  /** 'classical+cubic': Hopf sequence + cubic CD term; 'quantum+cubic': KdV sequence + the same term */
+  drive: 'classical+cubic' | 'quantum+cubic';
+  states: { index: number; energy: number; fidelity: number; excess_energy: number }[];
+}
+
+export interface QuantumConsequence {
+  status: 'pending' | 'done';
+  note: string;
+  drives: DriveFidelity[];
+}
+
+export interface TrajectoryJson {
+  shell_energy: number;
+  shell_fraction: number;
+  x0: number;
+  /** k₀ = p₀/ħ, per length unit */
+  k0: number;
+  classical: DriftJson;
+  quantum: DriftJson;
+}
+
+export interface DriftJson {
+  /** max_s |H₀ − H₀(0)| (energy unit) and its final value */
+  energy_drift: number;
+  energy_drift_final: number;
+  /** actions of the instantaneous orbit (units of ħ) and the largest relative change */
+  action_start: number | null;
+  action_end: number | null;
+  action_drift: number | null;
+}
+
+export interface CompareSummary {
+  format: 'isotrap-compare/1';
+  name: string;
+  species: string | null;
+  units: { length: string; energy: string; time: string; lambda: string; action: string };
+  scales: { E0: string; t0: string; ell: string };
+  depth: number;
+  width: number;
+  delta2: number;
+  lambda_end: number;
+  /** first breaking of the classical sequence from characteristics, 1/max(6∂ξu₀) (refined between points) */
+  breaking_lambda: number;
+  breaking: {
+    lambda_characteristics: number;
+    lambda_characteristics_grid: number;
+    position: number;
+    /** the classical sequence (characteristics) is used up to here: CLASSICAL_END_FRACTION λ_b or λ_end */
+    lambda_classical_end: number;
+    /** the pseudo-spectral Hopf run: last λ it resolved, its own breaking extrapolation and why it stopped */
+    lambda_spectral_reached: number;
+    lambda_spectral_extrapolated: number | null;
+    spectral_reason: string | null;
+  };
+  /** λ range on which both sequences exist */
+  lambda_common: number;
+  distance: { lambda: number[]; max: number[]; l2: number[]; relative_to: string; threshold: number; lambda_1pct: number | null };
+  /** pseudo-spectral Hopf run against characteristics: max error relative to max|u₀| */
+  characteristics_check: { lambda: number[]; max_error: number[] };
+  sequences: { x: number[]; lambda: number[]; quantum: number[][]; classical: (number[] | null)[] };
+  scaling: {
+    exponent: number;
+    uncertainty: number;
+    exponent_l2: number;
+    uncertainty_l2: number;
+    prefactor: number;
+    lambda_scaled: number;
+    lambda_fraction: number;
+    breaking_scaled: number;
+    /** T* in the natural (config) λ of this trap */
+    lambda_natural: number;
+    points: { delta: number; delta2: number; distance_max: number; distance_l2: number; lambda_1pct_scaled: number | null }[];
+    tails: { classical: number; quantum: number };
+    phase_space: null | {
+      duration_scaled: number;
+      trajectories: number;
+      points: { delta: number; energy_drift_mean: number; energy_drift_max: number; action_drift_mean: number; action_drift_max: number }[];
+      energy_exponent: number;
+      energy_uncertainty: number;
+      action_exponent: number;
+      action_uncertainty: number;
+    };
+  };
+  classical_phase_space: {
+    method: string;
+    hamiltonian: string;
+    duration: number;
+    ramp: RampKind;
+    lambda_end: number;
+    steps: { classical: number; quantum: number };
+    trajectories: TrajectoryJson[];
+    max: { classical_energy_drift: number; quantum_energy_drift: number; classical_action_drift: number | null; quantum_action_drift: number | null };
+  };
+  /** TO BE FILLED by the Schrödinger side (src/quantum propagator): per-drive fidelities and excess energies */
+  quantum: QuantumConsequence;
+  integrator: { quantum_steps: number; classical_steps: number; tolerance: number; seconds: number };
+  warnings: string[];
+}
+
+export interface CompareResult {
+  ctx: JobContext;
+  /** the KdV run (dense output: quantum.dense.at(λ, out)) */
+  quantum: FlowRun;
+  /** the pseudo-spectral Hopf run (resolved only up to summary.breaking.lambda_spectral_reached) */
+  classical: FlowRun;
+  /** u(·, λ) on the natural grid (E₀) of the two sequences, for λ ∈ [0, summary.lambda_common] */
+  quantumAt: Sampler;
+  classicalAt: Sampler;
+  study: ScalingStudy;
+  drift: DriftSweep | null;
+  summary: CompareSummary;
+}
+
+export interface CompareOptions {
+  onProgress?: (stage: string, fraction: number) => void;
+}
+
+const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
+
+function driftJson(t: TrajectoryReport, energy: (u: number) => number): DriftJson {
+  return {
+    energy_drift: energy(t.energyDriftMax),
+    energy_drift_final: energy(t.energyDriftFinal),
+    action_start: finiteOrNull(t.actionStart),
+    action_end: finiteOrNull(t.actionEnd),
+    action_drift: finiteOrNull(t.actionDriftMax),
+  };
+}
+
+function maxOrNull(v: (number | null)[]): number | null {
+  if (v.some((x) => x === null)) return null;
+  return Math.max(...(v as number[]));
+}
+
+/** Run the comparison for a validated config (natural units inside; the summary is in the config's units). */
+export function runCompare(config: CompareConfig, opts: CompareOptions = {}): CompareResult {
+  const started = performance.now();
+  const progress = opts.onProgress ?? (() => {});
+  const cmp = config.compare;
+  const ctx = makeContext(config);
+  const { grid, units, u0 } = ctx;
+  const warnings = [...ctx.warnings];
+  const flowCfg = config.flow;
+  const drift = units.lengthToNatural(flowCfg.drift);
+  const lambdaEnd = flowCfg.lambda_end;
+  const frames = Array.from({ length: flowCfg.frames }, (_, i) => (lambdaEnd * i) / (flowCfg.frames - 1));
+
+  // --- both sequences. The classical one is the exact characteristics solution sampled on the grid (pointwise,
+  // no spectral truncation) up to CLASSICAL_END_FRACTION of its breaking λ; the pseudo-spectral Hopf run
+  // (flow/kdv.ts) is kept as an independent check over the range the grid resolves.
+  const brk = hopfBreaking(grid, u0);
+  const brkGrid = characteristicsBreaking(grid, u0);
+  progress('quantum sequence', 0);
+  const quantum = integrateFlow(grid, naturalFlowEquation('quantum', drift), u0, { tolerance: flowCfg.tolerance, frames });
+  if (quantum.breaking) warnings.push(`the quantum flow stopped at λ = ${quantum.breaking.lambdaReached}: ${quantum.breaking.reason}`);
+  const quantumReached = quantum.breaking ? quantum.breaking.lambdaReached : lambdaEnd;
+  progress('classical sequence', 0.1);
+  const profile0 = new FourierProfile(grid, u0);
+  const shifted = new Float64Array(grid.n);
+  const classicalAt: Sampler = (l, out) => {
+    for (let j = 0; j < grid.n; j++) shifted[j] = grid.x[j] - drift * l;
+    hopfCharacteristics(profile0, shifted, l, out, brk.lambda);
+  };
+  const quantumAt = denseSampler(quantum.dense);
+  const classicalEnd = Math.min(lambdaEnd, CLASSICAL_END_FRACTION * brk.lambda);
+  const lambdaCommon = Math.min(classicalEnd, quantumReached);
+  if (brk.lambda < lambdaEnd) {
+    warnings.push(
+      `the classical (Hopf) sequence breaks at λ_b = 1/max(6∂ξu₀) = ${brk.lambda.toPrecision(6)} < λ_end = ${lambdaEnd}: ` +
+        `the sequences are compared on [0, ${lambdaCommon.toPrecision(6)}] only`,
+    );
+  }
+  const spectralFrames = frames.filter((l) => l < brk.lambda);
+  if (brk.lambda < lambdaEnd) spectralFrames.push(brk.lambda);
+  const classical = integrateFlow(grid, naturalFlowEquation('classical', drift), u0, { tolerance: flowCfg.tolerance, frames: spectralFrames, detectBreaking: true });
+  const spectralReached = classical.breaking ? classical.breaking.lambdaReached : classical.lambdas[classical.lambdas.length - 1];
+
+  // --- distance against λ and the 1 % point
+  const lambdas = Array.from({ length: cmp.samples }, (_, i) => (lambdaCommon * i) / (cmp.samples - 1));
+  const curve = distanceCurve(grid.n, classicalAt, quantumAt, lambdas);
+  const lambda1pct = thresholdCrossing(grid.n, classicalAt, quantumAt, curve);
+  if (lambda1pct === null) warnings.push(`the sequences stay within ${DISTANCE_THRESHOLD * 100} % of each other up to λ = ${lambdaCommon.toPrecision(6)}`);
+
+  // --- pseudo-spectral Hopf run against the exact characteristics solution, over the range the grid resolves
+  const check = { lambda: [] as number[], max_error: [] as number[] };
+  let peak = 0;
+  for (const v of u0) peak = Math.max(peak, Math.abs(v));
+  const ua = new Float64Array(grid.n), ub = new Float64Array(grid.n);
+  for (let i = 0; i < CHARACTERISTICS_CHECK_POINTS; i++) {
+    const l = (spectralReached * i) / (CHARACTERISTICS_CHECK_POINTS - 1);
+    classical.dense.at(l, ua);
+    classicalAt(l, ub);
+    let err = 0;
+    for (let j = 0; j < grid.n; j++) err = Math.max(err, Math.abs(ua[j] - ub[j]));
+    check.lambda.push(l);
+    check.max_error.push(err / peak);
+  }
+
+  // --- ħ-scaling study in scaled variables
+  progress('scaling study', 0.25);
+  const delta = Math.sqrt(ctx.delta2);
+  if (!Number.isFinite(delta)) throw new UserError(`compare: the deepest well has no curvature width (δ² = ${ctx.delta2}): the scaling study needs a smooth minimum`);
+  const problem = scaledProblem(grid, u0, ctx.depth, ctx.width);
+  const deltas = cmp.sweep.map((f) => f * delta);
+  const study = scalingStudy(problem, { deltas, lambdaScaled: cmp.lambda_fraction * problem.breaking, tolerance: flowCfg.tolerance });
+  if (Math.abs(study.fitMax.exponent - 2) > 0.2) {
+    warnings.push(`the fitted exponent ${study.fitMax.exponent.toFixed(3)} is far from the small-δ value 2: the sweep reaches δ where higher orders in ħ² matter (or λ_fraction is close to breaking)`);
+  }
+
+  // --- classical phase-space check in natural units
+  progress('trajectories', 0.45);
+  const shape = wellShape(profile0, grid.x);
+  const period = (2 * Math.PI) / shape.omega;
+  const tr = cmp.trajectories;
+  const duration = tr.duration !== undefined ? units.timeToNatural(tr.duration) : config.protocol ? units.timeToNatural(config.protocol.duration) : tr.periods * period;
+  const rampKind: RampKind = config.protocol?.ramp ?? 'sin2';
+  const lambdaRamp = Math.min(quantumReached, lambdaEnd, TRAJECTORY_END_FRACTION * brk.lambda);
+  const ramp = makeRamp(rampKind, duration, lambdaRamp);
+  const starts = shellStarts(profile0, grid.x, tr.shells, tr.phases);
+  if (starts.length === 0) throw new UserError(`compare.trajectories: no closed orbit found in the deepest well of the initial potential (is the box too small?)`);
+  // the Hopf front steepens as q = 1/(1 − λ/λ_b): curvature grows like q³
+  const q = 1 / (1 - lambdaRamp / brk.lambda);
+  const steps = suggestSteps(shape, ramp, Math.max(CURVATURE_SAFETY, q * q * q));
+  const box = { xMin: grid.x[0], xMax: grid.x[grid.n - 1], scanStep: grid.dx / 4, drift, steps };
+  const onClassical = phaseSpaceCheck(characteristicsSequence(profile0, drift), ramp, starts, box);
+  progress('trajectories', 0.6);
+  const onQuantum = phaseSpaceCheck(spectralSequence(grid, quantum.dense), ramp, starts, box);
+  const E = units.energyFromNatural;
+  const perLength = units.lengthToNatural(1);
+  const trajectories: TrajectoryJson[] = starts.map((s, i) => ({
+    shell_energy: E(s.energy),
+    shell_fraction: s.fraction,
+    x0: units.lengthFromNatural(s.x),
+    k0: s.p * perLength,
+    classical: driftJson(onClassical.trajectories[i], E),
+    quantum: driftJson(onQuantum.trajectories[i], E),
+  }));
+
+  // --- drift per δ of the sweep (scaled variables)
+  let driftStudy: DriftSweep | null = null;
+  if (cmp.sweep_drift) {
+    progress('phase space per δ', 0.75);
+    const scaledPeriod = (2 * Math.PI) / wellShape(new FourierProfile(problem.grid, problem.v0), problem.grid.x).omega;
+    driftStudy = driftSweep(problem, study, { shells: Math.min(tr.shells, 3), phases: Math.min(tr.phases, 2), duration: tr.periods * scaledPeriod, ramp: rampKind });
+  }
+  progress('done', 1);
+
+  const Lb = units.labels;
+  const summary: CompareSummary = {
+    format: 'isotrap-compare/1',
+    name: config.name,
+    species: ctx.speciesLabel,
+    units: { length: Lb.length, energy: Lb.energy, time: Lb.time, lambda: 'dimensionless (KdV time τ in the natural units of ℓ)', action: 'ħ' },
+    scales: scalesText(ctx),
+    depth: E(ctx.depth),
+    width: units.lengthFromNatural(ctx.width),
+    delta2: ctx.delta2,
+    lambda_end: lambdaEnd,
+    breaking_lambda: brk.lambda,
+    breaking: {
+      lambda_characteristics: brk.lambda,
+      lambda_characteristics_grid: brkGrid,
+      position: units.lengthFromNatural(brk.position),
+      lambda_classical_end: classicalEnd,
+      lambda_spectral_reached: spectralReached,
+      lambda_spectral_extrapolated: classical.breaking ? finiteOrNull(classical.breaking.lambdaExtrapolated) : null,
+      spectral_reason: classical.breaking?.reason ?? null,
+    },
+    lambda_common: lambdaCommon,
+    distance: { ...curve, relative_to: 'the quantum (KdV) sequence: max|u_c − u_q|/max|u_q| and ‖u_c − u_q‖₂/‖u_q‖₂', threshold: DISTANCE_THRESHOLD, lambda_1pct: lambda1pct },
+    characteristics_check: check,
+    sequences: {
+      x: Array.from(ctx.xUser),
+      lambda: quantum.lambdas,
+      quantum: quantum.frames.map((f) => Array.from(f, E)),
+      classical: quantum.lambdas.map((l) => {
+        if (!(l <= classicalEnd)) return null;
+        const out = new Float64Array(grid.n);
+        classicalAt(l, out);
+        return Array.from(out, E);
+      }),
+    },
+    scaling: {
+      exponent: study.fitMax.exponent,
+      uncertainty: study.fitMax.uncertainty,
+      exponent_l2: study.fitL2.exponent,
+      uncertainty_l2: study.fitL2.uncertainty,
+      prefactor: study.fitMax.prefactor,
+      lambda_scaled: study.lambdaScaled,
+      lambda_fraction: cmp.lambda_fraction,
+      breaking_scaled: study.breakingScaled,
+      lambda_natural: fromScaledLambda(study.lambdaScaled, ctx.depth, ctx.width),
+      points: study.points.map((p) => ({ delta: p.delta, delta2: p.delta2, distance_max: p.distance.max, distance_l2: p.distance.l2, lambda_1pct_scaled: p.lambda1pct })),
+      tails: { classical: study.classicalTail, quantum: study.quantumTail },
+      phase_space: driftStudy && {
+        duration_scaled: driftStudy.duration,
+        trajectories: driftStudy.trajectories,
+        points: driftStudy.points.map((p) => ({ delta: p.delta, energy_drift_mean: p.energyMean, energy_drift_max: p.energyMax, action_drift_mean: p.actionMean, action_drift_max: p.actionMax })),
+        energy_exponent: driftStudy.energyFit.exponent,
+        energy_uncertainty: driftStudy.energyFit.uncertainty,
+        action_exponent: driftStudy.actionFit.exponent,
+        action_uncertainty: driftStudy.actionFit.uncertainty,
+      },
+    },
+    classical_phase_space: {
+      method: 'implicit midpoint in extended phase space, Yoshida 4th-order triple jump (symplectic, non-separable H)',
+      hamiltonian: 'H_CD = p² + u(x, λ) + λ′(s)(−4p³ − 6up + cp) in natural units (Weyl symbol of the cubic CD term)',
+      duration: units.timeFromNatural(duration),
+      ramp: rampKind,
+      lambda_end: lambdaRamp,
+      steps: { classical: onClassical.steps, quantum: onQuantum.steps },
+      trajectories,
+      max: {
+        classical_energy_drift: Math.max(...trajectories.map((t) => t.classical.energy_drift)),
+        quantum_energy_drift: Math.max(...trajectories.map((t) => t.quantum.energy_drift)),
+        classical_action_drift: maxOrNull(trajectories.map((t) => t.classical.action_drift)),
+        quantum_action_drift: maxOrNull(trajectories.map((t) => t.quantum.action_drift)),
+      },
+    },
+    quantum: {
+      status: 'pending',
+      note: 'per-drive fidelities (classical sequence + cubic CD term, quantum sequence + the same term) are filled by the Schrödinger propagator (src/quantum)',
+      drives: [],
+    },
+    integrator: { quantum_steps: quantum.stats.accepted, classical_steps: classical.stats.accepted, tolerance: flowCfg.tolerance, seconds: (performance.now() - started) / 1000 },
+    warnings,
+  };
+  return { ctx, quantum, classical, quantumAt, classicalAt, study, drift: driftStudy, summary };
+}
+
+/** Put per-drive quantum results into the summary's marked slot (status becomes 'done'). */
+export function withQuantumDrives(summary: CompareSummary, drives: DriveFidelity[], note: string): CompareSummary {
+  return { ...summary, quantum: { status: 'done', note, drives } };
+}
+
+/** Write compare.json into dir (atomically; refuses to overwrite without force). Returns the paths written. */
+export function writeCompareOutputs(summary: CompareSummary, dir: string, force: boolean): string[] {
+  const outDir = prepareOutputDir(dir, { force, produces: [...COMPARE_FILES] });
+  const file = join(outDir, COMPARE_FILES[0]);
+  writeFileAtomic(file, toJson(summary));
+  return [file];
+}
