@@ -9,6 +9,8 @@ import { readFileSync } from 'node:fs';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
 import { renderFolder } from '../jobs/report.ts';
+import { runVerify, writeVerifyOutputs, type VerifyFile } from '../jobs/verify.ts';
+import type { DesignResult } from '../jobs/design.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
 // every command reads the same scenario file, so all of them validate against the full schema (with `compare`)
 import { loadCompareConfig as loadScenario, runCompare, writeCompareOutputs } from '../jobs/compare.ts';
@@ -120,6 +122,62 @@ async function checkCommand(input: string, opts: CheckCliOptions): Promise<numbe
   return checkExitCode(result);
 }
 
+function verifyRows(d: DesignResult, v: VerifyFile): [string, string][] {
+  const E = v.units.energy;
+  const rows: [string, string][] = [
+    ['protocol', `${v.protocol.ramp} ramp, ${v.protocol.duration} ${v.units.time}, λ = 0 … ${v.protocol.lambda_end}`],
+    ['eigenstates', `${v.states.length} tracked (${v.bound_states} bound); ${v.eigen.method}`],
+  ];
+  for (const st of v.states) {
+    rows.push([`state ${st.index} (E = ${num(st.energy)} ${E})`, `fidelity ${num(st.fidelity_cd, 10)} with correction, ${num(st.fidelity_bare, 4)} bare; excess ${num(st.excess_cd, 3)} / ${num(st.excess_bare, 3)} ${E}`]);
+  }
+  if (v.thermal) rows.push([`thermal (T = ${v.thermal.temperature} ${v.thermal.unit})`, `fidelity ${num(v.thermal.fidelity_cd, 10)} / ${num(v.thermal.fidelity_bare, 4)}, excess energy ${num(v.thermal.mean_excess_cd, 3)} / ${num(v.thermal.mean_excess_bare, 3)} ${E}`]);
+  if (v.fermions) rows.push([`Fermi sea (${v.fermions.count} fermions)`, `fidelity ${num(v.fermions.fidelity_cd, 10)} / ${num(v.fermions.fidelity_bare, 4)}`]);
+  rows.push(['correction size', `max |λ̇|‖A‖ = ${num(v.cd_strength.max_total)} ${E} (p³ part ${num(v.cd_strength.max_cubic)}, potential part ${num(v.cd_strength.max_potential)})`]);
+  if (v.classical) rows.push(['classical sequence + correction', `to λ = ${num(v.classical.lambda_reached)} (t = ${num(v.classical.time_reached)} ${v.units.time}): worst fidelity ${num(Math.min(...v.classical.fidelity), 6)}`]);
+  rows.push(['isospectrality drift', `${num(v.isospectral_drift, 3)} ${E}`]);
+  rows.push(['verdict', v.acceptance]);
+  void d;
+  return rows;
+}
+
+async function verifyCommand(configPath: string, opts: CommonOptions, withReport: boolean): Promise<number> {
+  const started = performance.now();
+  const config = loadScenario(configPath);
+  const dir = outputDir(config.name, opts);
+  const quiet = opts.quiet ?? false;
+  const pd = makeProgress('design', quiet);
+  const design = runDesign(config, { onProgress: (l, end) => pd.update(l / end) });
+  pd.stop();
+  if (!design.summary.complete) {
+    writeDesignOutputs(design, dir, opts.force ?? false);
+    throw new UserError(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the frames it has are in ${dir})`);
+  }
+  const pv = makeProgress('verify', quiet);
+  const verify = runVerify(config, design, { onProgress: (f) => pv.update(f) });
+  pv.stop();
+  const files = [...writeDesignOutputs(design, dir, opts.force ?? false), ...writeVerifyOutputs(verify, dir, opts.force ?? false)];
+  if (withReport) files.push(...renderFolder(dir, { force: opts.force ?? false, toolVersion: version(), runSeconds: (performance.now() - started) / 1000 }));
+  const v = verify.file;
+  const s = design.summary;
+  if (opts.json) {
+    process.stdout.write(toJson({ design: s, ...v, outputs: files }, 2) + '\n');
+  } else {
+    const E = s.units.energy;
+    const rows: [string, string][] = [
+      ['scenario', `${s.name}${design.ctx.speciesLabel ? ` (${design.ctx.speciesLabel})` : ' (natural units)'}`],
+      ['units', `${s.scales.ell}, ${s.scales.E0}, ${s.scales.t0}`],
+      ['δ² = ħ²/(2mV₀w²)', num(s.delta2)],
+      ['solitons predicted / found', `${s.predicted_solitons.map((p) => num(p.depth)).join(', ') || 'none'} / ${s.wells_found.map((w) => num(w.depth)).join(', ') || 'none'} ${E}`],
+      ...verifyRows(design, v),
+      ['outputs', dir],
+    ];
+    process.stdout.write(`isotrap ${withReport ? 'run' : 'verify'}\n${table(rows)}\n`);
+    for (const w of [...s.warnings, ...v.warnings]) process.stderr.write(`warning: ${w}\n`);
+  }
+  return v.accepted ? 0 : 1;
+}
+
 async function compareCommand(configPath: string, opts: CommonOptions): Promise<number> {
   const config = loadScenario(configPath);
   const progress = makeProgress('compare', opts.quiet ?? false);
@@ -169,6 +227,10 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
       .option('--quiet', 'no progress on stderr');
   common(program.command('design').argument('<config>', 'YAML scenario').description('integrate the KdV (or Hopf) flow from the configured trap'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await designCommand(config, opts)));
+  common(program.command('verify').argument('<config>', 'YAML scenario with protocol (and verify) sections').description('Schrödinger proof: eigenstates, thermal ensembles and Fermi seas with and without the cubic correction'))
+    .action(async (config: string, opts: CommonOptions) => handlers.exit(await verifyCommand(config, opts, false)));
+  common(program.command('run').argument('<config>', 'YAML scenario').description('design → verify → report into one output folder'))
+    .action(async (config: string, opts: CommonOptions) => handlers.exit(await verifyCommand(config, opts, true)));
   common(program.command('compare').argument('<config>', 'YAML scenario').description('quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await compareCommand(config, opts)));
   program
