@@ -1,0 +1,50 @@
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { parseSvg } from './report-helpers.ts';
+
+const BIN = resolve('bin/isotrap.js');
+
+// One soliton u = −2κ² sech²(κ(ξ − 4κ²τ)) (exact KdV solution, physics.md §4): its single bound state at
+// E = −κ² (Pöschl–Teller N = 1) must be carried with the correction; the bare drive must lose it visibly.
+const CONFIG = `name: e2e
+units: { system: natural }
+grid: { length: 40, points: 256 }
+initial: { kind: sech2, depth: 2, width: 1, center: -2 }
+flow: { lambda_end: 0.3, frames: 7 }
+protocol: { duration: 0.6, ramp: sin2 }
+verify: { states: 3, temperature: 0.3, fermions: 1 }
+`;
+
+describe('isotrap run end to end (small grid)', () => {
+  it('designs, verifies and writes a report whose figures carry the data', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'isotrap-run-'));
+    writeFileSync(join(dir, 'c.yaml'), CONFIG);
+    const r = spawnSync(process.execPath, [BIN, 'run', 'c.yaml', '--json', '--quiet'], { cwd: dir, encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.states[0].energy).toBeCloseTo(-1, 8); // E = −κ², κ = 1
+    expect(out.states[0].fidelity_cd).toBeGreaterThan(1 - 1e-6);
+    expect(out.states[0].fidelity_bare).toBeLessThan(0.99);
+    // N = 1 fermion: the many-body fidelity is the single-state fidelity (a 1×1 determinant)
+    expect(out.fermions.fidelity_cd).toBeCloseTo(out.states[0].fidelity_cd, 12);
+    const folder = join(dir, 'outputs/e2e');
+    const html = readFileSync(join(folder, 'report.html'), 'utf8');
+    for (const id of ['spacetime', 'spectrum', 'fidelity', 'excess', 'ensembles', 'correction']) expect(html).toContain(`id="${id}`);
+    expect(html).not.toMatch(/NaN|Infinity/);
+    // the spectrum figure plots the bound level: its data range must hold E = −1 (E₀)
+    const doc = parseSvg(readFileSync(join(folder, 'spectrum.svg'), 'utf8'));
+    const text = [...doc.querySelectorAll('text')].map((t) => t.textContent ?? '');
+    expect(text.some((t) => t.includes('energy E (E₀)'))).toBe(true);
+    expect(text.some((t) => t.includes('flow parameter λ'))).toBe(true);
+    const ymax = [...doc.querySelectorAll('[data-ymax]')].map((p) => Number(p.getAttribute('data-ymax')));
+    expect(ymax.some((y) => Math.abs(y + 1) < 1e-6)).toBe(true);
+    // re-rendering needs --force and reproduces the page
+    const again = spawnSync(process.execPath, [BIN, 'report', folder], { encoding: 'utf8' });
+    expect(again.status).toBe(2);
+    const forced = spawnSync(process.execPath, [BIN, 'report', folder, '--force'], { encoding: 'utf8' });
+    expect(forced.status, forced.stderr).toBe(0);
+  });
+});
