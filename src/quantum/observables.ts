@@ -1,0 +1,209 @@
+/**
+ * Observables of evolved states (natural units, physics.md §3). Vectors: evolved states are interleaved complex
+ * Float64Array(2N); eigenvectors are real unit vectors Float64Array(N) (eigen.ts). Inner products are plain sums.
+ *
+ * - Fidelity: weight of ψ in the whole degenerate eigenspace of the final H, F = Σ_{j∈G} |⟨v_j|ψ⟩|²/‖ψ‖²
+ *   (physics.md §5: the periodic box has exactly degenerate ±k continuum pairs; never use one basis vector).
+ * - Excess energy: ⟨ψ|H_f|ψ⟩/‖ψ‖² − E_f.
+ * - Thermal ensemble at temperature T (energy units E₀, k_B = 1): Boltzmann weights p_n ∝ e^{−(E_n−E_0)/T} over the
+ *   computed initial levels; the ensemble fidelity is defined as F_th = Σ_n p_n F_n (the overlap of the evolved
+ *   ensemble with the adiabatically transported one when the initial density matrix is diagonal), the mean excess
+ *   energy as Σ_n p_n ΔE_n. The weight of the levels not computed is estimated by continuing the spectrum with the
+ *   free-particle box levels (2πj/L)², doubly degenerate (plane waves in the periodic box).
+ * - Fermions: N non-interacting fermions in the lowest N levels; the many-body fidelity of the Slater determinant
+ *   is |det⟨n_j(final)|φ_i(T)⟩|² (Löwdin, Phys. Rev. 97, 1474, 1955: overlap of two determinants), with a complex
+ *   LU determinant (partial pivoting; Golub & Van Loan, Matrix Computations, 4th ed. 2013, §3.4).
+ * - Projected operator norms: ‖P O P‖₂ with P the projector on orthonormal states, computed as the largest |eigenvalue|
+ *   of the Hermitian matrix M_ij = ⟨φ_i|O|φ_j⟩ through its real symmetric 2n×2n embedding [[Re M, −Im M],[Im M, Re M]].
+ */
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { UserError } from '../io/errors.ts';
+import { bareTerms, dotIm, dotRe, norm2, SpectralOperator, type OperatorTerms } from './hamiltonian.ts';
+import { groupDegenerate } from './eigen.ts';
+
+/** tail weights above this get a warning (the brief's 1e-6) */
+export const THERMAL_TAIL_WARN = 1e-6;
+/** free-level continuation stops when a term drops below this fraction of the partition sum (common practice) */
+const TAIL_TERM_STOP = 1e-18;
+
+/** ⟨v|ψ⟩ for real v and complex ψ, returned as [re, im] */
+export function overlapReal(v: Float64Array, psi: Float64Array): [number, number] {
+  let re = 0;
+  let im = 0;
+  for (let j = 0; j < v.length; j++) {
+    re += v[j] * psi[2 * j];
+    im += v[j] * psi[2 * j + 1];
+  }
+  return [re, im];
+}
+
+/** F = Σ_{j∈group} |⟨v_j|ψ⟩|² / ‖ψ‖² */
+export function eigenspaceFidelity(psi: Float64Array, vectors: readonly Float64Array[], group: readonly number[]): number {
+  let f = 0;
+  for (const j of group) {
+    const [re, im] = overlapReal(vectors[j], psi);
+    f += re * re + im * im;
+  }
+  const n = norm2(psi);
+  return f / (n * n);
+}
+
+/** the group (index list) that contains level `index` */
+export function groupOf(groups: readonly number[][], index: number): number[] {
+  const g = groups.find((gr) => gr.includes(index));
+  if (!g) throw new Error(`observables: level ${index} is in no degenerate group`);
+  return g;
+}
+
+/** ⟨ψ|H_f|ψ⟩/‖ψ‖² − E_f with H_f = k² + u_f */
+export function excessEnergy(op: SpectralOperator, uFinal: Float64Array, psi: Float64Array, eFinal: number, scratch?: Float64Array): number {
+  const t: OperatorTerms = bareTerms(uFinal);
+  const buf = scratch ?? new Float64Array(psi.length);
+  op.apply(t, psi, buf);
+  const n = norm2(psi);
+  return dotRe(psi, buf) / (n * n) - eFinal;
+}
+
+export interface ThermalSummary {
+  temperature: number;
+  weights: number[];
+  /** estimated Boltzmann weight of the levels that were not computed */
+  tailWeight: number;
+  tailWarning: string | null;
+  meanExcessEnergy: number;
+  /** F_th = Σ_n p_n F_n */
+  ensembleFidelity: number;
+  definition: string;
+}
+
+export function thermalSummary(energies: readonly number[], fidelities: readonly number[], excess: readonly number[], temperature: number, boxLength: number): ThermalSummary {
+  if (!(temperature > 0) || !Number.isFinite(temperature)) throw new UserError(`thermal: temperature ${temperature} must be a positive finite number (energy units E₀)`);
+  const e0 = energies[0];
+  const raw = energies.map((e) => Math.exp(-(e - e0) / temperature));
+  const zComputed = raw.reduce((a, b) => a + b, 0);
+  const eTop = energies[energies.length - 1];
+  let tail = 0;
+  const dk = (2 * Math.PI) / boxLength;
+  for (let j = 1; j < 1e7; j++) {
+    const e = (dk * j) ** 2;
+    if (e <= eTop) continue;
+    const term = 2 * Math.exp(-(e - e0) / temperature);
+    tail += term;
+    if (term < TAIL_TERM_STOP * zComputed) break;
+  }
+  const z = zComputed + tail;
+  const weights = raw.map((w) => w / zComputed);
+  const tailWeight = tail / z;
+  let meanExcess = 0;
+  let fid = 0;
+  for (let i = 0; i < energies.length; i++) {
+    meanExcess += weights[i] * excess[i];
+    fid += weights[i] * fidelities[i];
+  }
+  return {
+    temperature, weights, tailWeight,
+    tailWarning: tailWeight > THERMAL_TAIL_WARN ? `thermal: estimated weight ${tailWeight.toExponential(2)} of levels above the ${energies.length} computed ones exceeds ${THERMAL_TAIL_WARN}; compute more states` : null,
+    meanExcessEnergy: meanExcess, ensembleFidelity: fid,
+    definition: 'F_th = Σ_n p_n F_n over the computed levels, p_n ∝ exp(−(E_n − E_0)/T) renormalised on them',
+  };
+}
+
+/** determinant of a complex n×n matrix (row-major re/im) by LU with partial pivoting; inputs are copied */
+export function complexDeterminant(reIn: Float64Array, imIn: Float64Array, n: number): [number, number] {
+  const re = Float64Array.from(reIn);
+  const im = Float64Array.from(imIn);
+  let dr = 1;
+  let di = 0;
+  for (let c = 0; c < n; c++) {
+    let piv = c;
+    let best = -1;
+    for (let r = c; r < n; r++) {
+      const m = Math.hypot(re[r * n + c], im[r * n + c]);
+      if (m > best) { best = m; piv = r; }
+    }
+    if (best === 0) return [0, 0];
+    if (piv !== c) {
+      for (let k = 0; k < n; k++) {
+        [re[c * n + k], re[piv * n + k]] = [re[piv * n + k], re[c * n + k]];
+        [im[c * n + k], im[piv * n + k]] = [im[piv * n + k], im[c * n + k]];
+      }
+      dr = -dr; di = -di;
+    }
+    const pr = re[c * n + c];
+    const pi = im[c * n + c];
+    [dr, di] = [dr * pr - di * pi, dr * pi + di * pr];
+    const pm = pr * pr + pi * pi;
+    for (let r = c + 1; r < n; r++) {
+      // l = a_rc / a_cc
+      const ar = re[r * n + c];
+      const ai = im[r * n + c];
+      const lr = (ar * pr + ai * pi) / pm;
+      const li = (ai * pr - ar * pi) / pm;
+      for (let k = c; k < n; k++) {
+        const br = re[c * n + k];
+        const bi = im[c * n + k];
+        re[r * n + k] -= lr * br - li * bi;
+        im[r * n + k] -= lr * bi + li * br;
+      }
+    }
+  }
+  return [dr, di];
+}
+
+export interface FermionSummary {
+  particles: number;
+  /** |det⟨n_j|φ_i⟩|² against the lowest `particles` final levels */
+  manyBodyFidelity: number;
+  /** true when the Fermi level cuts a degenerate group (final filled sea not unique) */
+  fermiLevelCutsGroup: boolean;
+  note: string | null;
+}
+
+export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: readonly Float64Array[], finalEnergies: readonly number[], particles: number, degeneracyTol: number): FermionSummary {
+  if (!Number.isInteger(particles) || particles < 1 || particles > evolved.length || particles > finalVectors.length) {
+    throw new UserError(`fermions: number ${particles} must be an integer in 1 … ${Math.min(evolved.length, finalVectors.length)} (the propagated states)`);
+  }
+  const n = particles;
+  const re = new Float64Array(n * n);
+  const im = new Float64Array(n * n);
+  for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) {
+    const [a, b] = overlapReal(finalVectors[j], evolved[i]);
+    re[j * n + i] = a;
+    im[j * n + i] = b;
+  }
+  const [dr, di] = complexDeterminant(re, im, n);
+  const groups = groupDegenerate(finalEnergies, degeneracyTol);
+  const g = groupOf(groups, n - 1);
+  const cuts = g[g.length - 1] > n - 1;
+  return {
+    particles, manyBodyFidelity: dr * dr + di * di, fermiLevelCutsGroup: cuts,
+    note: cuts ? `the Fermi level (level ${n - 1}, E = ${finalEnergies[n - 1]}) cuts a degenerate group of ${g.length} levels: the filled sea is not unique; the value uses the computed basis vectors` : null,
+  };
+}
+
+/** ‖P O P‖₂ for orthonormal complex states φ (P their projector); scratch length 2N */
+export function projectedNorm(op: SpectralOperator, terms: OperatorTerms, states: readonly Float64Array[], scratch: Float64Array): number {
+  const n = states.length;
+  const mre = new Float64Array(n * n);
+  const mim = new Float64Array(n * n);
+  for (let j = 0; j < n; j++) {
+    op.apply(terms, states[j], scratch);
+    for (let i = 0; i < n; i++) {
+      mre[i * n + j] = dotRe(states[i], scratch);
+      mim[i * n + j] = dotIm(states[i], scratch);
+    }
+  }
+  const big = new Matrix(2 * n, 2 * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    // Hermitian part (removes round-off asymmetry)
+    const r = 0.5 * (mre[i * n + j] + mre[j * n + i]);
+    const m = 0.5 * (mim[i * n + j] - mim[j * n + i]);
+    big.set(i, j, r);
+    big.set(i + n, j + n, r);
+    big.set(i, j + n, -m);
+    big.set(i + n, j, m);
+  }
+  const evd = new EigenvalueDecomposition(big, { assumeSymmetric: true });
+  return Math.max(...evd.realEigenvalues.map(Math.abs));
+}
+

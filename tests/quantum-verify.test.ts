@@ -1,0 +1,32 @@
+import { describe, expect, it } from 'vitest';
+import { makeGrid } from '../src/spectral/grid.ts';
+import { verifySequence } from '../src/quantum/verify.ts';
+
+describe('verifySequence on a single soliton (u = −2κ²sech²(κ(ξ − 4κ²τ)), physics.md §4)', () => {
+  it('default state count = bound states + 4, traces, thermal and fermion summaries, flipped drive worse than CD', () => {
+    const g = makeGrid(30, 128);
+    const kappa = 1;
+    const pot = (tau: number, out: Float64Array): void => {
+      for (let j = 0; j < g.n; j++) out[j] = -2 * kappa * kappa / Math.cosh(kappa * (g.x[j] - 4 * kappa * kappa * tau)) ** 2;
+    };
+    const res = verifySequence({ grid: g, potential: pot, lambdaEnd: 0.4, ramp: 'sin2', duration: 1, tol: 1e-9, drives: ['cd', 'bare', 'flipped'], temperature: 0.05, fermions: 1, traceSamples: 3 });
+    expect(res.boundStates).toBe(1); // one soliton, one bound state at −κ² (physics.md §4)
+    expect(res.states.length).toBe(5); // bound + 4 (the brief's default)
+    expect(Math.abs(res.states[0].energyEnd + 1)).toBeLessThan(1e-9); // E = −κ²
+    const [cd, bare, flipped] = res.drives;
+    for (const f of cd.fidelity) expect(f).toBeGreaterThan(1 - 1e-8);
+    expect(flipped.fidelity[0]).toBeLessThan(bare.fidelity[0] + 1e-12); // wrong sign is no better than no correction (physics.md §3)
+    expect(cd.trace?.fidelity.length).toBe(3);
+    for (const row of cd.trace?.fidelity ?? []) for (const f of row) expect(f).toBeGreaterThan(1 - 1e-8); // transported at every instant
+    // thermal: weights sum to 1 over the computed states (definition), F_th = Σ p_n F_n
+    const th = cd.thermal!;
+    expect(Math.abs(th.weights.reduce((a, b) => a + b, 0) - 1)).toBeLessThan(1e-14);
+    expect(Math.abs(th.ensembleFidelity - th.weights.reduce((a, w, i) => a + w * cd.fidelity[i], 0))).toBeLessThan(1e-15);
+    // N = 1 fermion: many-body fidelity equals the single-state fidelity (Löwdin 1955)
+    expect(Math.abs((bare.fermions?.manyBodyFidelity ?? -1) - bare.fidelity[0])).toBeLessThan(1e-12);
+    // the excess energy of CD-transported states vanishes (exact eigenstates of H(λ_end))
+    for (const e of cd.excessEnergy) expect(Math.abs(e)).toBeLessThan(1e-7);
+    expect(bare.excessEnergy[0]).toBeGreaterThan(1e-3);
+    expect(res.cdStrength && res.cdStrength.full > 0).toBe(true);
+  });
+});
