@@ -146,6 +146,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
     throw new UserError(`verify: fermions ${opts.fermions} must be an integer in 1 … ${m} (the propagated states)`);
   }
   const tProp = performance.now();
+  const traceBases = new Map<number, { es: EigenResult; gs: number[][] }>();
   drives.forEach((drive, di) => {
     const sigma = DRIVE_SIGMA[drive];
     const H = kdvDrive(grid, opts.potential, ramp, sigma);
@@ -163,8 +164,14 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
       onSample: (s, sts) => {
         opts.potential(ramp.value(s), uS);
         if (trace && traceTimes.includes(s)) {
-          const es = lowestEigenpairs(grid, uS, extra, { method: opts.eigenMethod });
-          const gs = groupDegenerate(es.energies, degTol);
+          // the instantaneous eigenbasis depends only on the time, not the drive: solve once per sample time
+          let basis = traceBases.get(s);
+          if (!basis) {
+            const e = lowestEigenpairs(grid, uS, extra, { method: opts.eigenMethod });
+            basis = { es: e, gs: groupDegenerate(e.energies, degTol) };
+            traceBases.set(s, basis);
+          }
+          const { es, gs } = basis;
           trace.fidelity.push(sts.map((p, i) => eigenspaceFidelity(p, es.vectors, groupOf(gs, i))));
         }
         if (nStrength > 0 && strengthTimes.includes(s)) {
