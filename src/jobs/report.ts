@@ -10,6 +10,7 @@ import { UserError } from '../io/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { decodeNpy } from '../io/npy.ts';
 import { barChart, heatmap, lineChart, renderReport, type ReportFigure, type SummaryRow } from '../report/index.ts';
+import { makeRamp, type RampKind } from '../quantum/ramp.ts';
 
 /** states shown in the fidelity figure (legibility: 2 drives × 4 states = 8 series, one palette) */
 export const FIDELITY_FIGURE_STATES = 4;
@@ -35,6 +36,7 @@ export interface SequenceFile {
 /** Optional verify results, as written by jobs/verify.ts (see its VerifyFile). */
 export interface VerifyFileLike {
   units: { energy: string; time: string };
+  protocol?: { duration: number; ramp: string; lambda_end: number };
   states: { index: number; energy: number; fidelity_cd: number; fidelity_bare: number; excess_cd: number; excess_bare: number }[];
   thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; mean_excess_cd: number; mean_excess_bare: number };
   fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number };
@@ -124,6 +126,40 @@ export function designFigures(seq: SequenceFile, potential: { data: Float64Array
     });
   }
   return figures;
+}
+
+/** rows of the space–time map against lab time: uniform in t, λ(t) from the ramp, frames blended linearly in λ */
+export const TIME_ROWS = 121;
+
+function labTimeMap(seq: SequenceFile, potential: { data: Float64Array; shape: number[] }, v: VerifyFileLike): ReportFigure | null {
+  const p = v.protocol;
+  if (!p || !(p.duration > 0)) return null;
+  const [nF, nX] = potential.shape;
+  const ramp = makeRamp(p.ramp as RampKind, p.duration, p.lambda_end);
+  const t = Float64Array.from({ length: TIME_ROWS }, (_, i) => (p.duration * i) / (TIME_ROWS - 1));
+  const lambdas = seq.lambda;
+  const rows = Array.from(t, (ti) => {
+    const l = Math.min(Math.max(ramp.value(ti), lambdas[0]), lambdas[nF - 1]);
+    let i = 0;
+    while (i < nF - 2 && lambdas[i + 1] < l) i++;
+    const w = nF > 1 ? (l - lambdas[i]) / (lambdas[i + 1] - lambdas[i]) : 0;
+    const row = new Float64Array(nX);
+    for (let j = 0; j < nX; j++) row[j] = (1 - w) * potential.data[i * nX + j] + w * potential.data[Math.min(i + 1, nF - 1) * nX + j];
+    return row;
+  });
+  return {
+    id: 'spacetime-lab',
+    caption: `Potential V(x, t) against lab time for the ${p.ramp} ramp of ${p.duration} ${v.units.time} (frames blended linearly in λ for display).`,
+    svg: heatmap({
+      xLabel: `position x (${seq.length_unit})`,
+      yLabel: `time t (${v.units.time})`,
+      zLabel: `potential V (${seq.energy_unit})`,
+      x: Float64Array.from(seq.x),
+      y: t,
+      z: rows,
+      width: 'double',
+    }),
+  };
 }
 
 export function verifyFigures(v: VerifyFileLike, traces: { data: Float64Array; shape: number[] } | null): ReportFigure[] {
@@ -216,6 +252,8 @@ export function renderFolder(dir: string, opts: ReportOptions): string[] {
     verify = readJson<VerifyFileLike>(join(dir, 'verify.json'));
     const tp = join(dir, verify.traces.file);
     const traces = existsSync(tp) ? decodeNpy(readFileSync(tp), tp) : null;
+    const lab = labTimeMap(seq, potential, verify);
+    if (lab) figures.push(lab);
     figures.push(...verifyFigures(verify, traces));
   }
   const names = [...figures.map((f) => `${f.id}.svg`), 'report.html'];

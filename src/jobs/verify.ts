@@ -248,8 +248,8 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
   file.summary_rows = [
     { key: 'protocol', value: `${config.protocol.ramp} ramp over ${config.protocol.duration} ${Lt.time}` },
     { key: 'states tracked', value: natural.states.length },
-    { key: 'worst fidelity with correction', value: minCd },
-    { key: 'worst fidelity bare drive', value: worstBare },
+    { key: 'worst infidelity 1 − F with correction', value: 1 - minCd },
+    { key: 'worst infidelity 1 − F bare drive', value: 1 - worstBare },
     { key: 'ground-state fidelity with / without', value: `${cd.fidelity[0].toPrecision(10)} / ${bare.fidelity[0].toPrecision(6)}` },
     ...(file.thermal ? [{ key: `thermal ensemble at ${file.thermal.temperature} ${Lt.temperature}: fidelity with / without`, value: `${file.thermal.fidelity_cd.toPrecision(10)} / ${file.thermal.fidelity_bare.toPrecision(6)}` }, { key: 'thermal excess energy with / without', value: `${file.thermal.mean_excess_cd.toExponential(3)} / ${file.thermal.mean_excess_bare.toExponential(3)}`, unit: Lt.energy }] : []),
     ...(file.fermions ? [{ key: `Fermi sea (${file.fermions.count} fermions): fidelity with / without`, value: `${file.fermions.fidelity_cd.toPrecision(10)} / ${file.fermions.fidelity_bare.toPrecision(6)}` }] : []),
