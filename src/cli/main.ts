@@ -8,12 +8,13 @@ import { join } from 'node:path';
 import { readFileSync } from 'node:fs';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
-import { renderFolder } from '../jobs/report.ts';
+import { renderFolder, writeLatticeFigures } from '../jobs/report.ts';
 import { runVerify, writeVerifyOutputs, type VerifyFile } from '../jobs/verify.ts';
 import type { DesignResult } from '../jobs/design.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
-// every command reads the same scenario file, so all of them validate against the full schema (with `compare`)
-import { loadCompareConfig as loadScenario, runCompare, writeCompareOutputs } from '../jobs/compare.ts';
+import { runCompare, writeCompareOutputs } from '../jobs/compare.ts';
+// every command reads the same scenario file, so all of them validate against the full schema (compare, lattice)
+import { loadLatticeConfig as loadScenario, runLattice, writeLatticeOutputs } from '../jobs/lattice.ts';
 import { basename, dirname, extname } from 'node:path';
 import { makeProgress } from './progress.ts';
 import { num, table } from './table.ts';
@@ -204,6 +205,34 @@ async function compareCommand(configPath: string, opts: CommonOptions): Promise<
   return 0;
 }
 
+async function latticeCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const config = loadScenario(configPath);
+  const progress = makeProgress('lattice', opts.quiet ?? false);
+  const result = runLattice(config, { onProgress: (p) => progress.update(p.fraction) });
+  progress.stop();
+  const files = writeLatticeOutputs(result, outputDir(config.name, opts), opts.force ?? false);
+  files.push(...writeLatticeFigures(result, outputDir(config.name, opts), opts.force ?? false));
+  const s = result.summary;
+  if (opts.json) process.stdout.write(toJson({ ...s, outputs: files }, 2) + '\n');
+  else {
+    const E = s.units.energy;
+    const v = s.verification;
+    const rows: [string, string][] = [
+      ['lattice', `spacing ${num(s.lattice.spacing)} ${s.units.length}, J = ${num(s.lattice.tunnelling)} ${E} (${s.lattice.tunnelling_source}), ${s.lattice.sites} sites`],
+      ['effective mass', `m* = ${num(s.mass.effective_u)} u (atom ${num(s.mass.atomic_u)} u); δ² with m* = ${num(s.delta2.with_effective_mass)}`],
+      ['sites per soliton width', num(s.soliton_width.sites_per_width)],
+      ['largest CD coupling', `${num(s.couplings.largest_cd_coupling)} ${E} = ${num(s.couplings.fraction_of_band_width)} × band width 4J`],
+      ['lattice fidelities', `worst infidelity with correction ${num(v.infidelity_cd_max, 3)}; bare ${v.fidelity_bare.map((f) => num(f, 4)).join(', ')}`],
+      ['target', `${s.study.target_infidelity}: ${v.meets_target ? 'met' : 'NOT met'}`],
+      ['recommendation', s.study.recommended ? `${num(s.study.recommended.sites_per_width)} sites per width (spacing ${num(s.study.recommended.spacing)} ${s.units.length})` : s.study.note],
+      ['outputs', files.length > 4 ? `${files.length} files in ${outputDir(config.name, opts)}` : files.join(', ')],
+    ];
+    process.stdout.write(`isotrap lattice\n${table(rows)}\n`);
+    for (const w of s.warnings) process.stderr.write(`warning: ${w}\n`);
+  }
+  return s.verification.meets_target ? 0 : 1;
+}
+
 async function reportCommand(dir: string, opts: CommonOptions): Promise<number> {
   const files = renderFolder(dir, { force: opts.force ?? false, toolVersion: version() });
   if (opts.json) process.stdout.write(toJson({ outputs: files }, 2) + '\n');
@@ -231,6 +260,8 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await verifyCommand(config, opts, false)));
   common(program.command('run').argument('<config>', 'YAML scenario').description('design → verify → report into one output folder'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await verifyCommand(config, opts, true)));
+  common(program.command('lattice').argument('<config>', 'YAML scenario with a lattice section').description('tight-binding realisation of the design: on-site energies, tunnellings and Peierls couplings, verified on the lattice'))
+    .action(async (config: string, opts: CommonOptions) => handlers.exit(await latticeCommand(config, opts)));
   common(program.command('compare').argument('<config>', 'YAML scenario').description('quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check'))
     .action(async (config: string, opts: CommonOptions) => handlers.exit(await compareCommand(config, opts)));
   program

@@ -11,6 +11,7 @@ import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { decodeNpy } from '../io/npy.ts';
 import { barChart, heatmap, lineChart, renderReport, type ReportFigure, type SummaryRow } from '../report/index.ts';
 import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import type { LatticeResult } from './lattice.ts';
 
 /** states shown in the fidelity figure (legibility: 2 drives × 4 states = 8 series, one palette) */
 export const FIDELITY_FIGURE_STATES = 4;
@@ -232,6 +233,61 @@ function recordedSeconds(seq: SequenceFile, verify: VerifyFileLike | null): numb
   const ver = (verify as unknown as { seconds?: number } | null)?.seconds ?? 0;
   const total = integ + ver;
   return Number.isFinite(total) && total >= 0 ? total : 0;
+}
+
+/** Figures of a lattice realisation: the nearest-neighbour coupling amplitudes as a space–time map, and the
+ * lattice infidelity with the correction against sites per soliton width. */
+export function latticeFigures(result: LatticeResult): ReportFigure[] {
+  const { summary: s, tables: t } = result;
+  const bonds = t.sites.length - 1;
+  const samples = t.times.length;
+  const rows = Array.from({ length: samples }, (_, i) => t.nnAmplitude.slice(i * bonds, (i + 1) * bonds));
+  const bondX = Float64Array.from({ length: bonds }, (_, j) => 0.5 * (t.sites[j] + t.sites[j + 1]));
+  const figures: ReportFigure[] = [
+    {
+      id: 'lattice-couplings',
+      caption: `Nearest-neighbour coupling amplitude |H_j,j+1| (tunnelling plus the Peierls part of the correction) at each bond against time; the largest correction coupling is ${s.couplings.fraction_of_band_width.toPrecision(3)} × the band width 4J.`,
+      svg: heatmap({
+        xLabel: `bond position x (${s.units.length})`,
+        yLabel: `time t (${s.units.time})`,
+        zLabel: `|H_j,j+1| (${s.units.energy})`,
+        x: bondX,
+        y: t.times,
+        z: rows,
+        width: 'double',
+      }),
+    },
+  ];
+  const study = s.study.rows;
+  if (study.length >= 2) {
+    const states = study[0].infidelity_cd.length;
+    figures.push({
+      id: 'lattice-convergence',
+      caption: `Lattice infidelity 1 − F with the correction against sites per soliton width, for each tracked state; target ${s.study.target_infidelity}${s.study.observed_order !== null ? `, observed order ${s.study.observed_order.toFixed(2)} in the spacing` : ''}.`,
+      svg: lineChart({
+        xLabel: 'sites per soliton width (dimensionless)',
+        yLabel: 'infidelity 1 − F',
+        series: [
+          ...Array.from({ length: states }, (_, n) => ({ name: `state ${n}`, x: study.map((r) => r.sites_per_width), y: study.map((r) => Math.max(r.infidelity_cd[n], INFIDELITY_FLOOR)), markers: true })),
+          { name: 'target', x: [study[0].sites_per_width, study[study.length - 1].sites_per_width], y: [s.study.target_infidelity, s.study.target_infidelity], dashed: true },
+        ],
+        logY: true,
+        width: 'single',
+      }),
+    });
+  }
+  return figures;
+}
+
+/** write the lattice figures into dir (atomically; refuses to overwrite without force) */
+export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean): string[] {
+  const figures = latticeFigures(result);
+  prepareOutputDir(dir, { force, produces: figures.map((f) => `${f.id}.svg`) });
+  return figures.map((f) => {
+    const p = join(dir, `${f.id}.svg`);
+    writeFileAtomic(p, f.svg);
+    return p;
+  });
 }
 
 export interface ReportOptions {

@@ -1,0 +1,886 @@
+/**
+ * `lattice`: a designed KdV sequence realised on an optical lattice, and verified there (issue 7; physics.md §6).
+ *
+ * 1. Lattice parameters: spacing d (spacing_um, or wavelength_nm with d = λ/2) and tunnelling J (tunnelling_hz,
+ *    or depth_recoil s = V₀/E_R with E_R = ħ²k_L²/2m, k_L = π/d; then J from Zwerger's deep-lattice estimate, an
+ *    approximation, checked against the tool's own Mathieu band structure, lattice/bands.ts). The lowest band
+ *    −2J cos kd gives the effective mass m* = ħ²/(2Jd²).
+ * 2. Design on m*: the config's trap is designed (jobs/design.ts) in the natural units of m* and ℓ,
+ *    E₀ = ħ²/(2m*ℓ²), so that the lattice spacing is h = d/ℓ and J = E₀/h² in those units.
+ * 3. Control tables: at `samples` times the on-site energies ε_j = V(x_j, λ) + 2J (band bottom of the uniform
+ *    lattice at V), the nearest-neighbour elements −J + i b_j and the next-nearest i q (lattice/operators.ts),
+ *    as amplitude and phase per bond.
+ * 4. Verification: the tight-binding Schrödinger equation for the CD and bare drives (lattice/propagate.ts),
+ *    fidelities of the lowest states, and a study of the infidelity against sites per soliton width at the same
+ *    m* (J scaled as 1/d²), with the coarsest lattice that meets the target. The continuum reference is exact for
+ *    CD (physics.md §1); a caller can pass `opts.continuum` (e.g. src/quantum's verifySequence on the job's own
+ *    m* design) to get lattice-minus-continuum differences for both drives.
+ *
+ * Config section (in the same file as `compare`):
+ *
+ *   lattice:
+ *     spacing_um: 0.532          # lab: lattice spacing d in µm          } exactly one (lab)
+ *     wavelength_nm: 1064        # lab: lattice light, d = λ/2           }
+ *     spacing: 0.25              # natural units only: d in ℓ (then J = E₀ℓ²/d² is implied)
+ *     tunnelling_hz: 120         # lab: J in h·Hz                        } exactly one (lab)
+ *     depth_recoil: 8            # lab: V₀ in E_R (J from the estimate)  }
+ *     tunnelling_source: estimate  # with depth_recoil: estimate (Zwerger 2003) or band (Mathieu band width / 4)
+ *     sites_per_width: [3, 4, 6, 8]  # convergence study (sites per width 1/κ of the narrowest soliton); [] skips
+ *     target_infidelity: 1e-4    # the recommended lattice keeps 1 − F_CD of every state below this
+ *     samples: 21                # time samples of the control tables
+ *     states: …                  # propagated states (default: the bound states, at most 6)
+ *     tolerance: 1e-4            # local error per unit time of the lattice propagation (amplitude; the
+ *                                #   fidelities move by ~1e-9 against 1e-5)
+ *
+ * Cost: the cubic CD term has a spectral radius ≈ 10.4 λ′/d³ (natural units), so the Krylov work of one
+ * propagation grows like sites × λ_end/d³ (independent of the duration); `predictedWork` budgets it and lattices
+ * above MAX_SITE_PRODUCTS are skipped (study) or refused (the configured lattice).
+ */
+import { readFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { parseDocument } from 'yaml';
+import { z } from 'zod';
+import { parseConfigWith, strictSection, type ConfigMeta, type UnitsConfig } from '../io/config.ts';
+import { writeCsv } from '../io/csv.ts';
+import { UserError } from '../io/errors.ts';
+import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { encodeNpy } from '../io/npy.ts';
+import { lowestBand, MAX_DEPTH_RECOIL, tunnellingEstimate } from '../lattice/bands.ts';
+import { tridiagonalLowest } from '../lattice/linalg.ts';
+import { applyTerms, cdTerms, emptyTerms, nearestCoupling, nextNearestCoupling, type LatticeTerms } from '../lattice/operators.ts';
+import { complexOf, LatticePropagator, overlap2 } from '../lattice/propagate.ts';
+import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
+import { makeRamp, type Ramp } from '../quantum/ramp.ts';
+import { ATOMIC_MASS_CONSTANT, HBAR, PLANCK_H } from '../units/constants.ts';
+import { compareConfigSchema } from './compare.ts';
+import { runDesign, toJson, type DesignResult } from './design.ts';
+
+/** default sites per soliton width of the convergence study (infidelity ∝ (sites)^−4: 3 → 8 spans ~2 decades) */
+export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
+export const DEFAULT_TARGET_INFIDELITY = 1e-4;
+/** at most this many propagated states by default (each costs one propagation per drive and lattice) */
+export const DEFAULT_MAX_STATES = 6;
+/** lattices larger than this are refused (memory and run time grow as sites × (sites/width)³) */
+export const MAX_SITES = 20000;
+/** lattice propagations predicted to cost more than this many site·products are skipped (≈ 2·10⁷ per second on
+ * one core, measured: about a minute and a quarter) */
+export const MAX_SITE_PRODUCTS = 1.5e9;
+/** products per unit of ∫‖H‖ds per state and drive, plus a fixed overhead (measured: 5–14 per unit on the wide
+ * two-soliton split at 3–6 sites per width, ≈ 13 on the ⁸⁷Rb split at 3 sites per width; rounded up) */
+const WORK_PER_NORM = 15;
+const WORK_OFFSET = 1000;
+/** largest |symbol| of the lattice k³, (2 sin x − sin 2x) at x = 2π/3, times 4: 4 · 3√3/2 */
+const CUBIC_SYMBOL_MAX = 6 * Math.sqrt(3);
+
+/**
+ * Predicted Lanczos products × sites of one lattice verification (states × {CD, bare}): the Krylov cost of
+ * exp(−iHΔ) grows with ‖H‖Δ, and ∫‖H‖ds ≈ (4/h² + max|u|)·T + 4·(3√3/2)·λ_end/h³ (the cubic part depends on the
+ * distance in λ only, not on the duration).
+ */
+export function predictedWork(sites: number, h: number, duration: number, lambdaEnd: number, uMax: number, states: number): number {
+  const normIntegral = (4 / (h * h) + uMax) * duration + (CUBIC_SYMBOL_MAX * Math.abs(lambdaEnd)) / (h * h * h);
+  return 2 * states * WORK_PER_NORM * (normIntegral + WORK_OFFSET) * sites;
+}
+
+/** the Zwerger estimate is flagged when it differs from the band-structure J by more than this (common practice) */
+export const ESTIMATE_WARNING = 0.05;
+/** Hermiticity defects above this (relative, random-vector test) are an internal error */
+export const HERMITICITY_LIMIT = 1e-12;
+
+export const LATTICE_FILES = [
+  'lattice.json',
+  'bonds.csv',
+  'sites.npy',
+  'times.npy',
+  'onsite.npy',
+  'nn_amplitude.npy',
+  'nn_phase.npy',
+  'nnn_amplitude.npy',
+  'nnn_phase.npy',
+] as const;
+
+const pos = (what: string) =>
+  z.number({ error: `must be a number > 0 (${what})` }).refine((v) => Number.isFinite(v) && v > 0, { error: `must be a number > 0 (${what})` });
+const intRange = (lo: number, hi: number) => {
+  const rule = `must be an integer from ${lo} to ${hi}`;
+  return z.number({ error: rule }).refine((v) => Number.isInteger(v) && v >= lo && v <= hi, { error: rule });
+};
+const sitesRule = 'must be a list of distinct numbers ≥ 1 (sites per width of the narrowest soliton); [] skips the study';
+
+export const latticeSectionSchema = strictSection(
+  {
+    spacing_um: pos('lattice spacing d in µm; lab units').optional(),
+    wavelength_nm: pos('wavelength of the lattice light in nm, d = λ/2; lab units').optional(),
+    spacing: pos('lattice spacing d in ℓ; natural units').optional(),
+    tunnelling_hz: pos('tunnelling J in h·Hz; lab units').optional(),
+    depth_recoil: z
+      .number({ error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units)` })
+      .refine((v) => v > 0 && v <= MAX_DEPTH_RECOIL, { error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units; deeper bands are narrower than double-precision round-off)` })
+      .optional(),
+    tunnelling_source: z.enum(['estimate', 'band'], { error: 'must be one of estimate, band' }).optional(),
+    sites_per_width: z
+      .array(z.number({ error: sitesRule }).refine((v) => Number.isFinite(v) && v >= 1, { error: sitesRule }), { error: sitesRule })
+      .refine((v) => new Set(v).size === v.length, { error: sitesRule })
+      .default([...DEFAULT_SITES_PER_WIDTH]),
+    target_infidelity: z
+      .number({ error: 'must be a number in (0, 0.5)' })
+      .refine((v) => v > 0 && v < 0.5, { error: 'must be a number in (0, 0.5)' })
+      .default(DEFAULT_TARGET_INFIDELITY),
+    samples: intRange(2, 2001).default(21),
+    states: intRange(1, 50).optional(),
+    tolerance: z
+      .number({ error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
+      .refine((v) => v > 0 && v <= 1e-2, { error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
+      .default(1e-4),
+  },
+  'lattice',
+);
+
+export type LatticeSection = z.output<typeof latticeSectionSchema>;
+
+export const latticeConfigSchema = compareConfigSchema.extend({ lattice: latticeSectionSchema.optional() }).superRefine((c, ctx) => {
+  const l = c.lattice;
+  if (!l) return;
+  const lab = c.units.system === 'lab';
+  const issue = (key: string, message: string) => ctx.addIssue({ code: 'custom', path: ['lattice', key], message });
+  if (lab) {
+    if (l.spacing !== undefined) issue('spacing', 'only allowed with units.system: natural; in lab units give spacing_um or wavelength_nm');
+    if ((l.spacing_um === undefined) === (l.wavelength_nm === undefined)) {
+      issue(l.spacing_um === undefined ? 'spacing_um' : 'wavelength_nm', 'give exactly one of lattice.spacing_um (d in µm) and lattice.wavelength_nm (d = λ/2)');
+    }
+    if ((l.tunnelling_hz === undefined) === (l.depth_recoil === undefined)) {
+      issue(l.tunnelling_hz === undefined ? 'tunnelling_hz' : 'depth_recoil', 'give exactly one of lattice.tunnelling_hz (J in h·Hz) and lattice.depth_recoil (V₀ in E_R)');
+    }
+    if (l.tunnelling_source !== undefined && l.depth_recoil === undefined) issue('tunnelling_source', 'only allowed with lattice.depth_recoil');
+  } else {
+    if (l.spacing === undefined) issue('spacing', 'required with units.system: natural: the lattice spacing d in ℓ (J = E₀ℓ²/d² follows from the effective mass)');
+    for (const key of ['spacing_um', 'wavelength_nm', 'tunnelling_hz', 'depth_recoil', 'tunnelling_source'] as const) {
+      if (l[key] !== undefined) issue(key, 'only allowed with units.system: lab (natural units carry no mass or lab lengths)');
+    }
+  }
+});
+
+export type LatticeConfig = z.output<typeof latticeConfigSchema> & { readonly meta: ConfigMeta };
+
+/** Parse YAML text of a config that may hold `compare` and `lattice` sections. */
+export function parseLatticeConfig(text: string, sourceName: string, baseDir: string): LatticeConfig {
+  const doc = parseDocument(text);
+  if (doc.errors.length > 0) {
+    const lines = doc.errors.map((e) => {
+      const p = e.linePos?.[0];
+      const where = p ? `${sourceName}:${p.line}:${p.col}` : sourceName;
+      return `${where}: YAML syntax error: ${e.message.split(/ at line \d+, column \d+/)[0].split('\n')[0]}`;
+    });
+    throw new UserError(lines.join('\n'));
+  }
+  return parseConfigWith(latticeConfigSchema, doc.toJS(), sourceName, baseDir);
+}
+
+/** Read and validate a config file for `lattice`. */
+export function loadLatticeConfig(path: string): LatticeConfig {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
+  }
+  return parseLatticeConfig(text, path, dirname(resolve(path)));
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// lattice parameters
+
+export interface LatticeParameters {
+  system: 'natural' | 'lab';
+  /** spacing d: µm (lab) or ℓ (natural) */
+  spacing: number;
+  /** spacing in the natural length ℓ */
+  h: number;
+  /** J in h·Hz (lab); in E₀ (natural: 1/h²) */
+  tunnelling: number;
+  tunnellingSource: 'given' | 'estimate' | 'band' | 'implied';
+  /** depth data when depth_recoil was given */
+  depth: null | {
+    s: number;
+    recoil_hz: number;
+    estimate_hz: number;
+    band_hz: number;
+    relative_difference: number;
+    band_mass_ratio: number;
+    band_bottom_recoil: number;
+    band_top_recoil: number;
+  };
+  /** m* and the atomic mass in u (lab; null natural) */
+  massStarU: number | null;
+  massU: number | null;
+  warnings: string[];
+}
+
+/** d, J and m* from the lattice section (see the module doc) */
+export function latticeParameters(config: LatticeConfig): LatticeParameters {
+  const l = config.lattice;
+  if (!l) throw new UserError(`${config.meta.source}: the config has no lattice section: add lattice: {spacing_um | wavelength_nm, tunnelling_hz | depth_recoil, …}`);
+  const warnings: string[] = [];
+  const units = config.units;
+  if (units.system === 'natural') {
+    const h = l.spacing as number;
+    return { system: 'natural', spacing: h, h, tunnelling: 1 / (h * h), tunnellingSource: 'implied', depth: null, massStarU: null, massU: null, warnings };
+  }
+  const dUm = l.spacing_um ?? (l.wavelength_nm as number) / 2000;
+  const dM = dUm * 1e-6;
+  const massKg = units.mass_u * ATOMIC_MASS_CONSTANT;
+  let jHz: number;
+  let source: LatticeParameters['tunnellingSource'] = 'given';
+  let depth: LatticeParameters['depth'] = null;
+  if (l.tunnelling_hz !== undefined) {
+    jHz = l.tunnelling_hz;
+  } else {
+    const s = l.depth_recoil as number;
+    const kL = Math.PI / dM;
+    const erHz = (HBAR * HBAR * kL * kL) / (2 * massKg) / PLANCK_H;
+    const band = lowestBand(s);
+    const estimateHz = tunnellingEstimate(s) * erHz;
+    const bandHz = band.tunnelling * erHz;
+    const rel = estimateHz / bandHz - 1;
+    source = l.tunnelling_source ?? 'estimate';
+    jHz = source === 'estimate' ? estimateHz : bandHz;
+    depth = {
+      s,
+      recoil_hz: erHz,
+      estimate_hz: estimateHz,
+      band_hz: bandHz,
+      relative_difference: rel,
+      band_mass_ratio: band.massRatioAtBottom,
+      band_bottom_recoil: band.bottom,
+      band_top_recoil: band.top,
+    };
+    if (source === 'estimate' && Math.abs(rel) > ESTIMATE_WARNING) {
+      warnings.push(
+        `the deep-lattice estimate J = ${estimateHz.toPrecision(4)} h·Hz (Zwerger 2003, an approximation) differs by ${(100 * rel).toFixed(1)} % from the band-structure value ` +
+          `${bandHz.toPrecision(4)} h·Hz at s = ${s}: it is accurate only for deep lattices (the error falls like 0.44/√s); set lattice.tunnelling_source: band to use the band value`,
+      );
+    }
+  }
+  const jJ = jHz * PLANCK_H;
+  const mStar = (HBAR * HBAR) / (2 * jJ * dM * dM);
+  return {
+    system: 'lab',
+    spacing: dUm,
+    h: dUm / units.length_unit_um,
+    tunnelling: jHz,
+    tunnellingSource: source,
+    depth,
+    massStarU: mStar / ATOMIC_MASS_CONSTANT,
+    massU: units.mass_u,
+    warnings,
+  };
+}
+
+/** the config with the atomic mass replaced by m* (lab); natural configs are returned unchanged */
+export function effectiveMassConfig(config: LatticeConfig, params: LatticeParameters): LatticeConfig {
+  if (config.units.system === 'natural' || params.massStarU === null) return config;
+  const units: UnitsConfig = {
+    ...config.units,
+    species: 'custom',
+    mass_u: params.massStarU,
+    label: `${config.units.label} in the lowest lattice band (m* = ${params.massStarU.toPrecision(5)} u)`,
+  };
+  return { ...config, units };
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// verification on one lattice
+
+export interface LatticeRun {
+  h: number;
+  sites: number;
+  sitesPerWidth: number;
+  energiesStart: number[];
+  energiesEnd: number[];
+  fidelityCd: number[];
+  fidelityBare: number[];
+  maxInfidelityCd: number;
+  stepsCd: number;
+  stepsBare: number;
+  matvecs: number;
+  seconds: number;
+}
+
+/** lowest eigenpairs of the lattice H at λ (τ′ = 0: real symmetric tridiagonal) */
+function lowestLatticeStates(seq: LatticeSequence, lambda: number, h: number, count: number): { values: Float64Array; vectors: Float64Array[] } {
+  const M = seq.sites.length;
+  const u = seq.at(lambda, new Float64Array(M));
+  const d = u.map((v) => v + 2 / (h * h));
+  const e = new Float64Array(M).fill(-1 / (h * h));
+  return tridiagonalLowest(d, e, count);
+}
+
+/** propagate the lowest `count` states of the lattice for the CD (σ = 1) and bare (σ = 0) drives */
+export function verifyOnLattice(seq: LatticeSequence, h: number, ramp: Ramp, count: number, tol: number, width: number, onStep?: (f: number) => void): LatticeRun {
+  const start = performance.now();
+  const g0 = lowestLatticeStates(seq, ramp.value(0), h, count);
+  const g1 = lowestLatticeStates(seq, ramp.value(ramp.duration), h, count);
+  const fid: Record<number, number[]> = {};
+  const steps: Record<number, number> = {};
+  let matvecs = 0;
+  for (const sigma of [1, 0]) {
+    const prop = new LatticePropagator({ sequence: seq, ramp, sigma, h });
+    const states = g0.vectors.map(complexOf);
+    const stats = prop.run(states, 0, ramp.duration, tol, onStep ? (s) => onStep((sigma === 1 ? 0 : 0.5) + (0.5 * s) / ramp.duration) : undefined);
+    fid[sigma] = states.map((v, i) => overlap2(complexOf(g1.vectors[i]), v));
+    steps[sigma] = stats.accepted;
+    matvecs += stats.matvecs;
+  }
+  return {
+    h,
+    sites: seq.sites.length,
+    sitesPerWidth: width / h,
+    energiesStart: Array.from(g0.values),
+    energiesEnd: Array.from(g1.values),
+    fidelityCd: fid[1],
+    fidelityBare: fid[0],
+    maxInfidelityCd: Math.max(...fid[1].map((f) => 1 - f)),
+    stepsCd: steps[1],
+    stepsBare: steps[0],
+    matvecs,
+    seconds: (performance.now() - start) / 1000,
+  };
+}
+
+/** max over a few random vectors of |⟨x,Hy⟩ − conj⟨y,Hx⟩| / (‖H‖-scale): a cheap Hermiticity check of the product */
+export function hermiticityCheck(t: LatticeTerms, vectors = 3): number {
+  const M = t.sites;
+  const x = new Float64Array(2 * M), y = new Float64Array(2 * M), hx = new Float64Array(2 * M), hy = new Float64Array(2 * M);
+  let state = 12345;
+  const rnd = () => {
+    state = (state * 16807) % 2147483647; // Park–Miller minimal standard generator (exact in doubles)
+    return state / 2147483647 - 0.5;
+  };
+  let worst = 0;
+  for (let v = 0; v < vectors; v++) {
+    for (let i = 0; i < 2 * M; i++) {
+      x[i] = rnd();
+      y[i] = rnd();
+    }
+    applyTerms(t, x, hx);
+    applyTerms(t, y, hy);
+    let ar = 0, ai = 0, br = 0, bi = 0, scale = 0;
+    for (let i = 0; i < 2 * M; i += 2) {
+      ar += x[i] * hy[i] + x[i + 1] * hy[i + 1];
+      ai += x[i] * hy[i + 1] - x[i + 1] * hy[i];
+      br += y[i] * hx[i] + y[i + 1] * hx[i + 1];
+      bi += y[i] * hx[i + 1] - y[i + 1] * hx[i];
+      scale += Math.hypot(x[i], x[i + 1]) * Math.hypot(hy[i], hy[i + 1]) + Math.hypot(y[i], y[i + 1]) * Math.hypot(hx[i], hx[i + 1]);
+    }
+    worst = Math.max(worst, Math.hypot(ar - br, ai + bi) / scale);
+  }
+  return worst;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// the job
+
+export interface LatticeProgress {
+  stage: 'design' | 'tables' | 'verify' | 'study';
+  /** fraction of the stage done, 0 … 1 */
+  fraction: number;
+  detail?: string;
+}
+
+export interface LatticeOptions {
+  onProgress?: (p: LatticeProgress) => void;
+  /**
+   * continuum reference: called with the job's own m* design; returns the continuum fidelities of the lowest
+   * `states` states (CD and bare), e.g. from the Schrödinger verification in src/quantum. The study then reports
+   * lattice-minus-continuum differences. Without it the continuum CD fidelity is taken as exact (physics.md §1).
+   */
+  continuum?: (input: ContinuumInput) => { cd: number[]; bare: number[] };
+}
+
+export interface ContinuumInput {
+  design: DesignResult;
+  /** u(·, λ) on the design grid (natural units of m*) */
+  potential: (lambda: number, out: Float64Array) => void;
+  ramp: Ramp['kind'];
+  /** natural units of m* (t₀) */
+  duration: number;
+  lambdaEnd: number;
+  states: number;
+}
+
+export interface LatticeTables {
+  /** site positions (user length unit) */
+  sites: Float64Array;
+  /** sample times (ms lab, t₀ natural) */
+  times: Float64Array;
+  /** [samples × M] on-site energies, [samples × (M−1)] NN and [samples × (M−2)] NNN amplitudes (h·Hz lab, E₀
+   * natural) and phases (rad) of H_jj′ = A e^{iφ}, j′ > j */
+  onsite: Float64Array;
+  nnAmplitude: Float64Array;
+  nnPhase: Float64Array;
+  nnnAmplitude: Float64Array;
+  nnnPhase: Float64Array;
+}
+
+export interface LatticeStudyRow {
+  sites_per_width: number;
+  spacing: number;
+  tunnelling: number;
+  sites: number;
+  infidelity_cd_max: number;
+  infidelity_cd: number[];
+  fidelity_bare: number[];
+  /** lattice minus continuum fidelities (when the caller supplied continuum values), else null */
+  difference_cd: number[] | null;
+  difference_bare: number[] | null;
+  seconds: number;
+}
+
+/** below this observed order of the infidelity in the spacing the study is not converging and nothing is
+ * extrapolated from it (the expected order is 4: O(d²) amplitude errors, squared) */
+export const MIN_TRUSTED_ORDER = 1;
+
+export interface LatticeSummary {
+  name: string;
+  format: 'isotrap-lattice/1';
+  units: {
+    length: string;
+    energy: string;
+    time: string;
+    phase: 'rad';
+    mass: 'u';
+    note: string;
+  };
+  /** the unit of every numeric field, by dotted path ("[]" marks list entries) */
+  field_units: Record<string, string>;
+  lattice: {
+    spacing: number;
+    spacing_natural_l: number;
+    tunnelling: number;
+    tunnelling_source: string;
+    band_width_4J: number;
+    sites: number;
+    depth: LatticeParameters['depth'];
+  };
+  mass: { atomic_u: number | null; effective_u: number | null; ratio_effective_to_atomic: number | null };
+  scales: { E0_hz: number | null; t0_ms: number | null; ell_um: number | null; J_over_E0: number };
+  delta2: { with_effective_mass: number; with_atomic_mass: number | null; meaning: string };
+  soliton_width: { value: number; natural_l: number; sites_per_width: number; definition: string };
+  couplings: {
+    largest_peierls_nn: number;
+    largest_peierls_nnn: number;
+    largest_cd_coupling: number;
+    fraction_of_band_width: number;
+    largest_nn_amplitude: number;
+    onsite_range: [number, number];
+    hermiticity_defect_max: number;
+    convention: string;
+  };
+  verification: {
+    states: number;
+    energies_start: number[];
+    energies_end: number[];
+    continuum_energies_start: number[];
+    isospectral_drift_max: number;
+    fidelity_cd: number[];
+    fidelity_bare: number[];
+    /** continuum fidelities from opts.continuum (null: not supplied) */
+    continuum_fidelity_cd: number[] | null;
+    continuum_fidelity_bare: number[] | null;
+    infidelity_cd_max: number;
+    meets_target: boolean;
+    steps_cd: number;
+    steps_bare: number;
+    seconds: number;
+    method: string;
+  };
+  study: {
+    target_infidelity: number;
+    rows: LatticeStudyRow[];
+    observed_order: number | null;
+    recommended: null | { sites_per_width: number; spacing: number; tunnelling: number; basis: string };
+    /** alternative at the configured d: widen the trap by this factor (KdV scaling u → ε²u(εξ, ε³τ), ε = 1/factor:
+     * depths ÷ factor², λ_end × factor³, duration × factor²); null when the configured lattice already suffices */
+    widen_trap_by: number | null;
+    note: string;
+  };
+  protocol: { duration: number; ramp: string; lambda_end: number };
+  warnings: string[];
+}
+
+export interface LatticeResult {
+  summary: LatticeSummary;
+  tables: LatticeTables;
+}
+
+/** units of the numeric fields of LatticeSummary (E = the energy unit, L = length, T = time) */
+function fieldUnits(L: string, E: string, T: string): Record<string, string> {
+  const none = 'dimensionless';
+  return {
+    'lattice.spacing': L,
+    'lattice.spacing_natural_l': 'ℓ',
+    'lattice.tunnelling': E,
+    'lattice.band_width_4J': E,
+    'lattice.sites': 'count',
+    'lattice.depth.s': 'E_R',
+    'lattice.depth.recoil_hz': 'h·Hz',
+    'lattice.depth.estimate_hz': 'h·Hz',
+    'lattice.depth.band_hz': 'h·Hz',
+    'lattice.depth.relative_difference': none,
+    'lattice.depth.band_mass_ratio': 'atomic mass (band-curvature m* ÷ m)',
+    'lattice.depth.band_bottom_recoil': 'E_R',
+    'lattice.depth.band_top_recoil': 'E_R',
+    'mass.atomic_u': 'u',
+    'mass.effective_u': 'u',
+    'mass.ratio_effective_to_atomic': none,
+    'scales.E0_hz': 'h·Hz',
+    'scales.t0_ms': 'ms',
+    'scales.ell_um': 'µm',
+    'scales.J_over_E0': none,
+    'delta2.*': none,
+    'soliton_width.value': L,
+    'soliton_width.natural_l': 'ℓ',
+    'soliton_width.sites_per_width': none,
+    'couplings.largest_*': E,
+    'couplings.fraction_of_band_width': none,
+    'couplings.onsite_range[]': E,
+    'couplings.hermiticity_defect_max': 'relative',
+    'verification.energies_*[]': E,
+    'verification.continuum_energies_start[]': E,
+    'verification.isospectral_drift_max': E,
+    'verification.fidelity_*[]': none,
+    'verification.continuum_fidelity_*[]': none,
+    'verification.infidelity_cd_max': none,
+    'verification.steps_*': 'count',
+    'verification.seconds': 's (wall time)',
+    'study.target_infidelity': none,
+    'study.rows[].sites_per_width': none,
+    'study.rows[].spacing': L,
+    'study.rows[].tunnelling': E,
+    'study.rows[].sites': 'count',
+    'study.rows[].infidelity_cd*': none,
+    'study.rows[].fidelity_bare[]': none,
+    'study.rows[].difference_*[]': none,
+    'study.rows[].seconds': 's (wall time)',
+    'study.observed_order': 'power of the spacing',
+    'study.recommended.sites_per_width': none,
+    'study.recommended.spacing': L,
+    'study.recommended.tunnelling': E,
+    'study.widen_trap_by': none,
+    'protocol.duration': T,
+    'protocol.lambda_end': 'dimensionless KdV time',
+  };
+}
+
+/** the narrowest soliton width 1/κ_max (κ² = −E of the deepest bound state), capped by the initial well width */
+function solitonWidth(design: DesignResult): number {
+  const e = design.bound.energies;
+  const kMax = e.length > 0 ? Math.sqrt(-Math.min(...e)) : NaN;
+  const w = Number.isFinite(kMax) && kMax > 0 ? 1 / kMax : Infinity;
+  const wc = Number.isFinite(design.ctx.width) ? design.ctx.width : Infinity;
+  const out = Math.min(w, wc);
+  if (!Number.isFinite(out)) throw new UserError('the designed potential has no bound state, so it has no soliton width to resolve on the lattice');
+  return out;
+}
+
+/**
+ * Run the lattice job (see the module doc). Throws UserError for configs it cannot serve (no lattice or protocol
+ * section, a broken flow, a lattice that is too large).
+ */
+export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): LatticeResult {
+  const params = latticeParameters(config);
+  const progress = opts.onProgress ?? (() => {});
+  const l = config.lattice as LatticeSection;
+  if (!config.protocol) throw new UserError(`${config.meta.source}: protocol is missing: the lattice verification needs protocol.duration (and ramp)`);
+  const starConfig = effectiveMassConfig(config, params);
+  const design = runDesign(starConfig, { onProgress: (x, end) => progress({ stage: 'design', fraction: x / end }) });
+  if (design.run.breaking) throw new UserError(`the designed flow broke at λ = ${design.run.breaking.lambdaReached}: a broken sequence cannot be put on a lattice (${design.run.breaking.reason})`);
+  const { ctx } = design;
+  const { units, grid } = ctx;
+  const warnings = [...params.warnings, ...design.warnings];
+  const lab = units.system === 'lab';
+  const hz = (e: number) => (lab ? (e * units.E0) / PLANCK_H : e);
+  const energyLabel = lab ? 'h·Hz' : 'E₀';
+  const h = params.h;
+  const lambdaEnd = design.run.lambdas[design.run.lambdas.length - 1];
+  const duration = units.timeToNatural(config.protocol.duration);
+  const ramp = makeRamp(config.protocol.ramp, duration, lambdaEnd);
+  if (!ramp.endSlopeZero) warnings.push(`ramp ${ramp.kind} has λ′ ≠ 0 at the ends: the CD couplings do not vanish there, so H_CD ≠ H at the start and the end`);
+  const width = solitonWidth(design);
+
+  const makeSites = (spacing: number): Float64Array => {
+    const sites = chainSites(grid.length, spacing);
+    if (sites.length < 8) throw new UserError(`lattice spacing ${spacing} ℓ leaves only ${sites.length} sites in the box of ${grid.length} ℓ: at least 8 are needed`);
+    if (sites.length > MAX_SITES) throw new UserError(`lattice spacing ${spacing} ℓ gives ${sites.length} sites in the box (more than ${MAX_SITES}): choose a larger spacing or a smaller box`);
+    return sites;
+  };
+  const sites = makeSites(h);
+  const M = sites.length;
+  const seq = LatticeSequence.fromDense(grid, design.run.dense, sites);
+
+  // control tables
+  const S = l.samples;
+  const times = new Float64Array(S);
+  const onsite = new Float64Array(S * M);
+  const nnA = new Float64Array(S * (M - 1)), nnP = new Float64Array(S * (M - 1));
+  const nnnA = new Float64Array(S * (M - 2)), nnnP = new Float64Array(S * (M - 2));
+  const terms = emptyTerms(M, h);
+  const u = new Float64Array(M);
+  let maxNn = 0, maxNnn = 0, maxAmp = 0, herm = 0;
+  let onMin = Infinity, onMax = -Infinity;
+  for (let i = 0; i < S; i++) {
+    const s = (duration * i) / (S - 1);
+    times[i] = units.timeFromNatural(s);
+    seq.at(ramp.value(s), u);
+    cdTerms(u, ramp.rate(s), 1, terms);
+    herm = Math.max(herm, hermiticityCheck(terms));
+    for (let j = 0; j < M; j++) {
+      const e = hz(u[j] + 2 / (h * h));
+      onsite[i * M + j] = e;
+      onMin = Math.min(onMin, e);
+      onMax = Math.max(onMax, e);
+    }
+    for (let j = 0; j < M - 1; j++) {
+      const c = nearestCoupling(terms, j);
+      nnA[i * (M - 1) + j] = hz(c.amplitude);
+      nnP[i * (M - 1) + j] = c.phase;
+      maxNn = Math.max(maxNn, Math.abs(terms.bond[j]));
+      maxAmp = Math.max(maxAmp, c.amplitude);
+    }
+    const c2 = nextNearestCoupling(terms);
+    for (let j = 0; j < M - 2; j++) {
+      nnnA[i * (M - 2) + j] = hz(c2.amplitude);
+      nnnP[i * (M - 2) + j] = c2.phase;
+    }
+    maxNnn = Math.max(maxNnn, Math.abs(terms.nnn));
+    progress({ stage: 'tables', fraction: (i + 1) / S });
+  }
+  const bandWidth = 4 / (h * h);
+  const cdFraction = Math.max(maxNn, maxNnn) / bandWidth;
+  if (cdFraction > 1) {
+    warnings.push(
+      `the largest CD coupling is ${cdFraction.toFixed(2)} × the band width 4J: the Peierls couplings grow like λ̇/d³ against J ∝ 1/d², ` +
+        'so a lab must realise tunnelling amplitudes larger than J; a longer protocol.duration lowers them in proportion',
+    );
+  }
+  if (herm > HERMITICITY_LIMIT) throw new Error(`internal error: a lattice Hamiltonian failed the Hermiticity check (${herm})`);
+
+  // verification on the configured lattice
+  const lowest0 = lowestLatticeStates(seq, 0, h, Math.min(M, 64));
+  const threshold = -(((2 * Math.PI) / grid.length) ** 2);
+  const bound = Array.from(lowest0.values).filter((e) => e < threshold).length;
+  const count = Math.max(1, Math.min(l.states ?? config.verify?.states ?? Math.min(bound, DEFAULT_MAX_STATES), M));
+  if (bound === 0) warnings.push('the lattice H(0) has no bound state below the box threshold −(2π/L)²: the fidelities refer to box states');
+  let uMax = 0;
+  for (const v of design.run.frames) for (const x of v) uMax = Math.max(uMax, Math.abs(x));
+  const work = (sitesN: number, hn: number) => predictedWork(sitesN, hn, duration, lambdaEnd, uMax, count);
+  if (work(M, h) > MAX_SITE_PRODUCTS) {
+    throw new UserError(
+      `lattice verification of ${M} sites at ${(width / h).toFixed(1)} sites per width would need about ${work(M, h).toExponential(1)} site·products ` +
+        `(limit ${MAX_SITE_PRODUCTS.toExponential(1)}, about two minutes): the cubic CD term makes the cost grow like λ_end/d³; use a larger lattice spacing, a smaller box or fewer states`,
+    );
+  }
+  const main = verifyOnLattice(seq, h, ramp, count, l.tolerance, width, (f) => progress({ stage: 'verify', fraction: f }));
+  const drift = Math.max(...main.energiesStart.map((e, i) => Math.abs(main.energiesEnd[i] - e)));
+
+  const cont = opts.continuum
+    ? opts.continuum({ design, potential: (lam, out) => void design.run.dense.at(lam, out), ramp: ramp.kind, duration, lambdaEnd, states: count })
+    : null;
+
+  // convergence study at the same m*
+  const rows: LatticeStudyRow[] = [];
+  const spw = [...l.sites_per_width].sort((a, b) => a - b);
+  spw.forEach((n, idx) => {
+    const hn = width / n;
+    let sitesN: Float64Array;
+    try {
+      sitesN = makeSites(hn);
+    } catch (err) {
+      if (err instanceof UserError) {
+        warnings.push(`study: ${n} sites per width skipped: ${err.message}`);
+        return;
+      }
+      throw err;
+    }
+    if (work(sitesN.length, hn) > MAX_SITE_PRODUCTS) {
+      warnings.push(`study: ${n} sites per width skipped: about ${work(sitesN.length, hn).toExponential(1)} site·products predicted (limit ${MAX_SITE_PRODUCTS.toExponential(1)})`);
+      return;
+    }
+    const seqN = LatticeSequence.fromDense(grid, design.run.dense, sitesN);
+    const r = verifyOnLattice(seqN, hn, ramp, count, l.tolerance, width, (f) => progress({ stage: 'study', fraction: (idx + f) / spw.length, detail: `${n} sites per width` }));
+    rows.push({
+      sites_per_width: n,
+      spacing: lab ? hn * (units.ell * 1e6) : hn,
+      tunnelling: hz(1 / (hn * hn)),
+      sites: sitesN.length,
+      infidelity_cd_max: r.maxInfidelityCd,
+      infidelity_cd: r.fidelityCd.map((f) => 1 - f),
+      fidelity_bare: r.fidelityBare,
+      difference_cd: cont ? r.fidelityCd.map((f, i) => f - (cont.cd[i] ?? NaN)) : null,
+      difference_bare: cont ? r.fidelityBare.map((f, i) => f - (cont.bare[i] ?? NaN)) : null,
+      seconds: r.seconds,
+    });
+  });
+  let order: number | null = null;
+  if (rows.length >= 2) {
+    const a = rows[rows.length - 2], b = rows[rows.length - 1];
+    if (a.infidelity_cd_max > 0 && b.infidelity_cd_max > 0) order = Math.log(a.infidelity_cd_max / b.infidelity_cd_max) / Math.log(b.sites_per_width / a.sites_per_width);
+  }
+  const ok = rows.find((r) => r.infidelity_cd_max < l.target_infidelity);
+  let recommended: LatticeSummary['study']['recommended'] = null;
+  if (ok) {
+    recommended = { sites_per_width: ok.sites_per_width, spacing: ok.spacing, tunnelling: ok.tunnelling, basis: 'coarsest studied lattice whose CD infidelity (every state) is below the target' };
+  } else if (rows.length >= 2 && order !== null && order < MIN_TRUSTED_ORDER) {
+    warnings.push(
+      `no studied lattice met the target infidelity ${l.target_infidelity}, and the infidelity falls only as d^${order.toFixed(2)} over the study ` +
+        '(not converging: e.g. continuum states reflecting from the ends of the open chain): no spacing is recommended; track bound states only (lattice.states) or refine the study',
+    );
+  } else if (rows.length >= 2 && order !== null && order > 0) {
+    const f = rows[rows.length - 1];
+    const n = f.sites_per_width * Math.pow(f.infidelity_cd_max / l.target_infidelity, 1 / order);
+    const hn = width / n;
+    recommended = { sites_per_width: n, spacing: lab ? hn * units.ell * 1e6 : hn, tunnelling: hz(1 / (hn * hn)), basis: `extrapolated with the observed order ${order.toFixed(2)} from the finest studied lattice (not simulated)` };
+    warnings.push(`no studied lattice met the target infidelity ${l.target_infidelity}; the recommendation is extrapolated`);
+  }
+  if (main.maxInfidelityCd >= l.target_infidelity) {
+    warnings.push(`the configured lattice (${(width / h).toFixed(2)} sites per width) misses the target: CD infidelity ${main.maxInfidelityCd.toExponential(2)} ≥ ${l.target_infidelity}`);
+  }
+
+  const lengthLabel = units.labels.length;
+  const timeLabel = units.labels.time;
+  const summary: LatticeSummary = {
+    name: config.name,
+    format: 'isotrap-lattice/1',
+    units: {
+      length: lengthLabel,
+      energy: energyLabel,
+      time: timeLabel,
+      phase: 'rad',
+      mass: 'u',
+      note: lab
+        ? 'energies and couplings in h·Hz (E/h), lengths in µm, times in ms'
+        : 'natural units of the lattice effective mass: lengths in ℓ, energies in E₀ = ħ²/(2m*ℓ²), times in t₀ = ħ/E₀',
+    },
+    field_units: fieldUnits(lengthLabel, energyLabel, timeLabel),
+    lattice: {
+      spacing: params.spacing,
+      spacing_natural_l: h,
+      tunnelling: hz(1 / (h * h)),
+      tunnelling_source: params.tunnellingSource,
+      band_width_4J: hz(bandWidth),
+      sites: M,
+      depth: params.depth,
+    },
+    mass: {
+      atomic_u: params.massU,
+      effective_u: params.massStarU,
+      ratio_effective_to_atomic: params.massU !== null && params.massStarU !== null ? params.massStarU / params.massU : null,
+    },
+    scales: {
+      E0_hz: lab ? units.E0 / PLANCK_H : null,
+      t0_ms: lab ? units.t0 * 1e3 : null,
+      ell_um: lab ? units.ell * 1e6 : null,
+      J_over_E0: 1 / (h * h),
+    },
+    delta2: {
+      with_effective_mass: ctx.delta2,
+      with_atomic_mass: params.massU !== null && params.massStarU !== null ? (ctx.delta2 * params.massStarU) / params.massU : null,
+      meaning: 'δ² = ħ²/(2mV₀w²) with m = m* (the design) or the bare atomic mass (for comparison); dimensionless',
+    },
+    soliton_width: {
+      value: lab ? width * units.ell * 1e6 : width,
+      natural_l: width,
+      sites_per_width: width / h,
+      definition: 'w = 1/κ of the narrowest soliton (κ² = −E of the deepest bound state of H(0)), capped by the curvature width of the deepest initial well',
+    },
+    couplings: {
+      largest_peierls_nn: hz(maxNn),
+      largest_peierls_nnn: hz(maxNnn),
+      largest_cd_coupling: hz(Math.max(maxNn, maxNnn)),
+      fraction_of_band_width: cdFraction,
+      largest_nn_amplitude: hz(maxAmp),
+      onsite_range: [onMin, onMax],
+      hermiticity_defect_max: herm,
+      convention:
+        'H = Σ_j ε_j n_j + Σ_{j<j′} (A_jj′ e^{iφ_jj′} c_j† c_j′ + h.c.), j′ = j+1 (nn) and j+2 (nnn); ε_j = V(x_j) + 2J puts the uniform band bottom at V; ' +
+        'nn: A e^{iφ} = −J + i b_j, b_j = λ̇·(4/d³ + 3(u_j+u_{j+1})/(2d)) in natural units; nnn: i q, q = −2λ̇/d³ (physics.md §3, §6)',
+    },
+    verification: {
+      states: count,
+      energies_start: main.energiesStart.map(hz),
+      energies_end: main.energiesEnd.map(hz),
+      continuum_energies_start: design.bound.energies.slice(0, count).map(hz),
+      isospectral_drift_max: hz(drift),
+      fidelity_cd: main.fidelityCd,
+      fidelity_bare: main.fidelityBare,
+      continuum_fidelity_cd: cont ? cont.cd : null,
+      continuum_fidelity_bare: cont ? cont.bare : null,
+      infidelity_cd_max: main.maxInfidelityCd,
+      meets_target: main.maxInfidelityCd < l.target_infidelity,
+      steps_cd: main.stepsCd,
+      steps_bare: main.stepsBare,
+      seconds: main.seconds,
+      method: 'open tight-binding chain; commutator-free 4th-order Magnus (CF4:2) with Lanczos exponentials and step doubling',
+    },
+    study: {
+      target_infidelity: l.target_infidelity,
+      rows,
+      observed_order: order,
+      recommended,
+      widen_trap_by: recommended && recommended.sites_per_width > width / h ? recommended.sites_per_width / (width / h) : null,
+      note:
+        'same effective mass m* for every row (J = ħ²/(2m*d²) scales as 1/d²); the continuum CD drive is exact (physics.md §1), so 1 − F_CD on the lattice is the residual lattice error; ' +
+        'the recommendation is the LARGEST spacing (fewest sites per width) that meets the target',
+    },
+    protocol: { duration: config.protocol.duration, ramp: ramp.kind, lambda_end: lambdaEnd },
+    warnings,
+  };
+  const tables: LatticeTables = {
+    sites: sites.map((x) => units.lengthFromNatural(x)),
+    times,
+    onsite,
+    nnAmplitude: nnA,
+    nnPhase: nnP,
+    nnnAmplitude: nnnA,
+    nnnPhase: nnnP,
+  };
+  return { summary, tables };
+}
+
+/** Write lattice.json, the .npy arrays and bonds.csv into dir (refuses to overwrite without force). */
+export function writeLatticeOutputs(result: LatticeResult, dir: string, force: boolean): string[] {
+  const outDir = prepareOutputDir(dir, { force, produces: [...LATTICE_FILES] });
+  const { tables: t, summary } = result;
+  const M = t.sites.length;
+  const S = t.times.length;
+  const files = LATTICE_FILES.map((f) => join(outDir, f));
+  writeFileAtomic(files[0], toJson({ ...summary, files: { arrays: LATTICE_FILES.slice(2), shapes: { onsite: [S, M], nn: [S, M - 1], nnn: [S, M - 2] } } }, 1));
+  // bond table: every nn and nnn bond at every sample time
+  const rows = S * ((M - 1) + (M - 2));
+  const ci = new Float64Array(rows), cj = new Float64Array(rows), ct = new Float64Array(rows), ca = new Float64Array(rows), cp = new Float64Array(rows);
+  let r = 0;
+  for (let s = 0; s < S; s++) {
+    for (let j = 0; j < M - 1; j++, r++) {
+      ci[r] = j; cj[r] = j + 1; ct[r] = t.times[s]; ca[r] = t.nnAmplitude[s * (M - 1) + j]; cp[r] = t.nnPhase[s * (M - 1) + j];
+    }
+    for (let j = 0; j < M - 2; j++, r++) {
+      ci[r] = j; cj[r] = j + 2; ct[r] = t.times[s]; ca[r] = t.nnnAmplitude[s * (M - 2) + j]; cp[r] = t.nnnPhase[s * (M - 2) + j];
+    }
+  }
+  const eUnit = summary.units.energy === 'h·Hz' ? 'hz' : 'E0';
+  const tUnit = summary.units.time === 'ms' ? 'ms' : 't0';
+  writeFileAtomic(
+    files[1],
+    `# bond j -> j' couplings H_jj' = amplitude * exp(i phase) (${summary.units.energy}); on-site energies in onsite.npy\n` +
+      writeCsv(['site_i', 'site_j', `t_${tUnit}`, `amplitude_${eUnit}`, 'phase_rad'], [ci, cj, ct, ca, cp]),
+  );
+  writeFileAtomic(files[2], encodeNpy(t.sites, [M]));
+  writeFileAtomic(files[3], encodeNpy(t.times, [S]));
+  writeFileAtomic(files[4], encodeNpy(t.onsite, [S, M]));
+  writeFileAtomic(files[5], encodeNpy(t.nnAmplitude, [S, M - 1]));
+  writeFileAtomic(files[6], encodeNpy(t.nnPhase, [S, M - 1]));
+  writeFileAtomic(files[7], encodeNpy(t.nnnAmplitude, [S, M - 2]));
+  writeFileAtomic(files[8], encodeNpy(t.nnnPhase, [S, M - 2]));
+  return files;
+}
