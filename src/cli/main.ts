@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import { readFileSync } from 'node:fs';
 import { UserError } from '../io/errors.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
-import { renderFolder, writeLatticeFigures } from '../jobs/report.ts';
+import { compareFigures, renderFolder, writeFigures, writeLatticeFigures, type CompareFileLike } from '../jobs/report.ts';
 import { runVerify, writeVerifyOutputs, type VerifyFile } from '../jobs/verify.ts';
 import type { DesignResult } from '../jobs/design.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
@@ -185,6 +185,7 @@ async function compareCommand(configPath: string, opts: CommonOptions): Promise<
   const result = runCompare(config, { onProgress: (_stage, fraction) => progress.update(fraction) });
   progress.stop();
   const files = writeCompareOutputs(result.summary, outputDir(config.name, opts), opts.force ?? false);
+  files.push(...writeFigures(compareFigures(result.summary as unknown as CompareFileLike), outputDir(config.name, opts), opts.force ?? false));
   const s = result.summary;
   if (opts.json) {
     const { sequences: _omit, ...rest } = s as typeof s & { sequences?: unknown };

@@ -279,15 +279,99 @@ export function latticeFigures(result: LatticeResult): ReportFigure[] {
   return figures;
 }
 
-/** write the lattice figures into dir (atomically; refuses to overwrite without force) */
-export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean): string[] {
-  const figures = latticeFigures(result);
+/** the parts of compare.json the figures read */
+export interface CompareFileLike {
+  units: { length: string; energy: string };
+  delta2: number;
+  breaking_lambda: number;
+  distance: { lambda: number[]; max: number[]; l2: number[]; lambda_1pct: number | null; threshold: number };
+  sequences: { x: number[]; lambda: number[]; quantum: number[][]; classical: (number[] | null)[] };
+  scaling: { exponent: number; uncertainty: number; prefactor: number; points: { delta: number; distance_max: number; distance_l2: number }[] };
+  classical_phase_space: { trajectories: { shell_energy: number; classical: { action_drift: number }; quantum: { action_drift: number } }[] };
+}
+
+/** Figures of `compare`: both sequences side by side, their distance, the ħ-scaling fit, action drifts. */
+export function compareFigures(c: CompareFileLike): ReportFigure[] {
+  const figures: ReportFigure[] = [];
+  const E = c.units.energy;
+  const Lu = c.units.length;
+  const seq = c.sequences;
+  const common = seq.classical.findIndex((r) => r === null);
+  const nRows = common < 0 ? seq.lambda.length : common;
+  if (nRows >= 2) {
+    const z = (rows: (number[] | null)[]) => rows.slice(0, nRows).map((r) => Float64Array.from(r as number[]));
+    const range: [number, number] = [Math.min(...seq.quantum.slice(0, nRows).flat(), ...seq.classical.slice(0, nRows).flat() as number[]), 0];
+    for (const [id, rows, label] of [['compare-quantum', seq.quantum, 'quantum (KdV)'], ['compare-classical', seq.classical, 'classical (Hopf)']] as const) {
+      figures.push({
+        id,
+        caption: `The ${label} sequence from the same start, up to the λ where both exist (same colour scale in both maps).`,
+        svg: heatmap({ xLabel: `position x (${Lu})`, yLabel: 'flow parameter λ (dimensionless)', zLabel: `potential V (${E})`, x: Float64Array.from(seq.x), y: Float64Array.from(seq.lambda.slice(0, nRows)), z: z(rows), zRange: range, width: 'single' }),
+      });
+    }
+  }
+  const d = c.distance;
+  figures.push({
+    id: 'compare-distance',
+    caption: `Relative distance between the quantum and the classical sequence against λ (max and L² norms); ${d.lambda_1pct !== null ? `they differ by ${d.threshold * 100} % at λ = ${d.lambda_1pct.toPrecision(3)}` : 'they stay within 1 %'}; the classical flow breaks at λ = ${c.breaking_lambda.toPrecision(4)}.`,
+    svg: lineChart({
+      xLabel: 'flow parameter λ (dimensionless)',
+      yLabel: 'relative distance',
+      series: [
+        { name: 'max norm', x: d.lambda.slice(1), y: d.max.slice(1) },
+        { name: 'L² norm', x: d.lambda.slice(1), y: d.l2.slice(1), dashed: true },
+      ],
+      logY: true,
+      width: 'single',
+    }),
+  });
+  const pts = c.scaling.points;
+  if (pts.length >= 2) {
+    const fit = pts.map((p) => c.scaling.prefactor * Math.pow(p.delta, c.scaling.exponent));
+    figures.push({
+      id: 'compare-scaling',
+      caption: `Distance at fixed scaled λ against the dispersion number δ: fitted exponent ${c.scaling.exponent.toFixed(3)} ± ${c.scaling.uncertainty.toFixed(3)} (2 expected: the dispersive term is ∝ ħ²).`,
+      svg: lineChart({
+        xLabel: 'log₁₀ δ (dimensionless)',
+        yLabel: 'relative distance (max norm)',
+        series: [
+          { name: 'computed', x: pts.map((p) => Math.log10(p.delta)), y: pts.map((p) => p.distance_max), markers: true },
+          { name: `fit ∝ δ^${c.scaling.exponent.toFixed(2)}`, x: pts.map((p) => Math.log10(p.delta)), y: fit, dashed: true },
+        ],
+        logY: true,
+        width: 'single',
+      }),
+    });
+  }
+  const tr = c.classical_phase_space.trajectories;
+  if (tr.length > 0) {
+    figures.push({
+      id: 'compare-action',
+      caption: 'Relative drift of the action ∮p dx of classical trajectories under the classical counterdiabatic Hamiltonian, along the classical (Hopf) sequence — conserved — and along the quantum (KdV) sequence.',
+      svg: barChart({
+        xLabel: 'trajectory (energy shell of H(0))',
+        yLabel: 'relative action drift',
+        groups: tr.map((t, i) => ({ label: `${i}: E=${t.shell_energy.toPrecision(2)}`, values: [{ name: 'Hopf sequence', value: Math.abs(t.classical.action_drift) }, { name: 'KdV sequence', value: Math.abs(t.quantum.action_drift) }] })),
+        logY: true,
+        width: 'double',
+      }),
+    });
+  }
+  return figures;
+}
+
+/** write figures into dir (atomically; refuses to overwrite without force) */
+export function writeFigures(figures: ReportFigure[], dir: string, force: boolean): string[] {
   prepareOutputDir(dir, { force, produces: figures.map((f) => `${f.id}.svg`) });
   return figures.map((f) => {
     const p = join(dir, `${f.id}.svg`);
     writeFileAtomic(p, f.svg);
     return p;
   });
+}
+
+/** write the lattice figures into dir (atomically; refuses to overwrite without force) */
+export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean): string[] {
+  return writeFigures(latticeFigures(result), dir, force);
 }
 
 export interface ReportOptions {
