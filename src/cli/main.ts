@@ -12,7 +12,7 @@ import { compareFigures, renderFolder, writeFigures, writeLatticeFigures, type C
 import { runVerify, writeVerifyOutputs, type VerifyFile } from '../jobs/verify.ts';
 import type { DesignResult } from '../jobs/design.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../jobs/check.ts';
-import { runCompare, writeCompareOutputs } from '../jobs/compare.ts';
+import { quantumDrives, runCompare, writeCompareOutputs } from '../jobs/compare.ts';
 // every command reads the same scenario file, so all of them validate against the full schema (compare, lattice)
 import { loadLatticeConfig as loadScenario, runLattice, writeLatticeOutputs } from '../jobs/lattice.ts';
 import { basename, dirname, extname } from 'node:path';
@@ -182,11 +182,11 @@ async function verifyCommand(configPath: string, opts: CommonOptions, withReport
 async function compareCommand(configPath: string, opts: CommonOptions): Promise<number> {
   const config = loadScenario(configPath);
   const progress = makeProgress('compare', opts.quiet ?? false);
-  const result = runCompare(config, { onProgress: (_stage, fraction) => progress.update(fraction) });
+  const result = runCompare(config, { onProgress: (_stage, fraction) => progress.update(0.7 * fraction) });
+  const s = quantumDrives(config, result);
   progress.stop();
-  const files = writeCompareOutputs(result.summary, outputDir(config.name, opts), opts.force ?? false);
-  files.push(...writeFigures(compareFigures(result.summary as unknown as CompareFileLike), outputDir(config.name, opts), opts.force ?? false));
-  const s = result.summary;
+  const files = writeCompareOutputs(s, outputDir(config.name, opts), opts.force ?? false);
+  files.push(...writeFigures(compareFigures(s as unknown as CompareFileLike), outputDir(config.name, opts), opts.force ?? false));
   if (opts.json) {
     const { sequences: _omit, ...rest } = s as typeof s & { sequences?: unknown };
     process.stdout.write(toJson({ ...rest, outputs: files }, 2) + '\n');
@@ -198,6 +198,7 @@ async function compareCommand(configPath: string, opts: CommonOptions): Promise<
       ['1 % difference at λ', num(s.distance.lambda_1pct)],
       ['ħ-scaling exponent', `${num(s.scaling.exponent)} ± ${num(s.scaling.uncertainty, 2)} (expected 2: dispersion ∝ ħ²)`],
       ['phase-space energy drift', `classical sequence ${num(s.classical_phase_space.max.classical_energy_drift, 3)} ${E}, quantum sequence ${num(s.classical_phase_space.max.quantum_energy_drift, 3)} ${E}`],
+      ...s.quantum.drives.map((d): [string, string] => [`Schrödinger: ${d.drive}`, `worst fidelity ${num(Math.min(...d.states.map((x) => x.fidelity)), 8)} over ${d.states.length} states; largest excess ${num(Math.max(...d.states.map((x) => Math.abs(x.excess_energy))), 3)} ${E}`]),
       ['outputs', files.join(', ')],
     ];
     process.stdout.write(`isotrap compare\n${table(rows)}\n`);

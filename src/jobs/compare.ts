@@ -48,6 +48,7 @@ import { UserError } from '../io/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import { verifySequence } from '../quantum/verify.ts';
 import { characteristicsBreaking, scalesText, toJson } from './design.ts';
 import { makeContext, type JobContext } from './context.ts';
 
@@ -471,4 +472,45 @@ export function writeCompareOutputs(summary: CompareSummary, dir: string, force:
   const file = join(outDir, COMPARE_FILES[0]);
   writeFileAtomic(file, toJson(summary));
   return [file];
+}
+
+/**
+ * Quantum consequence of the two designs (issue 6): drive the quantum system with the classical (Hopf) sequence
+ * plus the cubic correction, and with the quantum (KdV) sequence plus the same correction, over λ ∈ [0, λ_common]
+ * with the protocol's ramp shape at the protocol's mean speed (duration T·λ_common/λ_end). Fidelities of the
+ * lowest states against the eigenstates of H at λ_common; excess energies in the config's energy unit.
+ */
+export function quantumDrives(config: CompareConfig, result: CompareResult, states?: number): CompareSummary {
+  const s = result.summary;
+  const { units, grid } = result.ctx;
+  const lc = s.lambda_common;
+  if (!config.protocol || !(lc > 0)) {
+    return withQuantumDrives(s, [], 'not run: needs a protocol section and a common λ range');
+  }
+  const duration = units.timeToNatural(config.protocol.duration) * (lc / config.flow.lambda_end);
+  const drives: DriveFidelity[] = [];
+  for (const [drive, potential] of [['classical+cubic', result.classicalAt], ['quantum+cubic', result.quantumAt]] as const) {
+    const r = verifySequence({
+      grid,
+      potential: (l, out) => potential(Math.min(Math.max(l, 0), lc), out),
+      lambdaEnd: lc,
+      ramp: config.protocol.ramp,
+      duration,
+      states: states ?? config.verify?.states,
+      tol: config.verify?.tolerance,
+      drives: ['cd'],
+      traceSamples: 0,
+      strengthSamples: 0,
+    });
+    const d = r.drives[0];
+    drives.push({
+      drive,
+      states: r.states.map((st, i) => ({ index: st.index, energy: units.energyFromNatural(st.energyStart), fidelity: d.fidelity[i], excess_energy: units.energyFromNatural(d.excessEnergy[i]) })),
+    });
+  }
+  return withQuantumDrives(
+    s,
+    drives,
+    `both sequences driven with the cubic correction −λ̇(4k³ + 3{u,k}) over λ ∈ [0, ${lc.toPrecision(4)}] in ${units.timeFromNatural(duration).toPrecision(4)} ${units.labels.time} (${config.protocol.ramp} ramp at the protocol's mean speed)`,
+  );
 }
