@@ -9,7 +9,7 @@ import { makeGrid } from '../src/spectral/grid.ts';
 import { verifySequence } from '../src/quantum/verify.ts';
 
 /** timed repetitions per case (best of) */
-const REPEATS = 3;
+const REPEATS = 5;
 
 interface CaseResult {
   [key: string]: unknown;
@@ -41,6 +41,7 @@ function flowCase(): CaseResult {
     accepted_steps: best.stats.accepted,
     rejected_steps: best.stats.rejected,
     rhs_evaluations: best.stats.nonlinearEvaluations,
+    coefficient_sets: best.stats.coefficientSets,
     us_per_step: (best.stats.wallSeconds * 1e6) / best.stats.accepted,
     dense_output_mbytes: best.dense.bytes / 2 ** 20,
   };

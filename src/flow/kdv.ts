@@ -54,6 +54,8 @@ export interface FlowStats {
   accepted: number;
   rejected: number;
   nonlinearEvaluations: number;
+  /** ETDRK4 coefficient sets computed (distinct step sizes: ladder rungs, their halves, frame-landing steps) */
+  coefficientSets: number;
   wallSeconds: number;
   /** sum of the local error estimates (before extrapolation): a conservative global error indicator */
   errorEstimate: number;
@@ -331,17 +333,19 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
   let j = Math.floor(LADDER_DIVISIONS * Math.log2(Math.min(0.5 / nlRate, tEnd / 10)));
 
   const cache = new Map<number, Etdrk4Coefficients>();
+  let coefficientSets = 0;
   const coeffs = (h: number): Etdrk4Coefficients => {
     let c = cache.get(h);
     if (!c) {
       c = etdrk4Coefficients(h, op.lre.subarray(0, active), op.lim.subarray(0, active));
+      coefficientSets++;
       if (cache.size > 256) cache.clear();
       cache.set(h, c);
     }
     return c;
   };
 
-  const stats: FlowStats = { accepted: 0, rejected: 0, nonlinearEvaluations: 0, wallSeconds: 0, errorEstimate: 0, minStep: Infinity, maxStep: 0 };
+  const stats: FlowStats = { accepted: 0, rejected: 0, nonlinearEvaluations: 0, coefficientSets: 0, wallSeconds: 0, errorEstimate: 0, minStep: Infinity, maxStep: 0 };
   let t = 0;
   let breaking: BreakingInfo | null = null;
   const ux = new Float64Array(n);
@@ -410,6 +414,7 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
     j = Math.floor(LADDER_DIVISIONS * Math.log2(hNext));
   }
   stats.nonlinearEvaluations = op.evaluations;
+  stats.coefficientSets = coefficientSets;
   stats.wallSeconds = (performance.now() - started) / 1000;
   return { lambdas: outLambdas, frames: outFrames, dense, stats, breaking, tail: op.tail(v), discardedTail };
 }
