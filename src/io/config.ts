@@ -348,7 +348,8 @@ export function formatIssues(issues: readonly z.core.$ZodIssue[], raw: unknown, 
 // ---------------------------------------------------------------------------------------------------------
 // loading
 
-function parseYaml(text: string, sourceName: string): unknown {
+/** YAML text → plain data; syntax errors become one UserError with `<source>:<line>:<column>` per problem */
+export function parseYaml(text: string, sourceName: string): unknown {
   const doc = parseDocument(text);
   if (doc.errors.length > 0) {
     const lines = doc.errors.map((e) => {
@@ -403,14 +404,17 @@ export function parseConfig(text: string, sourceName: string, baseDir: string): 
   return parseConfigWith(configSchema, parseYaml(text, sourceName), sourceName, baseDir);
 }
 
-/** Read and validate a config file; relative paths inside it resolve against the file's folder. */
-export function loadConfig(path: string): Config {
-  let text: string;
+/** Read a config file's text; a missing or unreadable file is a UserError naming the path. */
+export function readConfigText(path: string): string {
   try {
-    text = readFileSync(path, 'utf8');
+    return readFileSync(path, 'utf8');
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
     throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
   }
-  return parseConfig(text, path, dirname(resolve(path)));
+}
+
+/** Read and validate a config file; relative paths inside it resolve against the file's folder. */
+export function loadConfig(path: string): Config {
+  return parseConfig(readConfigText(path), path, dirname(resolve(path)));
 }

@@ -23,9 +23,7 @@
  *       duration: …            # ramp duration 0 → λ (user time unit); default protocol.duration, else `periods`
  *       periods: 4             # … small-oscillation periods of the deepest well
  */
-import { readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
-import { parseDocument } from 'yaml';
 import { z } from 'zod';
 import { CURVATURE_SAFETY, phaseSpaceCheck, shellStarts, suggestSteps, wellShape, type TrajectoryReport } from '../classical/cd.ts';
 import { FourierProfile, spectralSequence } from '../classical/field.ts';
@@ -43,7 +41,7 @@ import {
   type Sampler,
   type ScalingStudy,
 } from '../classical/scaling.ts';
-import { configSchema, parseConfigWith, strictSection, type ConfigMeta } from '../io/config.ts';
+import { configSchema, parseConfigWith, parseYaml, readConfigText, strictSection, type ConfigMeta } from '../io/config.ts';
 import { UserError } from '../io/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
@@ -102,28 +100,12 @@ export type CompareConfig = z.output<typeof compareConfigSchema> & { readonly me
 
 /** Parse YAML text of a config with an optional `compare` section (messages as in io/config.ts). */
 export function parseCompareConfig(text: string, sourceName: string, baseDir: string): CompareConfig {
-  const doc = parseDocument(text);
-  if (doc.errors.length > 0) {
-    const lines = doc.errors.map((e) => {
-      const pos = e.linePos?.[0];
-      const where = pos ? `${sourceName}:${pos.line}:${pos.col}` : sourceName;
-      return `${where}: YAML syntax error: ${e.message.split(/ at line \d+, column \d+/)[0].split('\n')[0]}`;
-    });
-    throw new UserError(lines.join('\n'));
-  }
-  return parseConfigWith(compareConfigSchema, doc.toJS(), sourceName, baseDir);
+  return parseConfigWith(compareConfigSchema, parseYaml(text, sourceName), sourceName, baseDir);
 }
 
 /** Read and validate a config file for `compare`. */
 export function loadCompareConfig(path: string): CompareConfig {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
-  }
-  return parseCompareConfig(text, path, dirname(resolve(path)));
+  return parseCompareConfig(readConfigText(path), path, dirname(resolve(path)));
 }
 
 // ---------------------------------------------------------------------------------------------------------

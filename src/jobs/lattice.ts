@@ -36,11 +36,9 @@
  * propagation grows like sites × λ_end/d³ (independent of the duration); `predictedWork` budgets it and lattices
  * above MAX_SITE_PRODUCTS are skipped (study) or refused (the configured lattice).
  */
-import { readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
-import { parseDocument } from 'yaml';
 import { z } from 'zod';
-import { parseConfigWith, strictSection, type ConfigMeta, type UnitsConfig } from '../io/config.ts';
+import { parseConfigWith, parseYaml, readConfigText, strictSection, type ConfigMeta, type UnitsConfig } from '../io/config.ts';
 import { writeCsv } from '../io/csv.ts';
 import { UserError } from '../io/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
@@ -164,28 +162,12 @@ export type LatticeConfig = z.output<typeof latticeConfigSchema> & { readonly me
 
 /** Parse YAML text of a config that may hold `compare` and `lattice` sections. */
 export function parseLatticeConfig(text: string, sourceName: string, baseDir: string): LatticeConfig {
-  const doc = parseDocument(text);
-  if (doc.errors.length > 0) {
-    const lines = doc.errors.map((e) => {
-      const p = e.linePos?.[0];
-      const where = p ? `${sourceName}:${p.line}:${p.col}` : sourceName;
-      return `${where}: YAML syntax error: ${e.message.split(/ at line \d+, column \d+/)[0].split('\n')[0]}`;
-    });
-    throw new UserError(lines.join('\n'));
-  }
-  return parseConfigWith(latticeConfigSchema, doc.toJS(), sourceName, baseDir);
+  return parseConfigWith(latticeConfigSchema, parseYaml(text, sourceName), sourceName, baseDir);
 }
 
 /** Read and validate a config file for `lattice`. */
 export function loadLatticeConfig(path: string): LatticeConfig {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
-  }
-  return parseLatticeConfig(text, path, dirname(resolve(path)));
+  return parseLatticeConfig(readConfigText(path), path, dirname(resolve(path)));
 }
 
 // ---------------------------------------------------------------------------------------------------------
