@@ -22,7 +22,7 @@
 
 /** deepest lattice whose band width is resolved in double precision (relative error ≲ 1e-4, see above) */
 export const MAX_DEPTH_RECOIL = 150;
-import { qlEigen } from './linalg.ts';
+import { tridiagEigen } from '../quantum/tridiag.ts';
 
 /** plane waves n = −P … P: the coupling −s/4 decays the coefficients like (s/16)^n/(n!)², so P = 12 + √s is
  * converged to machine precision for s ≤ 400 (checked against P + 10 in the tests) */
@@ -40,7 +40,7 @@ export function bandEnergies(s: number, kappa: number, cutoff = planeWaveCutoff(
     d[i] = g * g + s / 2;
     e[i] = -s / 4;
   }
-  qlEigen(d, e, n, null);
+  tridiagEigen(d, e, n, null);
   return d.sort();
 }
 

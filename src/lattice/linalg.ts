@@ -1,10 +1,6 @@
 /**
- * Small linear-algebra kernels of the lattice module (kept here so that the lattice code does not depend on the
- * quantum folder, which is being finished at the same time):
+ * Small linear-algebra kernels of the lattice module (the tridiagonal QL solver is quantum/tridiag.ts):
  *
- *  - `qlEigen`: eigenvalues (and optionally vectors) of a real symmetric tridiagonal matrix by the implicit QL
- *    method with Wilkinson shifts (Press, Teukolsky, Vetterling & Flannery, Numerical Recipes, 3rd ed. 2007,
- *    §11.4 "tqli"; EISPACK tql2).
  *  - `TridiagonalLowest`: lowest eigenpairs of a large real symmetric tridiagonal matrix by Sturm-sequence
  *    bisection and inverse iteration (Wilkinson, The Algebraic Eigenvalue Problem, 1965, ch. 5 §37–§48;
  *    Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.4.1).
@@ -14,9 +10,8 @@
  *
  * Complex vectors are interleaved (re, im) Float64Arrays of length 2M.
  */
+import { tridiagEigen } from '../quantum/tridiag.ts';
 
-/** QL sweeps allowed per eigenvalue (Numerical Recipes uses 30; doubled for safety) */
-const QL_MAX_ITER = 60;
 /** bisection stops when the bracket is this many ulps of the spectral scale wide (≈ machine precision) */
 const BISECTION_REL = 4 * Number.EPSILON;
 /** inverse-iteration sweeps per eigenvector (two suffice from a random start; three for safety) */
@@ -30,70 +25,6 @@ const LANCZOS_BREAKDOWN = 1e-13;
 /** sub-step shrink factor when the estimate exceeds the tolerance at the largest dimension (Sidje 1998: 0.9·…) */
 const SUBSTEP_SAFETY = 0.9;
 
-/**
- * In place: d (n) diagonal → eigenvalues (unsorted); e (≥ n) with e[i] = T[i,i+1] → destroyed; z (n·n, row-major)
- * → column j is the eigenvector of d[j] (if z is given).
- */
-export function qlEigen(d: Float64Array, e: Float64Array, n: number, z: Float64Array | null): void {
-  if (z) {
-    z.fill(0, 0, n * n);
-    for (let i = 0; i < n; i++) z[i * n + i] = 1;
-  }
-  if (n <= 1) return;
-  e[n - 1] = 0;
-  for (let l = 0; l < n; l++) {
-    let iter = 0;
-    let m: number;
-    do {
-      for (m = l; m < n - 1; m++) {
-        const dd = Math.abs(d[m]) + Math.abs(d[m + 1]);
-        if (Math.abs(e[m]) <= Number.EPSILON * dd) break;
-      }
-      if (m !== l) {
-        if (iter++ === QL_MAX_ITER) throw new Error('qlEigen: QL iteration did not converge');
-        let g = (d[l + 1] - d[l]) / (2 * e[l]);
-        let r = Math.hypot(g, 1);
-        g = d[m] - d[l] + e[l] / (g + (g >= 0 ? r : -r));
-        let s = 1;
-        let c = 1;
-        let p = 0;
-        let i: number;
-        let early = false;
-        for (i = m - 1; i >= l; i--) {
-          let f = s * e[i];
-          const b = c * e[i];
-          r = Math.hypot(f, g);
-          e[i + 1] = r;
-          if (r === 0) {
-            d[i + 1] -= p;
-            e[m] = 0;
-            early = true;
-            break;
-          }
-          s = f / r;
-          c = g / r;
-          g = d[i + 1] - p;
-          r = (d[i] - g) * s + 2 * c * b;
-          p = s * r;
-          d[i + 1] = g + p;
-          g = c * r - b;
-          if (z) {
-            for (let k = 0; k < n; k++) {
-              const row = k * n;
-              f = z[row + i + 1];
-              z[row + i + 1] = s * z[row + i] + c * f;
-              z[row + i] = c * z[row + i] - s * f;
-            }
-          }
-        }
-        if (early) continue;
-        d[l] -= p;
-        e[l] = g;
-        e[m] = 0;
-      }
-    } while (m !== l);
-  }
-}
 
 /** sorted eigenvalues of the symmetric tridiagonal (diag, off) — convenience wrapper (allocates) */
 export function tridiagonalEigenvalues(diag: ArrayLike<number>, off: ArrayLike<number>): Float64Array {
@@ -101,7 +32,7 @@ export function tridiagonalEigenvalues(diag: ArrayLike<number>, off: ArrayLike<n
   const d = Float64Array.from(diag);
   const e = new Float64Array(n);
   for (let i = 0; i < n - 1; i++) e[i] = off[i];
-  qlEigen(d, e, n, null);
+  tridiagEigen(d, e, n, null);
   return d.sort();
 }
 
@@ -243,7 +174,7 @@ export class LanczosExp {
       d[i] = alpha[i];
       e[i] = i < m - 1 ? beta[i] : 0;
     }
-    qlEigen(d, e, m, z);
+    tridiagEigen(d, e, m, z);
     for (let j = 0; j < m; j++) {
       let re = 0;
       let im = 0;
