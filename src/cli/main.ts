@@ -74,6 +74,11 @@ interface CheckCliOptions extends CommonOptions {
   species?: string;
   massU?: string;
   lengthUnitUm?: string;
+  variationalDuration?: string;
+  variationalStates?: string;
+  variationalTemperature?: string;
+  variationalRamp?: string;
+  variationalLegendre?: string;
 }
 
 /** a numeric command-line option: undefined when absent, UserError naming the option when not a number */
@@ -82,6 +87,31 @@ function numberOption(name: string, v: string | undefined): number | undefined {
   const x = Number(v);
   if (!Number.isFinite(x)) throw new UserError(`option --${name} = ${JSON.stringify(v)} is not allowed: must be a finite number`);
   return x;
+}
+
+function variationalOptions(opts: CheckCliOptions) {
+  const duration = numberOption('variational-duration', opts.variationalDuration);
+  const others = [opts.variationalStates, opts.variationalTemperature, opts.variationalRamp, opts.variationalLegendre];
+  if (duration === undefined) {
+    if (others.some((o) => o !== undefined)) throw new UserError('the --variational-* options need --variational-duration <t> (ramp duration, in the sequence\'s time unit), which turns the variational step on');
+    return undefined;
+  }
+  const ramp = opts.variationalRamp;
+  if (ramp !== undefined && ramp !== 'sin2' && ramp !== 'smooth' && ramp !== 'linear') {
+    throw new UserError(`option --variational-ramp = ${JSON.stringify(ramp)} is not allowed: must be sin2, smooth or linear`);
+  }
+  const int = (name: string, v: string | undefined) => {
+    const x = numberOption(name, v);
+    if (x !== undefined && !(Number.isInteger(x) && x >= 1)) throw new UserError(`option --${name} = ${v} is not allowed: must be a whole number ≥ 1`);
+    return x;
+  };
+  return {
+    duration,
+    states: int('variational-states', opts.variationalStates),
+    temperature: numberOption('variational-temperature', opts.variationalTemperature),
+    ramp: ramp as 'sin2' | 'smooth' | 'linear' | undefined,
+    legendre: int('variational-legendre', opts.variationalLegendre),
+  };
 }
 
 async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
@@ -100,6 +130,7 @@ async function checkCommand(input: string, opts: CheckCliOptions): Promise<numbe
       mass_u: numberOption('mass-u', opts.massU),
       length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
     },
+    variational: variationalOptions(opts),
   });
   const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
   const files = writeCheckOutputs(result, dir, opts.force ?? false);
@@ -114,6 +145,9 @@ async function checkCommand(input: string, opts: CheckCliOptions): Promise<numbe
       ['fitted c (median)', `${num(r.fit.c_median)} ${r.units.c}`],
       ['bound-state drift', `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
       ['repaired sequence', `max distance ${num(r.repaired.max_distance, 3)} ${r.units.energy}, relative L² ${num(r.repaired.relative_l2, 3)}`],
+      ...(r.variational
+        ? r.variational.comparison.drives.map((d): [string, string] => [`drive: ${d.label}`, `worst fidelity ${num(d.min_fidelity, 8)} over ${d.fidelity.length} states (ramp ${r.variational!.comparison.ramp}, ${r.variational!.comparison.duration})`])
+        : []),
       ['outputs', files.join(', ')],
     ];
     process.stdout.write(`isotrap check\n${table(rows)}\n`);
@@ -281,6 +315,11 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .option('--species <name>', 'species for lab units (Rb87, K40, …)')
     .option('--mass-u <m>', 'mass in u for a custom species')
     .option('--length-unit-um <l>', 'the length unit ℓ in µm')
+    .option('--variational-duration <t>', 'also fit the variational correction and drive the sequence over this ramp time (sequence time unit)')
+    .option('--variational-states <n>', 'low-energy states weighted in the variational fit (default: bound states + 4)')
+    .option('--variational-temperature <T>', 'Boltzmann-weight the subspace at this temperature (nK lab, E₀ natural)')
+    .option('--variational-ramp <kind>', 'ramp shape for the comparison: sin2, smooth or linear')
+    .option('--variational-legendre <K>', 'Legendre terms in g (default 24)')
     .action(async (input: string, opts: CheckCliOptions) => handlers.exit(await checkCommand(input, opts)));
   program
     .command('report')

@@ -14,6 +14,40 @@ import { fitFrames, spectrumCheck, STENCIL_WIDTH, type FrameFit, type SpectrumCh
 import { readSequence, type Sequence, type SequenceUnitsInput } from '../check/sequence.ts';
 import { repairSequence, REPAIR_TOLERANCE, type Repair, type RepairMode } from '../check/repair.ts';
 import { toJson } from './design.ts';
+import { variationalFit, type VariationalFit } from '../check/variational.ts';
+import { compareCorrections, cubicSchedule, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
+import type { RampKind } from '../quantum/ramp.ts';
+
+/** opt-in: variational correction per frame and a side-by-side Schrödinger comparison (check/variational.ts, drive.ts) */
+export interface VariationalCheckOptions {
+  /** subspace size (lowest levels of each frame); default bound states + 4 */
+  states?: number;
+  /** temperature in the user's temperature unit (Boltzmann weights of the subspace and a thermal summary) */
+  temperature?: number;
+  /** ramp duration in the user's time unit */
+  duration: number;
+  /** default sin2 */
+  ramp?: RampKind;
+  /** Legendre terms in g (default 24) */
+  legendre?: number;
+  /** infidelity budget of the time stepping (default 1e-8) */
+  tol?: number;
+}
+
+export interface VariationalReport {
+  method: string;
+  basis: string[];
+  states: number;
+  temperature: number | null;
+  frames: { index: number; lambda: number; a_hat: number; coefficients: number[]; residual: number; g_max_support: number; g_max_box: number }[];
+  comparison: {
+    ramp: string;
+    duration: number;
+    interpolation: string;
+    states: { index: number; energy_start: number; energy_end: number }[];
+    drives: { label: string; fidelity: number[]; excess_energy: number[]; min_fidelity: number; thermal_fidelity: number | null; thermal_excess: number | null; steps: number }[];
+  };
+}
 
 /** default tolerance on the relative residual and the relative bound-state drift (issue 5) */
 export const DEFAULT_TOLERANCE = 1e-3;
@@ -34,6 +68,8 @@ export interface CheckOptions {
   units?: SequenceUnitsInput;
   /** how the repaired sequence gets its coefficients, default 'median' */
   repair?: RepairMode;
+  /** opt-in variational correction and comparison (adds `variational` to the report) */
+  variational?: VariationalCheckOptions;
 }
 
 export interface FrameReport {
@@ -89,6 +125,8 @@ export interface CheckReport {
   repaired: { mode: RepairMode; a: number[]; c: number[]; max_distance: number; relative_l2: number; frame_relative: number[]; tolerance: number; steps: number; files: string[] };
   grid: { points: number; length: number; dx: number; x0: number };
   warnings: string[];
+  /** present only when requested */
+  variational?: VariationalReport;
 }
 
 export interface CheckResult {
@@ -98,6 +136,7 @@ export interface CheckResult {
   repair: Repair;
   report: CheckReport;
   admissible: boolean;
+  variational?: { fit: VariationalFit; comparison: ComparisonResult };
 }
 
 function median(v: number[]): number {
@@ -249,7 +288,37 @@ export function runCheck(opts: CheckOptions): CheckResult {
     grid: { points: grid.n, length: system.lengthFromNatural(grid.length), dx: system.lengthFromNatural(grid.dx), x0: seq.xUser[0] },
     warnings,
   };
-  return { sequence: seq, fits, spectrum, repair, report, admissible };
+  if (!opts.variational) return { sequence: seq, fits, spectrum, repair, report, admissible };
+  const vo = opts.variational;
+  if (!(Number.isFinite(vo.duration) && vo.duration > 0)) throw new UserError(`variational.duration = ${vo.duration} is not allowed: must be a finite number > 0 (${system.labels.time})`);
+  const temp = vo.temperature !== undefined ? system.temperatureToNatural(vo.temperature) : undefined;
+  const vfit = variationalFit(grid, lambda, frames, { states: vo.states, temperature: temp, legendre: vo.legendre });
+  const comparison = compareCorrections({
+    grid, lambda, frames, states: vfit.states, temperature: temp, duration: system.timeToNatural(vo.duration), ramp: vo.ramp, tol: vo.tol,
+    drives: [
+      { label: 'variational', schedule: variationalSchedule(vfit) },
+      { label: 'fitted cubic', schedule: cubicSchedule(fits, vfit.legendre) },
+      { label: 'none', schedule: null },
+    ],
+  });
+  report.variational = {
+    method: 'variational gauge potential: min Σ_m w_m Σ_{n∉deg m} |(∂_λH + i[A,H])_nm|² over A = a k³ + ½{g, k}, g over [u, 1, P_c(2ξ/L)] (natural units ℓ, E₀)',
+    basis: vfit.basis,
+    states: vfit.states,
+    temperature: vo.temperature ?? null,
+    frames: vfit.frames.map((f) => ({ index: f.index, lambda: f.lambda, a_hat: f.a, coefficients: f.coefficients, residual: f.residual, g_max_support: f.gMax.support, g_max_box: f.gMax.box })),
+    comparison: {
+      ramp: comparison.ramp,
+      duration: vo.duration,
+      interpolation: comparison.interpolation,
+      states: comparison.states.map((st) => ({ index: st.index, energy_start: system.energyFromNatural(st.energyStart), energy_end: system.energyFromNatural(st.energyEnd) })),
+      drives: comparison.drives.map((d) => ({
+        label: d.label, fidelity: d.fidelity, excess_energy: d.excessEnergy.map((e) => system.energyFromNatural(e)), min_fidelity: d.minFidelity,
+        thermal_fidelity: d.thermal?.ensembleFidelity ?? null, thermal_excess: d.thermal ? system.energyFromNatural(d.thermal.meanExcessEnergy) : null, steps: d.steps,
+      })),
+    },
+  };
+  return { sequence: seq, fits, spectrum, repair, report, admissible, variational: { fit: vfit, comparison } };
 }
 
 /** CLI exit code of a finished check: 0 admissible, 1 not (bad input never gets here: UserError → 2) */
