@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { bandEnergies, lowestBand, mathieuA0B1, mathieuA1B2, planeWaveCutoff, tunnellingEstimate } from '../src/lattice/bands.ts';
-import { LanczosExp, tridiagonalLowest } from '../src/lattice/linalg.ts';
+import { tridiagonalLowest } from '../src/lattice/linalg.ts';
+import { KrylovExp } from '../src/quantum/krylov.ts';
 import {
   applyTerms,
   cdTerms,
@@ -231,9 +232,9 @@ describe('lattice linear algebra and sampling (src/lattice/linalg.ts, sequence.t
     const En = (2 - 2 * Math.cos((n * Math.PI) / (M + 1))) / (h * h);
     const v = new Float64Array(2 * M);
     for (let j = 0; j < M; j++) v[2 * j] = Math.sin((n * (j + 1) * Math.PI) / (M + 1)) / Math.sqrt((M + 1) / 2);
-    const kry = new LanczosExp(2 * M, 30);
+    const kry = new KrylovExp(2 * M, 30);
     const out = new Float64Array(2 * M);
-    kry.apply((x, y) => applyTerms(t, x, y), 0.7, v, out, 1e-12);
+    kry.expm((x, y) => applyTerms(t, x, y), v, 0.7, 1e-12, out);
     for (let j = 0; j < M; j += 17) {
       expect(out[2 * j]).toBeCloseTo(v[2 * j] * Math.cos(En * 0.7), 9);
       expect(out[2 * j + 1]).toBeCloseTo(-v[2 * j] * Math.sin(En * 0.7), 9);

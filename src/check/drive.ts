@@ -18,6 +18,7 @@
  */
 import { UserError } from '../io/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { intervalIndex } from '../spectral/ops.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
 import { complexFromReal, SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type ThermalSummary } from '../quantum/observables.ts';
@@ -59,12 +60,7 @@ function locate(knots: readonly number[], lambda: number): { i: number; t: numbe
   const n = knots.length;
   if (n === 1 || lambda <= knots[0]) return { i: 0, t: 0 };
   if (lambda >= knots[n - 1]) return { i: Math.max(0, n - 2), t: 1 };
-  let lo = 0, hi = n - 1;
-  while (hi - lo > 1) {
-    const mid = (lo + hi) >> 1;
-    if (knots[mid] <= lambda) lo = mid;
-    else hi = mid;
-  }
+  const lo = intervalIndex(knots, lambda);
   return { i: lo, t: (lambda - knots[lo]) / (knots[lo + 1] - knots[lo]) };
 }
 

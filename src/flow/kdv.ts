@@ -16,6 +16,7 @@
 import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients } from './etdrk4.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { intervalIndex } from '../spectral/ops.ts';
 
 /** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): four rungs per octave keeps the cache small and h/2 on it */
 export const LADDER_DIVISIONS = 4;
@@ -194,14 +195,7 @@ export class DenseFlow {
     if (!(lambda >= ls[0] - 1e-12 && lambda <= ls[ls.length - 1] + 1e-12)) {
       throw new RangeError(`λ = ${lambda} is outside the computed sequence [${ls[0]}, ${ls[ls.length - 1]}]`);
     }
-    let lo = 0;
-    let hi = ls.length - 1;
-    while (hi - lo > 1) {
-      const mid = (lo + hi) >> 1;
-      if (ls[mid] <= lambda) lo = mid;
-      else hi = mid;
-    }
-    return Math.min(lo, Math.max(0, ls.length - 2));
+    return intervalIndex(ls, lambda);
   }
   private combine(lambda: number, out: Float64Array, derivative: boolean): Float64Array {
     const spec = this.spec;

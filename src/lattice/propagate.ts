@@ -12,7 +12,7 @@
  * ‖ψ_Δ − ψ_{Δ/2,Δ/2}‖/15 per state, accepted when below tol·Δ/T (error per unit time), the finer result kept.
  */
 import { applyTerms, cdTerms, combineTerms, emptyTerms, normBound, type LatticeTerms } from './operators.ts';
-import { LanczosExp } from './linalg.ts';
+import { KrylovExp } from '../quantum/krylov.ts';
 import type { LatticeSequence } from './sequence.ts';
 
 /** controller safety factor, largest growth and shrink per step (common practice, cf. scipy.integrate: 0.9, 5, 0.2) */
@@ -64,7 +64,7 @@ export class LatticePropagator {
   private readonly t1: LatticeTerms;
   private readonly t2: LatticeTerms;
   private readonly ex: LatticeTerms;
-  private readonly krylov: LanczosExp;
+  private readonly krylov: KrylovExp;
   private readonly op: (x: Float64Array, y: Float64Array) => void;
   private readonly tmpA: Float64Array;
   private readonly tmpB: Float64Array;
@@ -77,7 +77,7 @@ export class LatticePropagator {
     this.t1 = emptyTerms(M, drive.h);
     this.t2 = emptyTerms(M, drive.h);
     this.ex = emptyTerms(M, drive.h);
-    this.krylov = new LanczosExp(2 * M, KRYLOV_DIM);
+    this.krylov = new KrylovExp(2 * M, KRYLOV_DIM);
     this.op = (x, y) => applyTerms(this.ex, x, y);
     this.tmpA = new Float64Array(2 * M);
     this.tmpB = new Float64Array(2 * M);
@@ -96,9 +96,9 @@ export class LatticePropagator {
     this.hamiltonianAt(s + C2 * dt, this.t2);
     for (let k = 0; k < states.length; k++) {
       combineTerms(A2, this.t1, A1, this.t2, this.ex);
-      this.krylov.apply(this.op, dt, states[k], this.tmpA, tol);
+      this.krylov.expm(this.op, states[k], dt, tol, this.tmpA);
       combineTerms(A1, this.t1, A2, this.t2, this.ex);
-      this.krylov.apply(this.op, dt, this.tmpA, out[k], tol);
+      this.krylov.expm(this.op, this.tmpA, dt, tol, out[k]);
     }
   }
 

@@ -10,6 +10,7 @@
  */
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { intervalIndex } from '../spectral/ops.ts';
 
 /** what the lattice needs from a designed sequence (DenseFlow of flow/kdv.ts satisfies it) */
 export interface DenseSequence {
@@ -103,15 +104,7 @@ export class LatticeSequence {
   }
 
   private locate(lambda: number): number {
-    const ls = this.lambdas;
-    let lo = 0;
-    let hi = ls.length - 1;
-    while (hi - lo > 1) {
-      const mid = (lo + hi) >> 1;
-      if (ls[mid] <= lambda) lo = mid;
-      else hi = mid;
-    }
-    return Math.min(lo, Math.max(0, ls.length - 2));
+    return intervalIndex(this.lambdas, lambda);
   }
 
   /** u(ξ_j, λ) into out (λ clamped to the computed range) */

@@ -76,3 +76,18 @@ export function resample(u: Float64Array, nOut: number): Float64Array {
   realFFT(nOut).inverse(t, out);
   return out;
 }
+
+/**
+ * Index i of the interval [knots[i], knots[i+1]] holding x, for ascending knots (binary search; values outside
+ * the range give the first or last interval). Shared by the dense outputs and sequence interpolants.
+ */
+export function intervalIndex(knots: ArrayLike<number>, x: number): number {
+  let lo = 0;
+  let hi = knots.length - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (knots[mid] <= x) lo = mid;
+    else hi = mid;
+  }
+  return Math.min(lo, Math.max(0, knots.length - 2));
+}
