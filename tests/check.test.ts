@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { encodeNpy } from '../src/io/npy.ts';
 import { writeCsv } from '../src/io/csv.ts';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import { integrateFlow } from '../src/flow/kdv.ts';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
 import { spectrum } from '../src/spectral/ops.ts';

@@ -5,7 +5,7 @@ import { analyticProfile, FourierProfile, sech2Profile, staticSequence } from '.
 import { BreakingError, characteristicsSequence, hopfBreaking, hopfCharacteristics } from '../src/classical/hopf.ts';
 import { integrateTrajectories, phaseState, type PhaseHamiltonian } from '../src/classical/symplectic.ts';
 import { integrateFlow, naturalFlowEquation } from '../src/flow/kdv.ts';
-import { makeRamp } from '../src/quantum/ramp.ts';
+import { makeRamp } from '../src/protocol/ramp.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 
 const sech2 = (z: number) => 1 / Math.cosh(z) ** 2;

@@ -5,7 +5,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { parse as parseYaml } from 'yaml';
 import { z } from 'zod';
 import { configSchema, loadConfig, parseConfig, parseConfigWith, strictSection, unitSystemOf } from '../src/io/config.ts';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import { encodeNpy } from '../src/io/npy.ts';
 
 // Every expected value below is the project brief's config schema (keys, defaults, allowed ranges), restated

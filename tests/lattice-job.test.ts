@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { decodeNpy } from '../src/io/npy.ts';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import type { CompareConfig } from '../src/jobs/compare.ts';
 import { makeContext } from '../src/jobs/context.ts';
 import { effectiveMassConfig, latticeParameters, LATTICE_FILES, parseLatticeConfig, runLattice, writeLatticeOutputs } from '../src/jobs/lattice.ts';

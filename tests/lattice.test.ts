@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { bandEnergies, lowestBand, mathieuA0B1, mathieuA1B2, planeWaveCutoff, tunnellingEstimate } from '../src/lattice/bands.ts';
-import { tridiagonalLowest } from '../src/lattice/linalg.ts';
-import { KrylovExp } from '../src/quantum/krylov.ts';
+import { tridiagonalLowest } from '../src/linalg/tridiagonal-lowest.ts';
+import { KrylovExp } from '../src/integrate/krylov.ts';
 import {
   applyTerms,
   cdTerms,
@@ -15,7 +15,7 @@ import {
 import { complexOf, LatticePropagator, overlap2 } from '../src/lattice/propagate.ts';
 import { chainSites, LatticeSequence, TrigSampler } from '../src/lattice/sequence.ts';
 import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
-import { makeRamp } from '../src/quantum/ramp.ts';
+import { makeRamp } from '../src/protocol/ramp.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { verifyOnLattice } from '../src/jobs/lattice.ts';
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { groupDegenerate, lowestEigenpairs } from '../src/quantum/eigen.ts';
-import { tridiagEigen } from '../src/quantum/tridiag.ts';
+import { tridiagEigen } from '../src/linalg/tridiag.ts';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 
 describe('tridiagonal QL', () => {

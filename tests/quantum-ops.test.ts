@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { cdTerms, dotIm, dotRe, emptyTerms, SpectralOperator } from '../src/quantum/hamiltonian.ts';
-import { makeRamp } from '../src/quantum/ramp.ts';
+import { makeRamp } from '../src/protocol/ramp.ts';
 import { complexDeterminant, fermionFidelity, eigenspaceFidelity } from '../src/quantum/observables.ts';
-import { makeRng } from '../src/quantum/eigen.ts';
+import { makeRng } from '../src/core/rng.ts';
 import { Matrix, determinant } from 'ml-matrix';
 
 describe('ramps', () => {

@@ -3,9 +3,10 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
 import { emptyTerms, SpectralOperator, type OperatorTerms, complexFromReal } from '../src/quantum/hamiltonian.ts';
 import { propagate, kdvDrive, type DrivenHamiltonian, type Scheme } from '../src/quantum/propagator.ts';
-import { lowestEigenpairs, groupDegenerate, makeRng } from '../src/quantum/eigen.ts';
+import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
+import { makeRng } from '../src/core/rng.ts';
 import { eigenspaceFidelity, groupOf, fermionFidelity } from '../src/quantum/observables.ts';
-import { makeRamp } from '../src/quantum/ramp.ts';
+import { makeRamp } from '../src/protocol/ramp.ts';
 
 /**
  * Exact exp(−iMt)ψ for the dense Hermitian matrix M of an operator, through the real symmetric embedding

@@ -5,7 +5,7 @@ import { propagate, kdvDrive } from '../src/quantum/propagator.ts';
 import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
 import { complexFromReal } from '../src/quantum/hamiltonian.ts';
 import { eigenspaceFidelity, groupOf } from '../src/quantum/observables.ts';
-import { makeRamp } from '../src/quantum/ramp.ts';
+import { makeRamp } from '../src/protocol/ramp.ts';
 
 /**
  * Two-soliton split of −6 sech²ξ (closed form, Drazin & Johnson, Solitons: an Introduction, 1989; physics.md §4):

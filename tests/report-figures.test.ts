@@ -7,7 +7,7 @@ import { barChart, heatmap, lineChart } from '../src/report/figures.ts';
 import { crc32, encodePngRgba } from '../src/report/png.ts';
 import { renderReport } from '../src/report/html.ts';
 import { hexToRgb, viridisRgb } from '../src/report/style.ts';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import {
   allAttributeValues,
   fitAxis,

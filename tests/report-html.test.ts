@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { barChart, heatmap, lineChart } from '../src/report/figures.ts';
 import { escapeHtml, renderReport } from '../src/report/html.ts';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import { parseHtml } from './report-helpers.ts';
 
 const x = Float64Array.from({ length: 50 }, (_, i) => i / 49);

@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { UserError } from '../src/io/errors.ts';
+import { UserError } from '../src/core/errors.ts';
 import { ATOMIC_MASS_CONSTANT, BOLTZMANN_K, HBAR, PLANCK_H } from '../src/units/constants.ts';
 import { DISPERSION_EXPLANATION, dispersionNumber, energyScale, makeUnitSystem, type UnitSystem } from '../src/units/scales.ts';
 import { resolveSpecies, SPECIES, SPECIES_NAMES, speciesMass } from '../src/units/species.ts';

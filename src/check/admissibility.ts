@@ -16,7 +16,7 @@
  */
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
-import { boundEnergies } from '../quantum/bound.ts';
+import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 import { fornbergWeights, stencilFor } from './fornberg.ts';
 
 /** frames in the λ-stencil: fourth order on uniform frames, as asked for a "high-order" derivative */
@@ -204,7 +204,7 @@ function median(v: number[]): number {
 
 /** Bound-state energies of k² + u at the chosen frames and their deviations from the sequence median. */
 export function spectrumCheck(grid: Grid, frames: readonly Float64Array[], indices: readonly number[]): SpectrumCheck {
-  const threshold = -(((2 * Math.PI) / grid.length) ** 2);
+  const threshold = boxThreshold(grid.length);
   const energies = indices.map((i) => boundEnergies(grid, frames[i], threshold).energies);
   const counts = energies.map((e) => e.length);
   const tally = new Map<number, number>();

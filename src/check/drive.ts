@@ -16,14 +16,14 @@
  * coefficients a(λ), θ(λ) are interpolated LINEARLY between the frames where they were fitted (second order in the
  * frame spacing; g(ξ, λ) = Σ θ_c(λ) φ_c(ξ, λ) uses the interpolated u for the u-term), and held constant outside.
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { intervalIndex } from '../spectral/ops.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
 import { complexFromReal, SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type ThermalSummary } from '../quantum/observables.ts';
 import { Propagator, type DrivenHamiltonian, type Scheme } from '../quantum/propagator.ts';
-import { makeRamp, type Ramp, type RampKind } from '../quantum/ramp.ts';
+import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { lambdaDerivatives, STENCIL_WIDTH, type FrameFit } from './admissibility.ts';
 import { DEGENERACY_TOL, evaluateG, legendreTable, type VariationalFit } from './variational.ts';
 

@@ -27,7 +27,7 @@ import { existsSync, readFileSync, statSync } from 'node:fs';
 import { basename, dirname, extname, join } from 'node:path';
 import { parse as parseYaml } from 'yaml';
 import { readNumericCsv } from '../io/csv.ts';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { decodeNpy } from '../io/npy.ts';
 import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
 import { makeUnitSystem, type UnitSystem } from '../units/scales.ts';

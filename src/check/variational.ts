@@ -35,11 +35,12 @@
  * weight; the kept columns are solved by Householder QR (ml-matrix QrDecomposition).
  */
 import { Matrix, QrDecomposition } from 'ml-matrix';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
 import { lambdaDerivatives, STENCIL_WIDTH } from './admissibility.ts';
+import { boxThreshold } from '../quantum/bound.ts';
 
 /** Legendre terms P₁ … P_K in the basis of g (plus u and 1: "a few dozen terms") */
 export const LEGENDRE_TERMS = 24;
@@ -387,7 +388,7 @@ export function fitGaugePotential(grid: Grid, u: Float64Array, uLambda: Float64A
 
 /** number of bound levels (E < −(2π/L)², the box threshold of check/admissibility.ts) among the lowest few */
 function boundCount(grid: Grid, u: Float64Array, method?: EigenMethod): number {
-  const eb = -(((2 * Math.PI) / grid.length) ** 2);
+  const eb = boxThreshold(grid.length);
   let count = Math.min(grid.n, 16);
   for (;;) {
     const e = lowestEigenpairs(grid, u, count, { method }).energies;

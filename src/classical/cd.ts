@@ -11,7 +11,7 @@
  * shells). Along the quantum (KdV) sequence dH₀/ds = −λ′u_xxx: the drift is set by the dispersive term, ∝ δ².
  * σ = −1 (the correction with the wrong sign) gives dH₀/ds = 2λ′u_λ.
  */
-import type { Ramp } from '../quantum/ramp.ts';
+import type { Ramp } from '../protocol/ramp.ts';
 import { orbitAction } from './action.ts';
 import type { Profile1D, SequenceField } from './field.ts';
 import { integrateTrajectories, phaseState, type PhaseHamiltonian, type PhaseState } from './symplectic.ts';

@@ -15,7 +15,7 @@
 import { integrateFlow, type DenseFlow, type FlowEquation } from '../flow/kdv.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample } from '../spectral/ops.ts';
-import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { phaseSpaceCheck, shellStarts, suggestSteps, wellShape } from './cd.ts';
 import { FourierProfile, spectralSequence } from './field.ts';
 import { hopfBreaking } from './hopf.ts';

@@ -6,7 +6,8 @@
 import { Command, CommanderError } from 'commander';
 import { join } from 'node:path';
 import { readFileSync } from 'node:fs';
-import { UserError } from '../io/errors.ts';
+import { NumericalError, UserError } from '../core/errors.ts';
+import { isRampKind, RAMP_KINDS } from '../protocol/ramp.ts';
 import { runDesign, toJson, writeDesignOutputs } from '../jobs/design.ts';
 import { compareFigures, renderFolder, writeFigures, writeLatticeFigures, type CompareFileLike } from '../jobs/report.ts';
 import { runVerify, writeVerifyOutputs, type VerifyFile } from '../jobs/verify.ts';
@@ -97,8 +98,8 @@ function variationalOptions(opts: CheckCliOptions) {
     return undefined;
   }
   const ramp = opts.variationalRamp;
-  if (ramp !== undefined && ramp !== 'sin2' && ramp !== 'smooth' && ramp !== 'linear') {
-    throw new UserError(`option --variational-ramp = ${JSON.stringify(ramp)} is not allowed: must be sin2, smooth or linear`);
+  if (ramp !== undefined && !isRampKind(ramp)) {
+    throw new UserError(`option --variational-ramp = ${JSON.stringify(ramp)} is not allowed: must be one of ${RAMP_KINDS.join(', ')}`);
   }
   const int = (name: string, v: string | undefined) => {
     const x = numberOption(name, v);
@@ -109,7 +110,7 @@ function variationalOptions(opts: CheckCliOptions) {
     duration,
     states: int('variational-states', opts.variationalStates),
     temperature: numberOption('variational-temperature', opts.variationalTemperature),
-    ramp: ramp as 'sin2' | 'smooth' | 'linear' | undefined,
+    ramp,
     legendre: int('variational-legendre', opts.variationalLegendre),
   };
 }
@@ -340,7 +341,7 @@ export async function main(argv: string[]): Promise<number> {
     return code;
   } catch (err) {
     if (err instanceof CommanderError) return err.exitCode === 0 ? 0 : 2;
-    if (err instanceof UserError) {
+    if (err instanceof UserError || err instanceof NumericalError) {
       process.stderr.write(`isotrap: ${err.message}\n`);
       return err.exitCode;
     }

@@ -13,7 +13,7 @@
  * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Every accepted step is kept for dense output (cubic Hermite in λ with u_λ from
  * the right-hand side), so that the Schrödinger solver can ask for u at any λ.
  */
-import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients } from './etdrk4.ts';
+import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients } from '../integrate/etdrk4.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { intervalIndex } from '../spectral/ops.ts';

@@ -20,7 +20,8 @@ import { z } from 'zod';
 import { SPECIES, SPECIES_CHOICES, type SpeciesChoice } from '../units/species.ts';
 import { makeUnitSystem, type EnergyUnit, type UnitSystem } from '../units/scales.ts';
 import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
-import { UserError } from './errors.ts';
+import { RAMP_KINDS } from '../protocol/ramp.ts';
+import { UserError } from '../core/errors.ts';
 
 /** longest rendering of a bad value inside a message (a whole list would drown the message) */
 const MAX_VALUE_CHARS = 80;
@@ -242,11 +243,10 @@ export const flowSchema = strictSection(
   'flow',
 );
 
-export const RAMPS = ['sin2', 'smooth', 'linear'] as const;
 export const protocolSchema = strictSection(
   {
     duration: positive('ramp duration, in t₀ (natural) or ms (lab)'),
-    ramp: oneOf(RAMPS).default('sin2'),
+    ramp: oneOf(RAMP_KINDS).default('sin2'),
   },
   'protocol',
 );

@@ -4,7 +4,7 @@
  * lines whose first non-blank character is '#' are skipped. Rows and columns in messages are 1-based; the row
  * is the line number in the file, so it matches what an editor shows. A leading byte-order mark is ignored.
  */
-import { UserError } from './errors.ts';
+import { UserError } from '../core/errors.ts';
 
 /** report at most this many problems in one error (a broken file would otherwise give thousands of lines) */
 const MAX_REPORTED_ISSUES = 10;

@@ -4,7 +4,7 @@
 import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
-import { UserError } from './errors.ts';
+import { UserError } from '../core/errors.ts';
 
 /**
  * Write `data` to `path` atomically: the bytes go to a temporary file in the same directory (same file system,

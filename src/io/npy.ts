@@ -4,7 +4,7 @@
  *   uint32 little-endian in 2.0), an ASCII Python-literal dict {'descr', 'fortran_order', 'shape'} padded with
  *   spaces and ended by '\n' so that magic + version + length + header is a multiple of 64 bytes, then the data.
  */
-import { UserError } from './errors.ts';
+import { UserError } from '../core/errors.ts';
 
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]; // "\x93NUMPY"
 /** total preamble + header is padded to this (numpy.lib.format: ARRAY_ALIGN = 64) */

@@ -9,7 +9,7 @@
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { extname } from 'node:path';
 import { readNumericCsv } from './csv.ts';
-import { UserError } from './errors.ts';
+import { UserError } from '../core/errors.ts';
 import { decodeNpy } from './npy.ts';
 
 /** relative tolerance on the sample spacing: far above float64 round-off of printed x values, far below any real non-uniformity */

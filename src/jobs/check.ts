@@ -8,7 +8,7 @@
 import { join } from 'node:path';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { HBAR } from '../units/constants.ts';
 import { fitFrames, spectrumCheck, STENCIL_WIDTH, type FrameFit, type SpectrumCheck } from '../check/admissibility.ts';
 import { readSequence, type Sequence, type SequenceUnitsInput } from '../check/sequence.ts';
@@ -16,7 +16,7 @@ import { repairSequence, REPAIR_TOLERANCE, type Repair, type RepairMode } from '
 import { toJson } from './design.ts';
 import { variationalFit, type VariationalFit } from '../check/variational.ts';
 import { compareCorrections, cubicSchedule, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
-import type { RampKind } from '../quantum/ramp.ts';
+import type { RampKind } from '../protocol/ramp.ts';
 
 /** opt-in: variational correction per frame and a side-by-side Schrödinger comparison (check/variational.ts, drive.ts) */
 export interface VariationalCheckOptions {

@@ -42,10 +42,10 @@ import {
   type ScalingStudy,
 } from '../classical/scaling.ts';
 import { configSchema, parseConfigWith, parseYaml, readConfigText, strictSection, type ConfigMeta } from '../io/config.ts';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
-import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { verifySequence } from '../quantum/verify.ts';
 import { characteristicsBreaking, scalesText, toJson } from './design.ts';
 import { makeContext, type JobContext } from './context.ts';

@@ -2,7 +2,7 @@
  * Shared set-up of a job from a validated config: the unit system, the natural-units grid and the initial
  * potential u(ξ, 0). Everything numerical below this layer works in natural units (physics.md §3).
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { unitSystemOf, type Config } from '../io/config.ts';
 import { readSamplesFile } from '../io/samples.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';

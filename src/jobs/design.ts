@@ -10,7 +10,7 @@ import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
-import { boundEnergies } from '../quantum/bound.ts';
+import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 import { derivative } from '../spectral/ops.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
@@ -115,7 +115,7 @@ export interface DesignSummary {
  * (quantum/bound.ts: dense, on the coarsest grid that resolves u).
  */
 export function boundStates(grid: Grid, u: Float64Array): BoundStates {
-  const threshold = -(((2 * Math.PI) / grid.length) ** 2);
+  const threshold = boxThreshold(grid.length);
   const res = boundEnergies(grid, u, threshold);
   return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
 }

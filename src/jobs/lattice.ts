@@ -40,18 +40,19 @@ import { dirname, join, resolve } from 'node:path';
 import { z } from 'zod';
 import { parseConfigWith, parseYaml, readConfigText, strictSection, type ConfigMeta, type UnitsConfig } from '../io/config.ts';
 import { writeCsv } from '../io/csv.ts';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { lowestBand, MAX_DEPTH_RECOIL, tunnellingEstimate } from '../lattice/bands.ts';
-import { tridiagonalLowest } from '../lattice/linalg.ts';
+import { tridiagonalLowest } from '../linalg/tridiagonal-lowest.ts';
 import { applyTerms, cdTerms, emptyTerms, nearestCoupling, nextNearestCoupling, type LatticeTerms } from '../lattice/operators.ts';
 import { complexOf, LatticePropagator, overlap2 } from '../lattice/propagate.ts';
 import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
-import { makeRamp, type Ramp } from '../quantum/ramp.ts';
+import { makeRamp, type Ramp } from '../protocol/ramp.ts';
 import { ATOMIC_MASS_CONSTANT, HBAR, PLANCK_H } from '../units/constants.ts';
 import { compareConfigSchema } from './compare.ts';
 import { runDesign, toJson, type DesignResult } from './design.ts';
+import { boxThreshold } from '../quantum/bound.ts';
 
 /** default sites per soliton width of the convergence study (infidelity ∝ (sites)^−4: 3 → 8 spans ~2 decades) */
 export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
@@ -650,7 +651,7 @@ export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): La
 
   // verification on the configured lattice
   const lowest0 = lowestLatticeStates(seq, 0, h, Math.min(M, 64));
-  const threshold = -(((2 * Math.PI) / grid.length) ** 2);
+  const threshold = boxThreshold(grid.length);
   const bound = Array.from(lowest0.values).filter((e) => e < threshold).length;
   const count = Math.max(1, Math.min(l.states ?? config.verify?.states ?? Math.min(bound, DEFAULT_MAX_STATES), M));
   if (bound === 0) warnings.push('the lattice H(0) has no bound state below the box threshold −(2π/L)²: the fidelities refer to box states');

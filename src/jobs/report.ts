@@ -6,11 +6,11 @@ import { createHash } from 'node:crypto';
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { stringify } from 'yaml';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { decodeNpy } from '../io/npy.ts';
 import { barChart, heatmap, lineChart, renderReport, type ReportFigure, type SummaryRow } from '../report/index.ts';
-import { makeRamp, type RampKind } from '../quantum/ramp.ts';
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import type { LatticeResult } from './lattice.ts';
 
 /** states shown in the fidelity figure (legibility: 2 drives × 4 states = 8 series, one palette) */

@@ -5,12 +5,12 @@
  * Converts the natural-units results of quantum/verify.ts into the config's units.
  */
 import { join } from 'node:path';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import type { Config } from '../io/config.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation } from '../flow/kdv.ts';
-import { makeRamp } from '../quantum/ramp.ts';
+import { makeRamp } from '../protocol/ramp.ts';
 import { verifySequence, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';

@@ -22,7 +22,7 @@
 
 /** deepest lattice whose band width is resolved in double precision (relative error ≲ 1e-4, see above) */
 export const MAX_DEPTH_RECOIL = 150;
-import { tridiagEigen } from '../quantum/tridiag.ts';
+import { tridiagEigen } from '../linalg/tridiag.ts';
 
 /** plane waves n = −P … P: the coupling −s/4 decays the coefficients like (s/16)^n/(n!)², so P = 12 + √s is
  * converged to machine precision for s ≤ 400 (checked against P + 10 in the tests) */

@@ -12,7 +12,7 @@
  * ‖ψ_Δ − ψ_{Δ/2,Δ/2}‖/15 per state, accepted when below tol·Δ/T (error per unit time), the finer result kept.
  */
 import { applyTerms, cdTerms, combineTerms, emptyTerms, normBound, type LatticeTerms } from './operators.ts';
-import { KrylovExp } from '../quantum/krylov.ts';
+import { KrylovExp } from '../integrate/krylov.ts';
 import type { LatticeSequence } from './sequence.ts';
 
 /** controller safety factor, largest growth and shrink per step (common practice, cf. scipy.integrate: 0.9, 5, 0.2) */

@@ -8,7 +8,15 @@
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample, spectrum } from '../spectral/ops.ts';
 import { denseHamiltonian } from './eigen.ts';
-import { tridiagEigen } from './tridiag.ts';
+import { tridiagEigen } from '../linalg/tridiag.ts';
+
+/**
+ * Bound-state threshold of a periodic box of length L: E < −(2π/L)² (natural units E₀). A state decaying more
+ * slowly than L/2π cannot be told from the box's continuum (common practice).
+ */
+export function boxThreshold(length: number): number {
+  return -(((2 * Math.PI) / length) ** 2);
+}
 
 /** coarsest and finest grids tried */
 const GRID_MIN = 128;

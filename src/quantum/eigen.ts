@@ -16,10 +16,11 @@
  * Eigenvectors are real, unit 2-norm (Σ_j v_j² = 1, no dx weight).
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
+import { makeRng } from '../core/rng.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
-import { sortedOrder, tridiagEigen } from './tridiag.ts';
+import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
 
 /** residual tolerance relative to ‖H‖ (the brief's ~1e-10·‖H‖) */
 const RESIDUAL_REL = 1e-10;
@@ -60,17 +61,6 @@ export interface EigenOptions {
   filterDegree?: number;
 }
 
-/** mulberry32 pseudo-random generator (common practice; public-domain 32-bit generator) */
-export function makeRng(start: number): () => number {
-  let a = start >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** real symmetric H = k² + u applied with the real FFT; allocation-free after construction */
 export class RealHamiltonian {

@@ -17,7 +17,7 @@
  *   of the Hermitian matrix M_ij = ⟨φ_i|O|φ_j⟩ through its real symmetric 2n×2n embedding [[Re M, −Im M],[Im M, Re M]].
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { bareTerms, dotIm, dotRe, norm2, SpectralOperator, type OperatorTerms } from './hamiltonian.ts';
 import { groupDegenerate } from './eigen.ts';
 

@@ -32,11 +32,11 @@
  * the interval, err ≤ δ·h/(s₁ − s₀) per step, so Σ err ≤ δ. This is conservative: on the two-soliton case
  * (N = 512, etd4) tol = 1e-6 gave a true worst infidelity 1.6e-11 and tol = 1e-8 gave 1e-14.
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { emptyTerms, normBound, SpectralOperator, type OperatorTerms, cdTerms } from './hamiltonian.ts';
-import { KrylovExp } from './krylov.ts';
-import type { Ramp } from './ramp.ts';
+import { KrylovExp } from '../integrate/krylov.ts';
+import type { Ramp } from '../protocol/ramp.ts';
 
 export type Scheme = 'magnus4' | 'split4' | 'etd4';
 export const SCHEMES: readonly Scheme[] = ['magnus4', 'split4', 'etd4'];

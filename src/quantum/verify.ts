@@ -6,13 +6,14 @@
  * subspace, and the isospectrality drift (eigenvalues of H(λ_end) vs H(0): they must not move along an
  * admissible sequence). Results are plain JSON-serialisable objects.
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
 import { complexFromReal, laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, groupOf, projectedNorm, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
-import { makeRamp, type RampKind } from './ramp.ts';
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
+import { boxThreshold } from './bound.ts';
 
 export type DriveKind = 'cd' | 'bare' | 'flipped';
 export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped: -1 };
@@ -94,7 +95,7 @@ export interface VerifyResult {
 }
 
 function eigenWithBound(grid: Grid, u: Float64Array, method: EigenMethod | undefined): { res: EigenResult; bound: number } {
-  const eb = -(((2 * Math.PI) / grid.length) ** 2);
+  const eb = boxThreshold(grid.length);
   let count = Math.min(grid.n, 16);
   for (;;) {
     const res = lowestEigenpairs(grid, u, count, { method });

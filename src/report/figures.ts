@@ -13,7 +13,7 @@
  * labels remain vector.
  */
 import type { ContinuousScale, D3Selection } from 'd3-node';
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { encodePngRgba, pngDataUri } from './png.ts';
 import {
   FONT_PT,

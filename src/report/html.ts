@@ -3,7 +3,7 @@
  * resources, readable offline and printable. All text is escaped for HTML (& < > " '); figure SVGs are
  * inserted as markup after a check that they are plain SVG (no script, no foreignObject, no external refs).
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 
 export interface SummaryRow {
   key: string;

@@ -6,7 +6,7 @@
  * Table I "atomic mass" column). Values are from memory of that table, rounded to 1e-9 u, apart from ⁸⁷Rb which
  * is also quoted in /work/shared/physics.md §3 (86.909180531 u).
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 import { ATOMIC_MASS_CONSTANT } from './constants.ts';
 
 export interface SpeciesData {

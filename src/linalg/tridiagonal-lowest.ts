@@ -1,13 +1,13 @@
 /**
- * Small linear-algebra kernels of the lattice module (the tridiagonal QL solver is quantum/tridiag.ts):
+ * Small linear-algebra kernels of the lattice module (the tridiagonal QL solver is linalg/tridiag.ts):
  *
  *  - `TridiagonalLowest`: lowest eigenpairs of a large real symmetric tridiagonal matrix by Sturm-sequence
  *    bisection and inverse iteration (Wilkinson, The Algebraic Eigenvalue Problem, 1965, ch. 5 §37–§48;
  *    Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.4.1).
  *
- * Krylov exponentials of the lattice Hamiltonians use the shared quantum/krylov.ts (KrylovExp).
+ * Krylov exponentials of the lattice Hamiltonians use the shared integrate/krylov.ts (KrylovExp).
  */
-import { tridiagEigen } from '../quantum/tridiag.ts';
+import { tridiagEigen } from './tridiag.ts';
 
 /** bisection stops when the bracket is this many ulps of the spectral scale wide (≈ machine precision) */
 const BISECTION_REL = 4 * Number.EPSILON;

@@ -9,10 +9,15 @@
  * λ'·A_λ vanishes at the ends only if λ'(0) = λ'(T) = 0 (physics.md §1): `linear` violates this, so the
  * CD Hamiltonian differs from H at the start and the end; `endSlopeZero` says which case applies.
  */
-import { UserError } from '../io/errors.ts';
+import { UserError } from '../core/errors.ts';
 
-export type RampKind = 'sin2' | 'smooth' | 'linear';
-export const RAMP_KINDS: readonly RampKind[] = ['sin2', 'smooth', 'linear'];
+export const RAMP_KINDS = ['sin2', 'smooth', 'linear'] as const;
+export type RampKind = (typeof RAMP_KINDS)[number];
+
+/** true when `name` is one of RAMP_KINDS */
+export function isRampKind(name: string): name is RampKind {
+  return (RAMP_KINDS as readonly string[]).includes(name);
+}
 
 export interface Ramp {
   readonly kind: RampKind;

@@ -8,7 +8,7 @@
  * dimension, the step is cut into sub-steps that reuse the same basis (the scheme of Sidje, Expokit, ACM TOMS 24,
  * 130, 1998), so any h is accepted. Buffers are allocated in the constructor only.
  */
-import { tridiagEigen } from './tridiag.ts';
+import { tridiagEigen } from '../linalg/tridiag.ts';
 
 /** smallest dimension before the error estimate is first evaluated (estimate unreliable below) */
 const MIN_CHECK_DIM = 4;
