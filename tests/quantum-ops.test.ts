@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
-import { cdTerms, dotIm, dotRe, emptyTerms, SpectralOperator } from '../src/quantum/hamiltonian.ts';
+import { cdTerms, emptyTerms, SpectralOperator } from '../src/quantum/hamiltonian.ts';
+import { dotIm, dotRe } from '../src/linalg/complex.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
 import { complexDeterminant, fermionFidelity, eigenspaceFidelity } from '../src/quantum/observables.ts';
 import { makeRng } from '../src/core/rng.ts';

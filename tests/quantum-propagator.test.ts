@@ -1,8 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
-import { emptyTerms, SpectralOperator, type OperatorTerms, complexFromReal } from '../src/quantum/hamiltonian.ts';
-import { propagate, kdvDrive, type DrivenHamiltonian, type Scheme } from '../src/quantum/propagator.ts';
+import { emptyTerms, SpectralOperator, type OperatorTerms } from '../src/quantum/hamiltonian.ts';
+import { complexFromReal } from '../src/linalg/complex.ts';
+import { kdvDrive, type DrivenHamiltonian, type Scheme } from '../src/quantum/propagator.ts';
+import { propagate } from './reference/schemes.ts';
+import type { KineticIntegrable } from './reference/split4.ts';
 import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
 import { makeRng } from '../src/core/rng.ts';
 import { eigenspaceFidelity, groupOf, fermionFidelity } from '../src/quantum/observables.ts';
@@ -50,7 +53,7 @@ function denseExp(grid: Grid, t: OperatorTerms, psi: Float64Array, time: number)
   return out;
 }
 
-function constantHamiltonian(grid: Grid, pieces: Array<{ until: number; terms: OperatorTerms }>): DrivenHamiltonian {
+function constantHamiltonian(grid: Grid, pieces: Array<{ until: number; terms: OperatorTerms }>): KineticIntegrable {
   return {
     grid,
     terms(s, out) {

@@ -3,7 +3,7 @@ import { makeGrid } from '../src/spectral/grid.ts';
 import { verifySequence } from '../src/quantum/verify.ts';
 import { propagate, kdvDrive } from '../src/quantum/propagator.ts';
 import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
-import { complexFromReal } from '../src/quantum/hamiltonian.ts';
+import { complexFromReal } from '../src/linalg/complex.ts';
 import { eigenspaceFidelity, groupOf } from '../src/quantum/observables.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
 

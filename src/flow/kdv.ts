@@ -5,28 +5,31 @@
  *
  * In Fourier space û_t = L û + N(û) with L = i(βk³ − ck) (k odd: Nyquist zeroed) and
  * N(û) = −(α/2) ik · P₂/₃ F[(F⁻¹û)²] (2/3-rule dealiasing, Orszag, J. Atmos. Sci. 28, 1074, 1971).
- * Time stepping: ETDRK4 (etdrk4.ts) with step-doubling error control and local Richardson extrapolation
+ * Time stepping: ETDRK4 (integrate/etdrk4.ts) with step-doubling error control and local Richardson extrapolation
  * (Hairer, Nørsett & Wanner, Solving ODEs I, 2nd ed. 1993, §II.4): one step h and two steps h/2 give the
- * error estimate ‖y_{h/2} − y_h‖/15 and the fifth-order result y_{h/2} + (y_{h/2} − y_h)/15. (An embedded
- * FSAL estimate f₃·(N(u_{n+1}) − N(c)) was tried: it needs as many right-hand sides for the same accuracy on
- * the two-soliton benchmark and is less sharp.) Step sizes live on a geometric ladder so the exponential
- * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Every accepted step is kept for dense output (cubic Hermite in λ with u_λ from
- * the right-hand side), so that the Schrödinger solver can ask for u at any λ.
+ * error estimate ‖y_{h/2} − y_h‖/15 and the fifth-order result y_{h/2} + (y_{h/2} − y_h)/15; the step factor comes
+ * from the shared controller (integrate/controller.ts). Step sizes live on a geometric ladder so the exponential
+ * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Every
+ * accepted step is kept for dense output (cubic Hermite in λ with u_λ from the right-hand side), so that the
+ * Schrödinger solver can ask for u at any λ.
  */
-import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients } from '../integrate/etdrk4.ts';
+import { NumericalError } from '../core/errors.ts';
+import { errorExponent, stepFactor } from '../integrate/controller.ts';
+import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients, type Etdrk4Workspace } from '../integrate/etdrk4.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { intervalIndex } from '../spectral/ops.ts';
 
 /** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): four rungs per octave keeps the cache small and h/2 on it */
 export const LADDER_DIVISIONS = 4;
-/** step-size controller safety factor (common practice, cf. scipy.integrate RK: 0.9) */
-export const SAFETY = 0.9;
-/** largest growth and shrink of the step per attempt (common practice) */
-export const MAX_FACTOR = 4;
-export const MIN_FACTOR = 0.2;
-/** the step-doubling estimate of ETDRK4 scales as h⁵: controller exponent 1/5 */
-export const ERROR_EXPONENT = 1 / 5;
+/** order of ETDRK4 (Cox & Matthews 2002): the step-doubling estimate scales as h⁵ */
+const ETDRK4_ORDER = 4;
+/** Richardson factor 2⁴ − 1 of a fourth-order method */
+const RICHARDSON = 15;
+/** coefficient sets kept before the cache is emptied (ladder rungs, halves and frame-landing steps; bounds memory) */
+const COEFFICIENT_CACHE_SIZE = 256;
+/** default cap on step attempts (a runaway guard far above any design run) */
+const MAX_STEPS_DEFAULT = 2_000_000;
 /** a dispersionless flow is declared broken when the top of the retained band reaches this amplitude relative
  * to the largest mode: the truncated Fourier series no longer represents the steepening front (common practice) */
 export const BREAKING_TAIL = 1e-6;
@@ -89,7 +92,7 @@ export class FlowOperator {
   readonly grid: Grid;
   readonly eq: FlowEquation;
   readonly modes: number;
-  readonly lre: Float64Array;
+  /** L = i·lim (the linear part is purely imaginary) */
   readonly lim: Float64Array;
   readonly fft: RealFFT;
   /** nonlinear prefactor −(α/2) k · mask (multiplies i·F[u²]) */
@@ -105,7 +108,6 @@ export class FlowOperator {
     const n = grid.n;
     this.modes = n / 2 + 1;
     this.fft = new RealFFT(n);
-    this.lre = new Float64Array(this.modes);
     this.lim = new Float64Array(this.modes);
     this.gk = new Float64Array(this.modes);
     this.cutoff = Math.floor(n / 3);
@@ -138,9 +140,9 @@ export class FlowOperator {
   /** û_t = L v + nv, written into out */
   timeDerivative(v: Float64Array, nv: Float64Array, out: Float64Array): void {
     for (let m = 0; m < this.modes; m++) {
-      const lr = this.lre[m], li = this.lim[m];
-      out[2 * m] = lr * v[2 * m] - li * v[2 * m + 1] + nv[2 * m];
-      out[2 * m + 1] = lr * v[2 * m + 1] + li * v[2 * m] + nv[2 * m + 1];
+      const li = this.lim[m];
+      out[2 * m] = -li * v[2 * m + 1] + nv[2 * m];
+      out[2 * m + 1] = li * v[2 * m] + nv[2 * m + 1];
     }
   }
 
@@ -256,31 +258,18 @@ function rmsDifference(a: Float64Array, b: Float64Array, active: number, n: numb
   return Math.sqrt(s) / n;
 }
 
-/** Integrate u_t + αuu_x + βu_xxx + cu_x = 0 from u0 (at λ = 0) through the requested frames. */
-export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, opts: FlowOptions): FlowRun {
-  const started = performance.now();
-  const n = grid.n;
-  const op = new FlowOperator(grid, eq);
-  const modes = op.modes;
-  const frames = [...opts.frames];
-  const tEnd = frames[frames.length - 1];
-  if (!(tEnd > 0)) throw new RangeError(`flow end λ must be positive, got ${tEnd}`);
-  const detectBreaking = opts.detectBreaking ?? eq.beta === 0;
-  const maxSteps = opts.maxSteps ?? 2_000_000;
-  let scale = 0;
-  for (let j = 0; j < n; j++) scale = Math.max(scale, Math.abs(u0[j]));
-  if (scale === 0) scale = 1;
-  const tolAbs = opts.tolerance * scale;
-
-  const alloc = () => new Float64Array(2 * modes);
-  let v = alloc();
+/**
+ * Half spectrum of u0 restricted to the retained (dealiased) band m ≤ N/3. What the initial potential holds beyond
+ * it is returned as `discardedTail` (sqrt of its spectral energy relative to the rest) and dropped: it would only
+ * propagate linearly and alias into the products.
+ */
+function retainedSpectrum(op: FlowOperator, u0: Float64Array): { v: Float64Array; discardedTail: number } {
+  const v = new Float64Array(2 * op.modes);
   op.fft.forward(u0, v);
-  // the state lives on the retained (dealiased) band m ≤ N/3; what the initial potential holds beyond it is
-  // reported as `discardedTail` and dropped (it would only propagate linearly and alias into the products)
   const active = op.cutoff + 1;
   let discarded = 0;
   let kept = 0;
-  for (let m = 0; m < modes; m++) {
+  for (let m = 0; m < op.modes; m++) {
     const e = v[2 * m] * v[2 * m] + v[2 * m + 1] * v[2 * m + 1];
     if (m >= active) {
       discarded += e;
@@ -288,65 +277,179 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
       v[2 * m + 1] = 0;
     } else if (m > 0) kept += e;
   }
-  const discardedTail = kept > 0 ? Math.sqrt(discarded / kept) : 0;
-  let nv = alloc();
-  op.nonlinear(v, nv);
-  const yFull = alloc();
-  const yMid = alloc();
-  const nMid = alloc();
-  const yHalf = alloc();
-  let vNew = alloc();
-  let nvNew = alloc();
-  const dv = alloc();
-  const ws = etdrk4Workspace(modes);
+  return { v, discardedTail: kept > 0 ? Math.sqrt(discarded / kept) : 0 };
+}
 
-  const dense = new DenseFlow(n, new RealFFT(n));
-  const physical = (spec: Float64Array): Float64Array => {
-    const out = new Float64Array(n);
-    op.fft.inverse(spec, out);
-    return out;
-  };
-  const storeDense = (t: number) => {
-    op.timeDerivative(v, nv, dv);
-    dense.push(t, v, dv, active);
-  };
-  storeDense(0);
-  const outLambdas: number[] = [];
-  const outFrames: Float64Array[] = [];
-  let fi = 0;
-  while (fi < frames.length && frames[fi] <= 0) {
-    // the field the integrator actually evolves: u₀ restricted to the retained band
-    outLambdas.push(frames[fi]);
-    outFrames.push(physical(v));
-    fi++;
-  }
-
-  // initial step: a fraction of the nonlinear time scale 1/(|α| max|u| k_cut), on the ladder
-  const kCut = (2 * Math.PI * op.cutoff) / grid.length;
-  const nlRate = Math.abs(eq.alpha) * scale * kCut + 1e-300;
-  let j = Math.floor(LADDER_DIVISIONS * Math.log2(Math.min(0.5 / nlRate, tEnd / 10)));
-
-  const cache = new Map<number, Etdrk4Coefficients>();
-  let coefficientSets = 0;
-  const coeffs = (h: number): Etdrk4Coefficients => {
-    let c = cache.get(h);
+/** ETDRK4 coefficient sets by step size (steps live on a ladder, so few distinct sizes occur) */
+class CoefficientCache {
+  private readonly cache = new Map<number, Etdrk4Coefficients>();
+  /** sets computed so far */
+  computed = 0;
+  constructor(private readonly lim: Float64Array) {}
+  get(h: number): Etdrk4Coefficients {
+    let c = this.cache.get(h);
     if (!c) {
-      c = etdrk4Coefficients(h, op.lre.subarray(0, active), op.lim.subarray(0, active));
-      coefficientSets++;
-      if (cache.size > 256) cache.clear();
-      cache.set(h, c);
+      c = etdrk4Coefficients(h, this.lim);
+      this.computed++;
+      if (this.cache.size > COEFFICIENT_CACHE_SIZE) this.cache.clear();
+      this.cache.set(h, c);
     }
     return c;
-  };
+  }
+}
 
-  const stats: FlowStats = { accepted: 0, rejected: 0, nonlinearEvaluations: 0, coefficientSets: 0, wallSeconds: 0, errorEstimate: 0, minStep: Infinity, maxStep: 0 };
+/**
+ * Step doubling with local Richardson extrapolation (module comment): `attempt` computes one step h and two steps
+ * h/2 from (v, nv) and returns the error estimate; `extrapolate` writes the fifth-order result into out.
+ */
+class DoublingStepper {
+  private readonly yFull: Float64Array;
+  private readonly yMid: Float64Array;
+  private readonly nMid: Float64Array;
+  private readonly yHalf: Float64Array;
+  private readonly ws: Etdrk4Workspace;
+  readonly coefficients: CoefficientCache;
+  constructor(private readonly op: FlowOperator, private readonly active: number) {
+    const alloc = () => new Float64Array(2 * op.modes);
+    this.yFull = alloc();
+    this.yMid = alloc();
+    this.nMid = alloc();
+    this.yHalf = alloc();
+    this.ws = etdrk4Workspace(op.modes);
+    this.coefficients = new CoefficientCache(op.lim.subarray(0, active));
+  }
+  /** RMS difference of the two results divided by 2⁴ − 1 */
+  attempt(h: number, v: Float64Array, nv: Float64Array): number {
+    const { op, active, ws, yFull, yMid, nMid, yHalf } = this;
+    const half = this.coefficients.get(h / 2);
+    etdrk4Step(this.coefficients.get(h), op.nonlinear, v, nv, yFull, ws, active);
+    etdrk4Step(half, op.nonlinear, v, nv, yMid, ws, active);
+    op.nonlinear(yMid, nMid);
+    etdrk4Step(half, op.nonlinear, yMid, nMid, yHalf, ws, active);
+    return rmsDifference(yHalf, yFull, active, op.grid.n) / RICHARDSON;
+  }
+  /** out = y_{h/2} + (y_{h/2} − y_h)/15 of the last attempt */
+  extrapolate(out: Float64Array): void {
+    const { yHalf, yFull } = this;
+    for (let i = 0; i < 2 * this.active; i++) out[i] = yHalf[i] + (yHalf[i] - yFull[i]) / RICHARDSON;
+  }
+}
+
+/**
+ * Gradient catastrophe of a dispersionless flow: when the spectral tail exceeds BREAKING_TAIL the front is no longer
+ * resolved; the breaking λ is extrapolated along the steepest characteristic, where 1/max(−αu_x) decreases linearly
+ * to zero. Returns null while the field is resolved.
+ */
+function detectBreaking(op: FlowOperator, v: Float64Array, t: number, uxSpec: Float64Array, ux: Float64Array): BreakingInfo | null {
+  const tail = op.tail(v);
+  if (!(tail > BREAKING_TAIL)) return null;
+  const { grid } = op;
+  const n = grid.n;
+  for (let m = 0; m < op.modes; m++) {
+    const k = m === n / 2 ? 0 : grid.kHalf[m];
+    uxSpec[2 * m] = -k * v[2 * m + 1];
+    uxSpec[2 * m + 1] = k * v[2 * m];
+  }
+  op.fft.inverse(uxSpec, ux);
+  let g = 0;
+  for (let i = 0; i < n; i++) g = Math.max(g, -op.eq.alpha * ux[i]);
+  return {
+    lambdaReached: t,
+    lambdaExtrapolated: g > 0 ? t + 1 / g : NaN,
+    reason: `the dispersionless front steepened beyond the grid's resolution (spectral tail ${tail.toExponential(2)} > ${BREAKING_TAIL})`,
+  };
+}
+
+/** Frames at the requested λ and the dense record of every accepted step. */
+class FlowRecorder {
+  readonly lambdas: number[] = [];
+  readonly frames: Float64Array[] = [];
+  readonly dense: DenseFlow;
+  private readonly dv: Float64Array;
+  constructor(private readonly op: FlowOperator, private readonly active: number) {
+    this.dense = new DenseFlow(op.grid.n, new RealFFT(op.grid.n));
+    this.dv = new Float64Array(2 * op.modes);
+  }
+  /** dense point (λ, û, ∂_λû) */
+  store(t: number, v: Float64Array, nv: Float64Array): void {
+    this.op.timeDerivative(v, nv, this.dv);
+    this.dense.push(t, v, this.dv, this.active);
+  }
+  /** physical frame at λ */
+  frame(t: number, v: Float64Array): void {
+    const out = new Float64Array(this.op.grid.n);
+    this.op.fft.inverse(v, out);
+    this.lambdas.push(t);
+    this.frames.push(out);
+  }
+}
+
+/** initial step: a fraction of the nonlinear time scale 1/(|α| max|u| k_cut), as a ladder index */
+function initialLadderIndex(op: FlowOperator, scale: number, tEnd: number): number {
+  const kCut = (2 * Math.PI * op.cutoff) / op.grid.length;
+  const nlRate = Math.abs(op.eq.alpha) * scale * kCut + 1e-300;
+  return Math.floor(LADDER_DIVISIONS * Math.log2(Math.min(0.5 / nlRate, tEnd / 10)));
+}
+
+/** Integrate u_t + αuu_x + βu_xxx + cu_x = 0 from u0 (at λ = 0) through the requested frames. */
+export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, opts: FlowOptions): FlowRun {
+  const started = performance.now();
+  const op = new FlowOperator(grid, eq);
+  const frames = [...opts.frames];
+  const tEnd = frames[frames.length - 1];
+  if (!(tEnd > 0)) throw new RangeError(`flow end λ must be positive, got ${tEnd}`);
+  let scale = 0;
+  for (let j = 0; j < grid.n; j++) scale = Math.max(scale, Math.abs(u0[j]));
+  if (scale === 0) scale = 1;
+  const { v, discardedTail } = retainedSpectrum(op, u0);
+  const active = op.cutoff + 1;
+  const recorder = new FlowRecorder(op, active);
+  const loop = runFlowLoop(op, v, frames, scale, recorder, opts);
+  const ls = loop.stats;
+  const stats: FlowStats = {
+    accepted: ls.accepted, rejected: ls.rejected, nonlinearEvaluations: op.evaluations, coefficientSets: loop.coefficientSets,
+    wallSeconds: (performance.now() - started) / 1000, errorEstimate: ls.errorEstimate, minStep: ls.minStep, maxStep: ls.maxStep,
+  };
+  return { lambdas: recorder.lambdas, frames: recorder.frames, dense: recorder.dense, stats, breaking: loop.breaking, tail: op.tail(loop.v), discardedTail };
+}
+
+interface LoopResult {
+  v: Float64Array;
+  breaking: BreakingInfo | null;
+  coefficientSets: number;
+  stats: Omit<FlowStats, 'nonlinearEvaluations' | 'coefficientSets' | 'wallSeconds'>;
+}
+
+/**
+ * The driver: ladder steps, clipped to land exactly on each frame, accepted when the step-doubling estimate is
+ * within tolerance·max|u(0)|; every accepted step is stored for dense output.
+ */
+function runFlowLoop(op: FlowOperator, v0: Float64Array, frames: readonly number[], scale: number, recorder: FlowRecorder, opts: FlowOptions): LoopResult {
+  const modes = op.modes;
+  const active = op.cutoff + 1;
+  const tEnd = frames[frames.length - 1];
+  const tolAbs = opts.tolerance * scale;
+  const detect = opts.detectBreaking ?? op.eq.beta === 0;
+  const maxSteps = opts.maxSteps ?? MAX_STEPS_DEFAULT;
+  const exponent = errorExponent(ETDRK4_ORDER);
+  let v = v0;
+  let nv: Float64Array = new Float64Array(2 * modes);
+  op.nonlinear(v, nv);
+  let vNew: Float64Array = new Float64Array(2 * modes);
+  let nvNew: Float64Array = new Float64Array(2 * modes);
+  const ux = new Float64Array(op.grid.n);
+  const uxSpec = new Float64Array(2 * modes);
+  const stepper = new DoublingStepper(op, active);
+  recorder.store(0, v, nv);
+  let fi = 0;
+  // frames at λ ≤ 0: the field the integrator actually evolves, u₀ restricted to the retained band
+  for (; fi < frames.length && frames[fi] <= 0; fi++) recorder.frame(frames[fi], v);
+  let j = initialLadderIndex(op, scale, tEnd);
+  const stats = { accepted: 0, rejected: 0, errorEstimate: 0, minStep: Infinity, maxStep: 0 };
   let t = 0;
   let breaking: BreakingInfo | null = null;
-  const ux = new Float64Array(n);
-  const uxSpec = alloc();
-
   while (fi < frames.length) {
-    if (stats.accepted + stats.rejected >= maxSteps) throw new Error(`flow integrator exceeded ${maxSteps} steps at λ = ${t}`);
+    if (stats.accepted + stats.rejected >= maxSteps) throw new NumericalError(`flow integrator exceeded ${maxSteps} steps at λ = ${t}`);
     const hLadder = ladderStep(j);
     const target = frames[fi];
     const clipped = t + hLadder >= target - 1e-14 * Math.max(1, target);
@@ -355,15 +458,10 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
       breaking = { lambdaReached: t, lambdaExtrapolated: NaN, reason: `step size fell below ${MIN_STEP_FRACTION * tEnd} at λ = ${t}` };
       break;
     }
-    const half = coeffs(h / 2);
-    etdrk4Step(coeffs(h), op.nonlinear, v, nv, yFull, ws, active);
-    etdrk4Step(half, op.nonlinear, v, nv, yMid, ws, active);
-    op.nonlinear(yMid, nMid);
-    etdrk4Step(half, op.nonlinear, yMid, nMid, yHalf, ws, active);
-    const err = rmsDifference(yHalf, yFull, active, n) / 15;
+    const err = stepper.attempt(h, v, nv);
     const ratio = err / tolAbs;
     if (ratio <= 1 && Number.isFinite(ratio)) {
-      for (let i = 0; i < 2 * active; i++) vNew[i] = yHalf[i] + (yHalf[i] - yFull[i]) / 15;
+      stepper.extrapolate(vNew);
       op.nonlinear(vNew, nvNew);
       [v, vNew] = [vNew, v];
       [nv, nvNew] = [nvNew, nv];
@@ -372,45 +470,22 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
       stats.errorEstimate += err;
       stats.minStep = Math.min(stats.minStep, h);
       stats.maxStep = Math.max(stats.maxStep, h);
-      storeDense(t);
+      recorder.store(t, v, nv);
       if (clipped) {
-        outLambdas.push(t);
-        outFrames.push(physical(v));
+        recorder.frame(t, v);
         fi++;
       }
       opts.onProgress?.(t, tEnd);
-      if (detectBreaking) {
-        const tail = op.tail(v);
-        if (tail > BREAKING_TAIL) {
-          // gradient along the steepest characteristic: 1/max(−αu_x) decreases linearly to zero at breaking
-          for (let m = 0; m < modes; m++) {
-            const k = m === n / 2 ? 0 : grid.kHalf[m];
-            uxSpec[2 * m] = -k * v[2 * m + 1];
-            uxSpec[2 * m + 1] = k * v[2 * m];
-          }
-          op.fft.inverse(uxSpec, ux);
-          let g = 0;
-          for (let i = 0; i < n; i++) g = Math.max(g, -eq.alpha * ux[i]);
-          breaking = {
-            lambdaReached: t,
-            lambdaExtrapolated: g > 0 ? t + 1 / g : NaN,
-            reason: `the dispersionless front steepened beyond the grid's resolution (spectral tail ${tail.toExponential(2)} > ${BREAKING_TAIL})`,
-          };
-          break;
-        }
-      }
+      breaking = detect ? detectBreaking(op, v, t, uxSpec, ux) : null;
+      if (breaking) break;
       if (clipped && ratio < 1) continue; // a clipped step says little about the ladder step: keep it
     } else {
       stats.rejected++;
     }
-    const factor = Number.isFinite(ratio) ? Math.min(MAX_FACTOR, Math.max(MIN_FACTOR, SAFETY * Math.pow(Math.max(ratio, 1e-10), -ERROR_EXPONENT))) : MIN_FACTOR;
-    const hNext = (clipped ? h : hLadder) * factor;
+    const hNext = (clipped ? h : hLadder) * stepFactor(ratio, exponent);
     j = Math.floor(LADDER_DIVISIONS * Math.log2(hNext));
   }
-  stats.nonlinearEvaluations = op.evaluations;
-  stats.coefficientSets = coefficientSets;
-  stats.wallSeconds = (performance.now() - started) / 1000;
-  return { lambdas: outLambdas, frames: outFrames, dense, stats, breaking, tail: op.tail(v), discardedTail };
+  return { v, breaking, coefficientSets: stepper.coefficients.computed, stats };
 }
 
 /** Natural-units KdV u_τ = 6uu_ξ − u_ξξξ (quantum, physics.md §3) and its dispersionless limit. */

@@ -1,22 +1,26 @@
 /**
- * ETDRK4 exponential time differencing for û_t = L û + N(û) with a diagonal (Fourier) linear part.
+ * ETDRK4 exponential time differencing for y' = L y + N(t, y) with a diagonal linear part L (Cox & Matthews,
+ * J. Comput. Phys. 176, 430, 2002, eq. (26)–(29)):
  *
- * Scheme: Cox & Matthews, J. Comput. Phys. 176, 430 (2002), eq. (26)–(29); φ-function coefficients by the
- * contour-integral mean of Kassam & Trefethen, SIAM J. Sci. Comput. 26, 1214 (2005), eq. (2.5)–(2.6). The
- * linear part here is imaginary (dispersion), so the contour is the FULL circle around hL and the
- * coefficients stay complex (physics.md §5: taking real parts gives O(1) errors).
+ *     a = e^{hL/2} y + Q N(t, y),                 Q = (e^{hL/2} − 1)/L
+ *     b = e^{hL/2} y + Q N(t + h/2, a)
+ *     c = e^{hL/2} a + Q (2N(t + h/2, b) − N(t, y))
+ *     y(t + h) = e^{hL} y + f₁ N(t, y) + 2f₂ (N(t + h/2, a) + N(t + h/2, b)) + f₃ N(t + h, c)
  *
- * All arrays are interleaved complex (re, im) over the half spectrum of a real field.
+ * with f₁,₂,₃ = h × the φ-combinations of phi.ts. Two coefficient builders: the contour mean for a general L
+ * (`etdrk4Coefficients`, Kassam & Trefethen 2005) and the series/closed form for a purely imaginary L
+ * (`etdrk4ImaginaryCoefficients`, Hochbruck & Ostermann 2010). One step function for both; the right-hand side
+ * receives the stage index (times t + ETDRK4_STAGE_NODES[i]·h) so non-autonomous N work as well.
+ *
+ * All arrays are interleaved complex (re, im).
  */
+import { etdContourMeans, phiImaginary } from './phi.ts';
 
-/** contour points on the full circle: the trapezoidal mean converges faster than geometrically for these entire
- * functions; 16 give the same two-soliton benchmark error as 32 to four digits (measured) at half the set-up cost */
-export const CONTOUR_POINTS = 16;
-/** contour radius: Kassam & Trefethen use 1; large enough to avoid cancellation near z = 0 */
-export const CONTOUR_RADIUS = 1;
+/** stage times of the four right-hand-side evaluations, as fractions of the step */
+export const ETDRK4_STAGE_NODES: readonly number[] = [0, 0.5, 0.5, 1];
 
 export interface Etdrk4Coefficients {
-  readonly h: number;
+  h: number;
   readonly e: Float64Array; // e^{hL}
   readonly e2: Float64Array; // e^{hL/2}
   readonly q: Float64Array; // h φ-type coefficient for the half stages
@@ -25,18 +29,23 @@ export interface Etdrk4Coefficients {
   readonly f3: Float64Array;
 }
 
-/** Build the ETDRK4 coefficients for step h and linear symbols L_m = lre[m] + i lim[m]. */
-export function etdrk4Coefficients(h: number, lre: Float64Array, lim: Float64Array): Etdrk4Coefficients {
-  const m = lre.length;
-  const e = new Float64Array(2 * m);
-  const e2 = new Float64Array(2 * m);
-  const q = new Float64Array(2 * m);
-  const f1 = new Float64Array(2 * m);
-  const f2 = new Float64Array(2 * m);
-  const f3 = new Float64Array(2 * m);
-  const M = CONTOUR_POINTS;
+/** an empty coefficient table for m modes (filled by `etdrk4ImaginaryCoefficients`) */
+export function etdrk4Table(m: number): Etdrk4Coefficients {
+  const z = () => new Float64Array(2 * m);
+  return { h: 0, e: z(), e2: z(), q: z(), f1: z(), f2: z(), f3: z() };
+}
+
+/**
+ * Coefficients for step h and L_m = lre[m] + i lim[m] (lre omitted: purely imaginary L) by contour means.
+ */
+export function etdrk4Coefficients(h: number, lim: Float64Array, lre: Float64Array | null = null): Etdrk4Coefficients {
+  const m = lim.length;
+  const co = etdrk4Table(m);
+  co.h = h;
+  const { e, e2, q, f1, f2, f3 } = co;
+  const mean = new Float64Array(8);
   for (let j = 0; j < m; j++) {
-    const zr0 = h * lre[j];
+    const zr0 = lre ? h * lre[j] : 0;
     const zi0 = h * lim[j];
     let ex = Math.exp(zr0);
     e[2 * j] = ex * Math.cos(zi0);
@@ -44,68 +53,41 @@ export function etdrk4Coefficients(h: number, lre: Float64Array, lim: Float64Arr
     ex = Math.exp(zr0 / 2);
     e2[2 * j] = ex * Math.cos(zi0 / 2);
     e2[2 * j + 1] = ex * Math.sin(zi0 / 2);
-    let qr = 0, qi = 0, a1r = 0, a1i = 0, a2r = 0, a2i = 0, a3r = 0, a3i = 0;
-    for (let p = 1; p <= M; p++) {
-      const th = (Math.PI * (p - 0.5)) / (M / 2); // full circle: angles π(p-½)/(M/2), p = 1 … M
-      const zr = zr0 + CONTOUR_RADIUS * Math.cos(th);
-      const zi = zi0 + CONTOUR_RADIUS * Math.sin(th);
-      // e^z and e^{z/2}
-      const ez = Math.exp(zr);
-      const ezr = ez * Math.cos(zi);
-      const ezi = ez * Math.sin(zi);
-      const eh = Math.exp(zr / 2);
-      const ehr = eh * Math.cos(zi / 2);
-      const ehi = eh * Math.sin(zi / 2);
-      // 1/z, 1/z³
-      const d = zr * zr + zi * zi;
-      const izr = zr / d;
-      const izi = -zi / d;
-      const iz2r = izr * izr - izi * izi;
-      const iz2i = 2 * izr * izi;
-      const iz3r = iz2r * izr - iz2i * izi;
-      const iz3i = iz2r * izi + iz2i * izr;
-      // z²
-      const z2r = zr * zr - zi * zi;
-      const z2i = 2 * zr * zi;
-      // Q: (e^{z/2} - 1)/z
-      qr += (ehr - 1) * izr - ehi * izi;
-      qi += (ehr - 1) * izi + ehi * izr;
-      // f1: (-4 - z + e^z (4 - 3z + z²)) / z³
-      let wr = 4 - 3 * zr + z2r;
-      let wi = -3 * zi + z2i;
-      let nr = -4 - zr + (ezr * wr - ezi * wi);
-      let ni = -zi + (ezr * wi + ezi * wr);
-      a1r += nr * iz3r - ni * iz3i;
-      a1i += nr * iz3i + ni * iz3r;
-      // f2: (2 + z + e^z (z - 2)) / z³
-      wr = zr - 2;
-      wi = zi;
-      nr = 2 + zr + (ezr * wr - ezi * wi);
-      ni = zi + (ezr * wi + ezi * wr);
-      a2r += nr * iz3r - ni * iz3i;
-      a2i += nr * iz3i + ni * iz3r;
-      // f3: (-4 - 3z - z² + e^z (4 - z)) / z³
-      wr = 4 - zr;
-      wi = -zi;
-      nr = -4 - 3 * zr - z2r + (ezr * wr - ezi * wi);
-      ni = -3 * zi - z2i + (ezr * wi + ezi * wr);
-      a3r += nr * iz3r - ni * iz3i;
-      a3i += nr * iz3i + ni * iz3r;
-    }
-    q[2 * j] = (h * qr) / M;
-    q[2 * j + 1] = (h * qi) / M;
-    f1[2 * j] = (h * a1r) / M;
-    f1[2 * j + 1] = (h * a1i) / M;
-    f2[2 * j] = (h * a2r) / M;
-    f2[2 * j + 1] = (h * a2i) / M;
-    f3[2 * j] = (h * a3r) / M;
-    f3[2 * j + 1] = (h * a3i) / M;
+    etdContourMeans(zr0, zi0, h, mean);
+    q[2 * j] = mean[0];
+    q[2 * j + 1] = mean[1];
+    f1[2 * j] = mean[2];
+    f1[2 * j + 1] = mean[3];
+    f2[2 * j] = mean[4];
+    f2[2 * j + 1] = mean[5];
+    f3[2 * j] = mean[6];
+    f3[2 * j + 1] = mean[7];
   }
-  return { h, e, e2, q, f1, f2, f3 };
+  return co;
 }
 
-/** The nonlinear right-hand side: out = N(v) for a half spectrum v (must not alias out). */
-export type NonlinearTerm = (v: Float64Array, out: Float64Array) => void;
+/**
+ * Fill `co` for step h and the purely imaginary L_j = i lim[j] (θ = h·lim[j]) from φ₁,₂,₃(iθ) and φ₁(iθ/2);
+ * `phi` is scratch of length 6. Allocates nothing.
+ */
+export function etdrk4ImaginaryCoefficients(h: number, lim: Float64Array, co: Etdrk4Coefficients, phi: Float64Array): void {
+  co.h = h;
+  const { e: E, e2: E2, q: Q, f1: F1, f2: F2, f3: F3 } = co;
+  for (let j = 0; j < lim.length; j++) {
+    const th = h * lim[j];
+    phiImaginary(th, phi);
+    E[2 * j] = Math.cos(th); E[2 * j + 1] = Math.sin(th);
+    E2[2 * j] = Math.cos(th / 2); E2[2 * j + 1] = Math.sin(th / 2);
+    F1[2 * j] = h * (phi[0] - 3 * phi[2] + 4 * phi[4]); F1[2 * j + 1] = h * (phi[1] - 3 * phi[3] + 4 * phi[5]);
+    F2[2 * j] = h * (phi[2] - 2 * phi[4]); F2[2 * j + 1] = h * (phi[3] - 2 * phi[5]);
+    F3[2 * j] = h * (4 * phi[4] - phi[2]); F3[2 * j + 1] = h * (4 * phi[5] - phi[3]);
+    phiImaginary(th / 2, phi);
+    Q[2 * j] = (h / 2) * phi[0]; Q[2 * j + 1] = (h / 2) * phi[1];
+  }
+}
+
+/** The right-hand side N at stage `stage` (time t + ETDRK4_STAGE_NODES[stage]·h): out = N(y); y ≠ out. */
+export type StageRhs = (y: Float64Array, out: Float64Array, stage: number) => void;
 
 export interface Etdrk4Workspace {
   ev: Float64Array; a: Float64Array; b: Float64Array; c: Float64Array;
@@ -118,11 +100,11 @@ export function etdrk4Workspace(m: number): Etdrk4Workspace {
 }
 
 /**
- * One ETDRK4 step: out = v(t + h) given v(t) and nv = N(v(t)) (passed in so that step doubling can share it).
+ * One ETDRK4 step: out = y(t + h) given v = y(t) and nv = N(t, v) (passed in so that step doubling can share it).
  * Only the first `active` modes are stepped (the caller keeps the rest at zero, e.g. beyond a dealiasing cut).
- * Pure in the sense of state in, state out: v and nv are read only; ws is scratch.
+ * State in, state out: v and nv are read only; ws is scratch; out must differ from v.
  */
-export function etdrk4Step(co: Etdrk4Coefficients, nonlinear: NonlinearTerm, v: Float64Array, nv: Float64Array, out: Float64Array, ws: Etdrk4Workspace, active = v.length / 2): void {
+export function etdrk4Step(co: Etdrk4Coefficients, rhs: StageRhs, v: Float64Array, nv: Float64Array, out: Float64Array, ws: Etdrk4Workspace, active = v.length / 2): void {
   const e = co.e, e2 = co.e2, q = co.q, f1 = co.f1, f2 = co.f2, f3 = co.f3;
   const ev = ws.ev, a = ws.a, b = ws.b, c = ws.c, na = ws.na, nb = ws.nb, nc = ws.nc;
   const n2 = 2 * active;
@@ -136,14 +118,14 @@ export function etdrk4Step(co: Etdrk4Coefficients, nonlinear: NonlinearTerm, v: 
     a[i] = xr + qr * gr - qi * gi;
     a[i + 1] = xi + qr * gi + qi * gr;
   }
-  nonlinear(a, na);
+  rhs(a, na, 1);
   // b = ev + q Na
   for (let i = 0; i < n2; i += 2) {
     const gr = na[i], gi = na[i + 1], qr = q[i], qi = q[i + 1];
     b[i] = ev[i] + qr * gr - qi * gi;
     b[i + 1] = ev[i + 1] + qr * gi + qi * gr;
   }
-  nonlinear(b, nb);
+  rhs(b, nb, 2);
   // c = e2 a + q (2 Nb − Nv)
   for (let i = 0; i < n2; i += 2) {
     const ar = a[i], ai = a[i + 1], er = e2[i], ei = e2[i + 1], qr = q[i], qi = q[i + 1];
@@ -151,7 +133,7 @@ export function etdrk4Step(co: Etdrk4Coefficients, nonlinear: NonlinearTerm, v: 
     c[i] = er * ar - ei * ai + qr * gr - qi * gi;
     c[i + 1] = er * ai + ei * ar + qr * gi + qi * gr;
   }
-  nonlinear(c, nc);
+  rhs(c, nc, 3);
   // out = e v + f1 Nv + 2 f2 (Na + Nb) + f3 Nc
   for (let i = 0; i < n2; i += 2) {
     const vr = v[i], vi = v[i + 1];

@@ -5,22 +5,21 @@
  * Time step: the fourth-order commutator-free Magnus integrator with two exponentials
  *     ψ(s + Δ) = exp(−iΔ(α₁H₁ + α₂H₂)) exp(−iΔ(α₂H₁ + α₁H₂)) ψ(s),
  *     H_{1,2} = H(s + c_{1,2}Δ),  c_{1,2} = ½ ∓ √3/6,  α_{1,2} = ¼ ∓ √3/6
- * (Blanes & Moan, Appl. Numer. Math. 56, 1519, 2006; Alvermann & Fehske, J. Comput. Phys. 230, 5930, 2011,
- * "CF4:2"). Each exponent is again a lattice Hamiltonian (the terms are linear), applied by the Lanczos
- * exponential of linalg.ts, so the scheme is unitary up to the Krylov tolerance. Step size control by step
- * doubling (Hairer, Nørsett & Wanner, Solving ODEs I, 1993, §II.4): one step Δ against two steps Δ/2, local error
- * ‖ψ_Δ − ψ_{Δ/2,Δ/2}‖/15 per state, accepted when below tol·Δ/T (error per unit time), the finer result kept.
+ * (table in integrate/magnus.ts: Blanes & Moan, Appl. Numer. Math. 56, 1519, 2006). Each exponent is again a
+ * lattice Hamiltonian (the terms are linear), applied by the Lanczos exponential of integrate/krylov.ts, so the
+ * scheme is unitary up to the Krylov tolerance. Step size control by step doubling (Hairer, Nørsett & Wanner,
+ * Solving ODEs I, 1993, §II.4): one step Δ against two steps Δ/2, local error ‖ψ_Δ − ψ_{Δ/2,Δ/2}‖/15 per state,
+ * accepted when below tol·Δ/T, the finer result kept; the step factor comes from integrate/controller.ts.
  */
 import { applyTerms, cdTerms, combineTerms, emptyTerms, normBound, type LatticeTerms } from './operators.ts';
+import { NumericalError } from '../core/errors.ts';
+import { errorExponent, stepFactor } from '../integrate/controller.ts';
 import { KrylovExp } from '../integrate/krylov.ts';
+import { CF_MAGNUS4 } from '../integrate/magnus.ts';
 import type { LatticeSequence } from './sequence.ts';
 
-/** controller safety factor, largest growth and shrink per step (common practice, cf. scipy.integrate: 0.9, 5, 0.2) */
-const SAFETY = 0.9;
-const GROW_MAX = 4;
-const SHRINK_MIN = 0.2;
-/** fourth-order method: the step-doubling estimate scales as Δ⁵ */
-const ERROR_EXPONENT = 1 / 5;
+/** order of the CF Magnus method: the step-doubling estimate scales as Δ⁵ */
+const ORDER = 4;
 /** Richardson factor 2⁴ − 1 of a fourth-order method */
 const RICHARDSON = 15;
 /** first step: at most this multiple of 1/‖H‖ (keeps the first Krylov space small) and at most T/FIRST_STEPS */
@@ -32,12 +31,6 @@ const KRYLOV_FRACTION = 1e-2;
 const KRYLOV_DIM = 40;
 /** give up below this fraction of the duration (stalled controller) */
 const MIN_STEP_FRACTION = 1e-10;
-
-const SQ3 = Math.sqrt(3);
-const C1 = 0.5 - SQ3 / 6;
-const C2 = 0.5 + SQ3 / 6;
-const A1 = 0.25 - SQ3 / 6;
-const A2 = 0.25 + SQ3 / 6;
 
 export interface LatticeDrive {
   sequence: LatticeSequence;
@@ -92,12 +85,14 @@ export class LatticePropagator {
 
   /** ψ_out = CF4 step of length dt from s for each state (in and out may be the same arrays) */
   step(s: number, dt: number, states: readonly Float64Array[], out: readonly Float64Array[], tol: number): void {
-    this.hamiltonianAt(s + C1 * dt, this.t1);
-    this.hamiltonianAt(s + C2 * dt, this.t2);
+    const [c1, c2] = CF_MAGNUS4.nodes;
+    const [[a11, a12], [a21, a22]] = CF_MAGNUS4.exponents;
+    this.hamiltonianAt(s + c1 * dt, this.t1);
+    this.hamiltonianAt(s + c2 * dt, this.t2);
     for (let k = 0; k < states.length; k++) {
-      combineTerms(A2, this.t1, A1, this.t2, this.ex);
+      combineTerms(a11, this.t1, a12, this.t2, this.ex);
       this.krylov.expm(this.op, states[k], dt, tol, this.tmpA);
-      combineTerms(A1, this.t1, A2, this.t2, this.ex);
+      combineTerms(a21, this.t1, a22, this.t2, this.ex);
       this.krylov.expm(this.op, this.tmpA, dt, tol, out[k]);
     }
   }
@@ -132,7 +127,7 @@ export class LatticePropagator {
         for (let i = 0; i < a.length; i++) e2 += (a[i] - b[i]) * (a[i] - b[i]);
         err = Math.max(err, Math.sqrt(e2) / RICHARDSON);
       }
-      const factor = err === 0 ? GROW_MAX : Math.min(GROW_MAX, Math.max(SHRINK_MIN, SAFETY * Math.pow(budget / err, ERROR_EXPONENT)));
+      const factor = stepFactor(err / budget, errorExponent(ORDER));
       if (err <= budget) {
         for (let k = 0; k < n; k++) states[k].set(half[k]);
         s += dt;
@@ -142,7 +137,7 @@ export class LatticePropagator {
         stats.rejected++;
       }
       dt *= factor;
-      if (dt < minStep) throw new Error(`lattice propagation stalled at s = ${s} (step ${dt})`);
+      if (dt < minStep) throw new NumericalError(`lattice propagation stalled at s = ${s} (step ${dt})`);
     }
     stats.matvecs = this.krylov.stats.matvecs;
     stats.maxKrylov = this.krylov.stats.maxDimUsed;
@@ -151,20 +146,5 @@ export class LatticePropagator {
   }
 }
 
-/** |⟨a|b⟩|² of interleaved complex vectors */
-export function overlap2(a: Float64Array, b: Float64Array): number {
-  let re = 0;
-  let im = 0;
-  for (let i = 0; i < a.length; i += 2) {
-    re += a[i] * b[i] + a[i + 1] * b[i + 1];
-    im += a[i] * b[i + 1] - a[i + 1] * b[i];
-  }
-  return re * re + im * im;
-}
-
-/** interleaved complex copy of a real vector */
-export function complexOf(v: Float64Array): Float64Array {
-  const out = new Float64Array(2 * v.length);
-  for (let i = 0; i < v.length; i++) out[2 * i] = v[i];
-  return out;
-}
+/** the complex-vector helpers live in linalg/complex.ts (`complexOf` is the real-to-complex copy) */
+export { overlap2, complexFromReal as complexOf } from '../linalg/complex.ts';

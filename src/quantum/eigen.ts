@@ -16,13 +16,13 @@
  * Eigenvectors are real, unit 2-norm (Σ_j v_j² = 1, no dx weight).
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { UserError } from '../core/errors.ts';
+import { NumericalError } from '../core/errors.ts';
 import { makeRng } from '../core/rng.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
 
-/** residual tolerance relative to ‖H‖ (the brief's ~1e-10·‖H‖) */
+/** residual tolerance relative to ‖H‖ (~1e-10·‖H‖: well below the fidelity budgets of verify) */
 const RESIDUAL_REL = 1e-10;
 /** Lanczos dimension cap per run */
 const MAX_KRYLOV_DEFAULT = 400;
@@ -112,8 +112,8 @@ function residual(h: RealHamiltonian, v: Float64Array, theta: number, scratch: F
 }
 
 function checkArgs(grid: Grid, u: Float64Array, count: number): void {
-  if (u.length !== grid.n) throw new UserError(`eigen: potential length ${u.length} must equal grid points ${grid.n}`);
-  if (!Number.isInteger(count) || count < 1 || count > grid.n) throw new UserError(`eigen: states ${count} must be an integer in 1 … ${grid.n}`);
+  if (u.length !== grid.n) throw new RangeError(`eigen: potential length ${u.length} must equal grid points ${grid.n}`);
+  if (!Number.isInteger(count) || count < 1 || count > grid.n) throw new RangeError(`eigen: states ${count} must be an integer in 1 … ${grid.n}`);
 }
 
 /** dense N×N matrix of k² + u in the position basis: H_jl = c[(j−l) mod N] + u_j δ_jl, c = IDFT(k²) */
@@ -212,38 +212,81 @@ const CUT_PROBE_STEPS = 60;
 /** convergence estimate for the filtered operator, relative to its largest Ritz value (the true H residual is checked after) */
 const FILTER_REL_TOL = 1e-12;
 
-function lanczosLowest(grid: Grid, u: Float64Array, count: number, opts: EigenOptions): EigenResult {
-  const t0 = performance.now();
-  const n = grid.n;
-  const h = new RealHamiltonian(grid, u);
-  const tolRes = opts.residualTol ?? RESIDUAL_REL * h.normH;
-  const rng = makeRng(opts.rngStart ?? RNG_START_DEFAULT);
-  const maxK = Math.min(n, opts.maxKrylov ?? MAX_KRYLOV_DEFAULT);
-  const lockedV: Float64Array[] = [];
-  const lockedE: number[] = [];
-  const q: Float64Array[] = Array.from({ length: maxK + 1 }, () => new Float64Array(n));
-  const r = new Float64Array(n);
-  const scratch = new Float64Array(n);
-  const alpha = new Float64Array(maxK + 1);
-  const beta = new Float64Array(maxK + 1);
-  const d = new Float64Array(maxK + 1);
-  const e = new Float64Array(maxK + 1);
-  let z = new Float64Array(0);
-  const degree = opts.filterDegree ?? (n >= FILTER_MIN_N ? Math.min(FILTER_DEGREE_MAX, Math.max(FILTER_DEGREE_MIN, Math.ceil(FILTER_DEGREE_PER_K * grid.kMax))) : 0);
-  let op: (x: Float64Array, y: Float64Array) => void = (x, y) => h.apply(x, y);
-  /** Lanczos run from a fresh random start; returns Ritz data of the operator `op` */
-  const run = (dim: number, stopWhenConverged: number, tolOp: number): { m: number; order: number[]; conv: number; breakdown: boolean } => {
-    const q0 = q[0];
+interface RitzRun {
+  /** Lanczos dimension reached */
+  m: number;
+  /** Ritz indices, wanted end first */
+  order: number[];
+  /** leading Ritz pairs whose estimate met the tolerance */
+  conv: number;
+  breakdown: boolean;
+}
+
+/**
+ * Lanczos with full reorthogonalisation, locking and fresh random restarts (module comment); the state of one solve.
+ * `run` is one Lanczos sequence, `lock` keeps its converged Ritz pairs, `solve` restarts until nothing new appears
+ * below the count-th level.
+ */
+class LanczosSolver {
+  readonly h: RealHamiltonian;
+  readonly tolRes: number;
+  private readonly n: number;
+  private readonly rng: () => number;
+  private readonly maxK: number;
+  private readonly degree: number;
+  readonly lockedV: Float64Array[] = [];
+  readonly lockedE: number[] = [];
+  private readonly q: Float64Array[];
+  private readonly r: Float64Array;
+  readonly scratch: Float64Array;
+  private readonly alpha: Float64Array;
+  private readonly beta: Float64Array;
+  private readonly d: Float64Array;
+  private readonly e: Float64Array;
+  private z = new Float64Array(0);
+  private op: (x: Float64Array, y: Float64Array) => void;
+  filterInfo = 'none';
+
+  constructor(grid: Grid, u: Float64Array, private readonly count: number, opts: EigenOptions) {
+    const n = grid.n;
+    this.n = n;
+    this.h = new RealHamiltonian(grid, u);
+    this.tolRes = opts.residualTol ?? RESIDUAL_REL * this.h.normH;
+    this.rng = makeRng(opts.rngStart ?? RNG_START_DEFAULT);
+    const maxK = Math.min(n, opts.maxKrylov ?? MAX_KRYLOV_DEFAULT);
+    this.maxK = maxK;
+    this.q = Array.from({ length: maxK + 1 }, () => new Float64Array(n));
+    this.r = new Float64Array(n);
+    this.scratch = new Float64Array(n);
+    this.alpha = new Float64Array(maxK + 1);
+    this.beta = new Float64Array(maxK + 1);
+    this.d = new Float64Array(maxK + 1);
+    this.e = new Float64Array(maxK + 1);
+    this.degree = opts.filterDegree ?? (n >= FILTER_MIN_N ? Math.min(FILTER_DEGREE_MAX, Math.max(FILTER_DEGREE_MIN, Math.ceil(FILTER_DEGREE_PER_K * grid.kMax))) : 0);
+    const h = this.h;
+    this.op = (x, y) => h.apply(x, y);
+  }
+
+  /** q₀ = a fresh random unit vector orthogonal to the locked ones */
+  private randomStart(): void {
+    const { n, rng } = this;
+    const q0 = this.q[0];
     for (let i = 0; i < n; i++) q0[i] = rng() - 0.5;
-    project(q0, lockedV, lockedV.length);
+    project(q0, this.lockedV, this.lockedV.length);
     const nq = Math.sqrt(dot(q0, q0));
     for (let i = 0; i < n; i++) q0[i] /= nq;
+  }
+
+  /** Lanczos run from a fresh random start; returns Ritz data of the current operator */
+  run(dim: number, stopWhenConverged: number, tolOp: number): RitzRun {
+    const { n, q, r, alpha, beta } = this;
+    this.randomStart();
     let m = 0;
     let nextCheck = Math.min(dim, Math.max(16, 2 * stopWhenConverged));
     for (let j = 0; j < dim; j++) {
-      op(q[j], r);
+      this.op(q[j], r);
       alpha[j] = dot(q[j], r);
-      project(r, lockedV, lockedV.length);
+      project(r, this.lockedV, this.lockedV.length);
       project(r, q, j + 1);
       const b = Math.sqrt(dot(r, r));
       beta[j] = b;
@@ -252,95 +295,134 @@ function lanczosLowest(grid: Grid, u: Float64Array, count: number, opts: EigenOp
       if (!breakdown) for (let i = 0; i < n; i++) q[j + 1][i] = r[i] / b;
       if (m === nextCheck || m === dim || breakdown) {
         nextCheck = Math.min(dim, Math.ceil(m * CHECK_GROWTH));
-        if (z.length < m * m) z = new Float64Array(m * m);
-        for (let i = 0; i < m; i++) {
-          d[i] = alpha[i];
-          e[i] = i < m - 1 ? beta[i] : 0;
-        }
-        tridiagEigen(d, e, m, z);
-        // wanted end: lowest of H, i.e. largest of the filter
-        const order = sortedOrder(d, m);
-        if (degree > 0) order.reverse();
-        let conv = 0;
-        while (conv < order.length && conv < stopWhenConverged) {
-          const est = breakdown ? 0 : b * Math.abs(z[(m - 1) * m + order[conv]]);
-          if (est > tolOp * (degree > 0 ? Math.abs(d[order[0]]) : 1)) break;
-          conv++;
-        }
+        const { order, conv } = this.ritz(m, b, breakdown, stopWhenConverged, tolOp);
         if (breakdown || m === dim || conv >= stopWhenConverged) return { m, order, conv, breakdown };
       }
     }
     return { m, order: [], conv: 0, breakdown: false };
-  };
-  const ritzVector = (m: number, i: number): Float64Array => {
+  }
+
+  /** Ritz values (in d) and vectors (in z) of the m×m tridiagonal matrix; leading pairs meeting tolOp */
+  private ritz(m: number, b: number, breakdown: boolean, stopWhenConverged: number, tolOp: number): { order: number[]; conv: number } {
+    const { d, e, alpha, beta } = this;
+    if (this.z.length < m * m) this.z = new Float64Array(m * m);
+    const z = this.z;
+    for (let i = 0; i < m; i++) {
+      d[i] = alpha[i];
+      e[i] = i < m - 1 ? beta[i] : 0;
+    }
+    tridiagEigen(d, e, m, z);
+    // wanted end: lowest of H, i.e. largest of the filter
+    const order = sortedOrder(d, m);
+    if (this.degree > 0) order.reverse();
+    let conv = 0;
+    while (conv < order.length && conv < stopWhenConverged) {
+      const est = breakdown ? 0 : b * Math.abs(z[(m - 1) * m + order[conv]]);
+      if (est > tolOp * (this.degree > 0 ? Math.abs(d[order[0]]) : 1)) break;
+      conv++;
+    }
+    return { order, conv };
+  }
+
+  /** unit Ritz vector i of the last run, orthogonal to the locked vectors */
+  ritzVector(m: number, i: number): Float64Array {
+    const { n, q, z } = this;
     const y = new Float64Array(n);
     for (let l = 0; l < m; l++) {
       const zl = z[l * m + i];
       const ql = q[l];
       for (let t = 0; t < n; t++) y[t] += zl * ql[t];
     }
-    project(y, lockedV, lockedV.length);
+    project(y, this.lockedV, this.lockedV.length);
     const nq = Math.sqrt(dot(y, y));
     for (let t = 0; t < n; t++) y[t] /= nq;
     return y;
-  };
-  let filterInfo = 'none';
-  if (degree > 0) {
-    // place the cut: the (count+2)-th Ritz value of a short plain run bounds λ_{count+2} from above
-    const probe = run(Math.min(CUT_PROBE_STEPS, n), n + 1, 0);
-    const sortedRitz = probe.order.map((i) => d[i]);
+  }
+
+  /** switch the operator to the Chebyshev filter, with the cut placed by a short plain run */
+  placeFilter(): void {
+    const { degree, count, n, h } = this;
+    if (degree <= 0) return;
+    // the (count+2)-th Ritz value of a short plain run bounds λ_{count+2} from above
+    const probe = this.run(Math.min(CUT_PROBE_STEPS, n), n + 1, 0);
+    const sortedRitz = probe.order.map((i) => this.d[i]);
     const eCut = sortedRitz[Math.min(count + 1, sortedRitz.length - 1)];
     const eMax = h.normH;
     const c = 0.5 * (eCut + eMax);
     const half = 0.5 * (eMax - eCut);
     // argument (c − H)/half > 1 below the cut, so p(H) is large and positive there for every degree
     const f = new ChebyshevFilter(h, degree, c, -half);
-    op = (x, y) => f.apply(x, y);
-    filterInfo = `chebyshev(d=${degree}, cut=${eCut.toPrecision(6)})`;
+    this.op = (x, y) => f.apply(x, y);
+    this.filterInfo = `chebyshev(d=${degree}, cut=${eCut.toPrecision(6)})`;
   }
-  let restarts = 0;
-  let quiet = 0;
-  for (; restarts < MAX_RESTARTS; restarts++) {
-    const room = n - lockedV.length;
-    if (room <= 0) break;
-    const needed = Math.max(count - lockedV.length, 1);
-    const res = run(Math.min(maxK, room), needed + 2, degree > 0 ? FILTER_REL_TOL : tolRes);
+
+  /** the count-th locked level (∞ while fewer are locked) */
+  private levelCount(): number {
+    return this.lockedV.length >= this.count ? [...this.lockedE].sort((p, qq) => p - qq)[this.count - 1] : Infinity;
+  }
+
+  /** lock the converged Ritz pairs of a run that pass the true residual test; true if one lies at or below the count-th level */
+  private lock(res: RitzRun): boolean {
+    const { h, scratch, tolRes } = this;
+    const eM = this.levelCount();
     let newBelow = false;
-    const eM = lockedV.length >= count ? [...lockedE].sort((p, qq) => p - qq)[count - 1] : Infinity;
     for (let c = 0; c < res.conv; c++) {
-      const y = ritzVector(res.m, res.order[c]);
+      const y = this.ritzVector(res.m, res.order[c]);
       h.apply(y, scratch);
       const theta = dot(y, scratch);
       const rr = residual(h, y, theta, scratch);
       if (rr <= tolRes) {
-        lockedV.push(y);
-        lockedE.push(theta);
+        this.lockedV.push(y);
+        this.lockedE.push(theta);
         if (theta <= eM + tolRes) newBelow = true;
       }
     }
-    if (lockedV.length >= count) {
-      // the best unconverged direction of this fresh run: is anything left below the count-th level?
-      let lowestLeft = Infinity;
-      if (res.order.length > res.conv) {
-        const y = ritzVector(res.m, res.order[res.conv]);
-        h.apply(y, scratch);
-        lowestLeft = dot(y, scratch);
-      }
-      const eNow = [...lockedE].sort((p, qq) => p - qq)[count - 1];
-      if (!newBelow && lowestLeft > eNow + tolRes) quiet++;
-      else quiet = 0;
-      if (quiet >= 1) break;
-    }
+    return newBelow;
   }
-  if (lockedV.length < count) throw new Error(`eigen: Lanczos found only ${lockedV.length} of ${count} levels after ${restarts} restarts`);
+
+  /** Rayleigh quotient of the best unconverged direction of the run (∞ if none) */
+  private lowestLeft(res: RitzRun): number {
+    if (res.order.length <= res.conv) return Infinity;
+    const y = this.ritzVector(res.m, res.order[res.conv]);
+    this.h.apply(y, this.scratch);
+    return dot(y, this.scratch);
+  }
+
+  /** restart until a fresh run finds nothing new below the count-th level; returns the number of runs */
+  solve(): number {
+    const { n, count, tolRes } = this;
+    this.placeFilter();
+    let restarts = 0;
+    for (; restarts < MAX_RESTARTS; restarts++) {
+      const room = n - this.lockedV.length;
+      if (room <= 0) break;
+      const needed = Math.max(count - this.lockedV.length, 1);
+      const res = this.run(Math.min(this.maxK, room), needed + 2, this.degree > 0 ? FILTER_REL_TOL : tolRes);
+      const newBelow = this.lock(res);
+      if (this.lockedV.length >= count) {
+        // the best unconverged direction of this fresh run: is anything left below the count-th level?
+        const left = this.lowestLeft(res);
+        if (!newBelow && left > this.levelCount() + tolRes) break;
+      }
+    }
+    if (this.lockedV.length < count) throw new NumericalError(`eigen: Lanczos found only ${this.lockedV.length} of ${count} levels after ${restarts} restarts`);
+    return restarts + 1;
+  }
+}
+
+function lanczosLowest(grid: Grid, u: Float64Array, count: number, opts: EigenOptions): EigenResult {
+  const t0 = performance.now();
+  const solver = new LanczosSolver(grid, u, count, opts);
+  const runs = solver.solve();
+  const { lockedE, lockedV, h, scratch } = solver;
   const order = lockedE.map((_, i) => i).sort((p, qq) => lockedE[p] - lockedE[qq]).slice(0, count);
   const vectors = order.map((i) => lockedV[i]);
   const energies = order.map((i) => lockedE[i]);
   const residuals = vectors.map((v, i) => residual(h, v, energies[i], scratch));
   return {
-    method: 'lanczos', detail: `full reorthogonalisation, locking, ${restarts + 1} fresh random starts, filter ${filterInfo}`,
-    energies, vectors, residuals, normH: h.normH, residualTol: tolRes,
-    matvecs: h.matvecs, restarts: restarts + 1, wallMs: performance.now() - t0,
+    method: 'lanczos', detail: `full reorthogonalisation, locking, ${runs} fresh random starts, filter ${solver.filterInfo}`,
+    energies, vectors, residuals, normH: h.normH, residualTol: solver.tolRes,
+    matvecs: h.matvecs, restarts: runs, wallMs: performance.now() - t0,
   };
 }
 
@@ -350,7 +432,7 @@ export function lowestEigenpairs(grid: Grid, u: Float64Array, count: number, opt
   const method = opts.method ?? 'lanczos';
   if (method === 'dense') return denseLowest(grid, u, count, opts.residualTol);
   if (method === 'lanczos') return lanczosLowest(grid, u, count, opts);
-  throw new UserError(`eigen: method "${String(method)}" is not known; allowed: lanczos, dense`);
+  throw new RangeError(`eigen: method "${String(method)}" is not known; allowed: lanczos, dense`);
 }
 
 /**

@@ -17,6 +17,7 @@
  */
 import { ComplexFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { dotRe } from '../linalg/complex.ts';
 
 /** coefficients and functions of O = c₁k + c₂k² + c₃k³ + v + b{w,k}; null arrays mean "absent" */
 export interface OperatorTerms {
@@ -26,12 +27,12 @@ export interface OperatorTerms {
   v: Float64Array | null;
   w: Float64Array | null;
   b: number;
-  /** the k-polynomial acts only on modes with |k| ≤ kCut (default ∞); the split propagator treats the rest exactly */
+  /** not read by this module (optional so that producers which set it still type-check) */
   kCut?: number;
 }
 
 export function emptyTerms(): OperatorTerms {
-  return { c1: 0, c2: 0, c3: 0, v: null, w: null, b: 0, kCut: Infinity };
+  return { c1: 0, c2: 0, c3: 0, v: null, w: null, b: 0 };
 }
 
 /** H = k² + u */
@@ -64,12 +65,11 @@ export function laxTerms(u: Float64Array, part: 'full' | 'cubic' | 'potential' =
  */
 export function normBound(grid: Grid, t: OperatorTerms): number {
   const km = grid.kMax;
-  const kk = Math.min(km, t.kCut ?? Infinity);
   let vmax = 0;
   let wmax = 0;
   if (t.v) for (let j = 0; j < t.v.length; j++) vmax = Math.max(vmax, Math.abs(t.v[j]));
   if (t.w) for (let j = 0; j < t.w.length; j++) wmax = Math.max(wmax, Math.abs(t.w[j]));
-  return Math.abs(t.c1) * kk + Math.abs(t.c2) * kk * kk + Math.abs(t.c3) * kk * kk * kk + vmax + 2 * Math.abs(t.b) * wmax * km;
+  return Math.abs(t.c1) * km + Math.abs(t.c2) * km * km + Math.abs(t.c3) * km * km * km + vmax + 2 * Math.abs(t.b) * wmax * km;
 }
 
 export class SpectralOperator {
@@ -120,12 +120,10 @@ export class SpectralOperator {
       fft.forward(x1, f2); // f2 = F(wψ)
     }
     const { c1, c2, c3, b } = t;
-    const kCut = t.kCut ?? Infinity;
-    const kFull = this.grid.k;
-    // spectral part: (c₁k + c₂k² + c₃k³)F(ψ) (modes |k| ≤ kCut) + b k F(wψ)
+    // spectral part: (c₁k + c₂k² + c₃k³)F(ψ) + b k F(wψ)
     for (let j = 0; j < n; j++) {
       const kk = kOdd[j];
-      const m = Math.abs(kFull[j]) <= kCut ? c1 * kk + c2 * k2[j] + c3 * k3[j] : 0;
+      const m = c1 * kk + c2 * k2[j] + c3 * k3[j];
       let re = m * f1[2 * j];
       let im = m * f1[2 * j + 1];
       if (hasW) {
@@ -166,30 +164,5 @@ export class SpectralOperator {
   }
 }
 
-/** Re Σ conj(a_j) b_j */
-export function dotRe(a: Float64Array, b: Float64Array): number {
-  let s = 0;
-  for (let j = 0; j < a.length; j++) s += a[j] * b[j];
-  return s;
-}
-
-/** Im Σ conj(a_j) b_j */
-export function dotIm(a: Float64Array, b: Float64Array): number {
-  let s = 0;
-  for (let j = 0; j < a.length; j += 2) s += a[j] * b[j + 1] - a[j + 1] * b[j];
-  return s;
-}
-
-/** ‖a‖₂ = sqrt(Σ |a_j|²) */
-export function norm2(a: Float64Array): number {
-  let s = 0;
-  for (let j = 0; j < a.length; j++) s += a[j] * a[j];
-  return Math.sqrt(s);
-}
-
-/** complex vector from a real one (imaginary part zero) */
-export function complexFromReal(re: Float64Array): Float64Array {
-  const out = new Float64Array(2 * re.length);
-  for (let j = 0; j < re.length; j++) out[2 * j] = re[j];
-  return out;
-}
+/** the real-to-complex copy lives in linalg/complex.ts; re-exported for callers of this module */
+export { complexFromReal } from '../linalg/complex.ts';

@@ -17,11 +17,11 @@
  *   of the Hermitian matrix M_ij = ⟨φ_i|O|φ_j⟩ through its real symmetric 2n×2n embedding [[Re M, −Im M],[Im M, Re M]].
  */
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { UserError } from '../core/errors.ts';
-import { bareTerms, dotIm, dotRe, norm2, SpectralOperator, type OperatorTerms } from './hamiltonian.ts';
+import { bareTerms, SpectralOperator, type OperatorTerms } from './hamiltonian.ts';
+import { dotIm, dotRe, norm2 } from '../linalg/complex.ts';
 import { groupDegenerate } from './eigen.ts';
 
-/** tail weights above this get a warning (the brief's 1e-6) */
+/** tail weights above this get a warning (matches the 1 − 1e-6 fidelity criterion of verify) */
 export const THERMAL_TAIL_WARN = 1e-6;
 /** free-level continuation stops when a term drops below this fraction of the partition sum (common practice) */
 const TAIL_TERM_STOP = 1e-18;
@@ -77,7 +77,7 @@ export interface ThermalSummary {
 }
 
 export function thermalSummary(energies: readonly number[], fidelities: readonly number[], excess: readonly number[], temperature: number, boxLength: number): ThermalSummary {
-  if (!(temperature > 0) || !Number.isFinite(temperature)) throw new UserError(`thermal: temperature ${temperature} must be a positive finite number (energy units E₀)`);
+  if (!(temperature > 0) || !Number.isFinite(temperature)) throw new RangeError(`thermal: temperature ${temperature} must be a positive finite number (energy units E₀)`);
   const e0 = energies[0];
   const raw = energies.map((e) => Math.exp(-(e - e0) / temperature));
   const zComputed = raw.reduce((a, b) => a + b, 0);
@@ -161,7 +161,7 @@ export interface FermionSummary {
 
 export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: readonly Float64Array[], finalEnergies: readonly number[], particles: number, degeneracyTol: number): FermionSummary {
   if (!Number.isInteger(particles) || particles < 1 || particles > evolved.length || particles > finalVectors.length) {
-    throw new UserError(`fermions: number ${particles} must be an integer in 1 … ${Math.min(evolved.length, finalVectors.length)} (the propagated states)`);
+    throw new RangeError(`fermions: number ${particles} must be an integer in 1 … ${Math.min(evolved.length, finalVectors.length)} (the propagated states)`);
   }
   const n = particles;
   const re = new Float64Array(n * n);

@@ -6,13 +6,13 @@
  * subspace, and the isospectrality drift (eigenvalues of H(λ_end) vs H(0): they must not move along an
  * admissible sequence). Results are plain JSON-serialisable objects.
  */
-import { UserError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
-import { complexFromReal, laxTerms, SpectralOperator } from './hamiltonian.ts';
+import { complexFromReal } from '../linalg/complex.ts';
+import { laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, groupOf, projectedNorm, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
-import { makeRamp, type RampKind } from '../protocol/ramp.ts';
+import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
 
 export type DriveKind = 'cd' | 'bare' | 'flipped';
@@ -20,7 +20,7 @@ export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped:
 
 /** levels closer than this (E₀) count as degenerate (the ±k pairs agree to round-off, ~1e-12) */
 const DEGENERACY_TOL_DEFAULT = 1e-7;
-/** states added above the bound ones by default (the brief: bound states plus 4) */
+/** states added above the bound ones by default (the lowest continuum levels show leakage out of the bound set) */
 const EXTRA_STATES = 4;
 /** samples of the protocol used for the CD-strength maximum */
 const STRENGTH_SAMPLES_DEFAULT = 17;
@@ -105,26 +105,27 @@ function eigenWithBound(grid: Grid, u: Float64Array, method: EigenMethod | undef
   }
 }
 
-export function verifySequence(opts: VerifyOptions): VerifyResult {
-  const tStart = performance.now();
+/** eigenpairs at the start and the end of the sequence, the propagated count and the isospectrality drift */
+interface Spectra {
+  e0: EigenResult;
+  e1: EigenResult;
+  groups1: number[][];
+  bound: number;
+  /** propagated states */
+  m: number;
+  /** levels solved (m plus two, so a degenerate pair cut at the top is complete) */
+  extra: number;
+  states: StateResult[];
+  drift: number;
+  eigenMs: number;
+}
+
+function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, degTol: number): Spectra {
   const { grid } = opts;
-  const warnings: string[] = [];
-  const ramp = makeRamp(opts.ramp, opts.duration, opts.lambdaEnd);
-  if (!ramp.endSlopeZero) warnings.push(`ramp "${opts.ramp}" has λ' ≠ 0 at the ends: H_CD ≠ H at start and end, fidelities then refer to H(λ) and include the sudden switch of the correction`);
-  const drives = opts.drives ?? ['cd', 'bare'];
-  for (const d of drives) if (!(d in DRIVE_SIGMA)) throw new UserError(`verify: drive "${String(d)}" is not known; allowed: cd, bare, flipped`);
-  const degTol = opts.degeneracyTol ?? DEGENERACY_TOL_DEFAULT;
-  const progress = opts.onProgress ?? (() => undefined);
-  const u0 = new Float64Array(grid.n);
-  const u1 = new Float64Array(grid.n);
-  opts.potential(0, u0);
-  opts.potential(opts.lambdaEnd, u1);
   const t0 = performance.now();
-  progress(0, 'eigen');
   const first = eigenWithBound(grid, u0, opts.eigenMethod);
   const m = opts.states ?? Math.min(grid.n, first.bound + EXTRA_STATES);
-  if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new UserError(`verify: states ${m} must be an integer in 1 … ${grid.n}`);
-  // two extra levels complete a degenerate pair cut at the top
+  if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new RangeError(`verify: states ${m} must be an integer in 1 … ${grid.n}`);
   const extra = Math.min(grid.n, m + 2);
   const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method: opts.eigenMethod });
   const e1 = lowestEigenpairs(grid, u1, extra, { method: opts.eigenMethod });
@@ -136,77 +137,124 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
     states.push({ index: i, energyStart: e0.energies[i], energyEnd: e1.energies[i], degeneracyEnd: groupOf(groups1, i).length });
     drift = Math.max(drift, Math.abs(e1.energies[i] - e0.energies[i]));
   }
-  const init = e0.vectors.slice(0, m).map(complexFromReal);
-  const prop = new Propagator(grid);
-  const op = new SpectralOperator(grid);
-  const scratch = new Float64Array(2 * grid.n);
+  return { e0, e1, groups1, bound: first.bound, m, extra, states, drift, eigenMs };
+}
+
+/** what every drive shares: the spectra, the initial states, the propagator and operator, the trace eigenbases */
+interface DriveContext {
+  opts: VerifyOptions;
+  ramp: Ramp;
+  spectra: Spectra;
+  init: Float64Array[];
+  prop: Propagator;
+  op: SpectralOperator;
+  scratch: Float64Array;
+  occupied: number;
+  degTol: number;
+  /** the instantaneous eigenbasis depends only on the time, not the drive: solved once per sample time */
+  traceBases: Map<number, { es: EigenResult; gs: number[][] }>;
+  /** the potential at the end of the sequence */
+  u1: Float64Array;
+  warnings: string[];
+  progress: (fraction: number, stage: string) => void;
+}
+
+/** propagate the initial states under one drive and evaluate fidelities, energies, traces and the CD strength */
+function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: number): { result: DriveResult; strength: CdStrength | null } {
+  const { opts, ramp, spectra, warnings } = ctx;
+  const { grid } = opts;
+  const sigma = DRIVE_SIGMA[drive];
+  const nTrace = opts.traceSamples ?? 0;
+  const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
+  const traceTimes = Array.from({ length: nTrace }, (_, i) => (opts.duration * (i + 1)) / (nTrace + 1));
+  const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
+  const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
+  const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
+  const uS = new Float64Array(grid.n);
+  let best = { full: 0, cubic: 0, potential: 0, atTime: 0 };
+  const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
+    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global',
+    onProgress: (f) => ctx.progress((di + f) / driveCount, drive),
+    onSample: (s, sts) => {
+      opts.potential(ramp.value(s), uS);
+      if (trace && traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
+      if (nStrength > 0 && strengthTimes.includes(s)) {
+        const occ = sts.slice(0, ctx.occupied);
+        const rate = Math.abs(ramp.rate(s));
+        const full = rate * projectedNorm(ctx.op, laxTerms(uS, 'full'), occ, ctx.scratch);
+        if (full >= best.full) {
+          best = { full, cubic: rate * projectedNorm(ctx.op, laxTerms(uS, 'cubic'), occ, ctx.scratch), potential: rate * projectedNorm(ctx.op, laxTerms(uS, 'potential'), occ, ctx.scratch), atTime: s };
+        }
+      }
+    },
+  });
+  const { e0, e1, groups1, m } = spectra;
+  const fid = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
+  const exc = res.states.map((p, i) => excessEnergy(ctx.op, ctx.u1, p, e1.energies[i], ctx.scratch));
+  const thermal = opts.temperature !== undefined ? thermalSummary(e0.energies.slice(0, m), fid, exc, opts.temperature, grid.length) : null;
+  if (thermal?.tailWarning) warnings.push(`${drive}: ${thermal.tailWarning}`);
+  const fermions = opts.fermions !== undefined ? fermionFidelity(res.states, e1.vectors, e1.energies, opts.fermions, ctx.degTol) : null;
+  if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
+  return {
+    result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace },
+    strength: nStrength > 0 ? { occupied: ctx.occupied, ...best } : null,
+  };
+}
+
+/** fidelities of the states in the instantaneous eigenspaces of H(s) */
+function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: readonly Float64Array[]): number[] {
+  let basis = ctx.traceBases.get(s);
+  if (!basis) {
+    const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod });
+    basis = { es: e, gs: groupDegenerate(e.energies, ctx.degTol) };
+    ctx.traceBases.set(s, basis);
+  }
+  const { es, gs } = basis;
+  return sts.map((p, i) => eigenspaceFidelity(p, es.vectors, groupOf(gs, i)));
+}
+
+export function verifySequence(opts: VerifyOptions): VerifyResult {
+  const tStart = performance.now();
+  const { grid } = opts;
+  const warnings: string[] = [];
+  const ramp = makeRamp(opts.ramp, opts.duration, opts.lambdaEnd);
+  if (!ramp.endSlopeZero) warnings.push(`ramp "${opts.ramp}" has λ' ≠ 0 at the ends: H_CD ≠ H at start and end, fidelities then refer to H(λ) and include the sudden switch of the correction`);
+  const drives = opts.drives ?? ['cd', 'bare'];
+  for (const d of drives) if (!(d in DRIVE_SIGMA)) throw new RangeError(`verify: drive "${String(d)}" is not known; allowed: cd, bare, flipped`);
+  const degTol = opts.degeneracyTol ?? DEGENERACY_TOL_DEFAULT;
+  const progress = opts.onProgress ?? (() => undefined);
+  const u0 = new Float64Array(grid.n);
+  const u1 = new Float64Array(grid.n);
+  opts.potential(0, u0);
+  opts.potential(opts.lambdaEnd, u1);
+  progress(0, 'eigen');
+  const spectra = endSpectra(opts, u0, u1, degTol);
+  const { m } = spectra;
+  const occupied = opts.fermions ?? Math.max(1, spectra.bound);
+  if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
+    throw new RangeError(`verify: fermions ${opts.fermions} must be an integer in 1 … ${m} (the propagated states)`);
+  }
+  const ctx: DriveContext = {
+    opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
+    scratch: new Float64Array(2 * grid.n), occupied, degTol, traceBases: new Map(), warnings, progress, u1,
+  };
+  const tProp = performance.now();
   const results: DriveResult[] = [];
   let cdStrength: CdStrength | null = null;
-  const occupied = opts.fermions ?? Math.max(1, first.bound);
-  if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
-    throw new UserError(`verify: fermions ${opts.fermions} must be an integer in 1 … ${m} (the propagated states)`);
-  }
-  const tProp = performance.now();
-  const traceBases = new Map<number, { es: EigenResult; gs: number[][] }>();
   drives.forEach((drive, di) => {
-    const sigma = DRIVE_SIGMA[drive];
-    const H = kdvDrive(grid, opts.potential, ramp, sigma);
-    const nTrace = opts.traceSamples ?? 0;
-    const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
-    const traceTimes = Array.from({ length: nTrace }, (_, i) => (opts.duration * (i + 1)) / (nTrace + 1));
-    const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
-    const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
-    const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
-    const uS = new Float64Array(grid.n);
-    let best = { full: 0, cubic: 0, potential: 0, atTime: 0 };
-    const res = prop.propagate(H, init, 0, opts.duration, {
-      scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global',
-      onProgress: (f) => progress((di + f) / drives.length, drive),
-      onSample: (s, sts) => {
-        opts.potential(ramp.value(s), uS);
-        if (trace && traceTimes.includes(s)) {
-          // the instantaneous eigenbasis depends only on the time, not the drive: solve once per sample time
-          let basis = traceBases.get(s);
-          if (!basis) {
-            const e = lowestEigenpairs(grid, uS, extra, { method: opts.eigenMethod });
-            basis = { es: e, gs: groupDegenerate(e.energies, degTol) };
-            traceBases.set(s, basis);
-          }
-          const { es, gs } = basis;
-          trace.fidelity.push(sts.map((p, i) => eigenspaceFidelity(p, es.vectors, groupOf(gs, i))));
-        }
-        if (nStrength > 0 && strengthTimes.includes(s)) {
-          const occ = sts.slice(0, occupied);
-          const rate = Math.abs(ramp.rate(s));
-          const full = rate * projectedNorm(op, laxTerms(uS, 'full'), occ, scratch);
-          if (full >= best.full) {
-            best = { full, cubic: rate * projectedNorm(op, laxTerms(uS, 'cubic'), occ, scratch), potential: rate * projectedNorm(op, laxTerms(uS, 'potential'), occ, scratch), atTime: s };
-          }
-        }
-      },
-    });
-    if (nStrength > 0) cdStrength = { occupied, ...best };
-    const fid = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
-    const exc = res.states.map((p, i) => excessEnergy(op, u1, p, e1.energies[i], scratch));
-    const thermal = opts.temperature !== undefined ? thermalSummary(e0.energies.slice(0, m), fid, exc, opts.temperature, grid.length) : null;
-    if (thermal?.tailWarning) warnings.push(`${drive}: ${thermal.tailWarning}`);
-    const fermions = opts.fermions !== undefined ? fermionFidelity(res.states, e1.vectors, e1.energies, opts.fermions, degTol) : null;
-    if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
-    results.push({ drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace });
+    const { result, strength } = runDrive(ctx, drive, di, drives.length);
+    if (strength) cdStrength = strength;
+    results.push(result);
   });
   progress(1, 'done');
   const propagationMs = performance.now() - tProp;
+  const { drift, e0, e1, eigenMs } = spectra;
   if (drift > 1e-6) warnings.push(`isospectrality drift ${drift.toExponential(2)} E₀: the sequence is not KdV-admissible or the potential is not resolved`);
   const maxRes = Math.max(...e0.residuals, ...e1.residuals);
   return {
     grid: { n: grid.n, length: grid.length }, ramp: opts.ramp, duration: opts.duration, lambdaEnd: opts.lambdaEnd,
-    states, boundStates: first.bound, isospectralDrift: drift,
+    states: spectra.states, boundStates: spectra.bound, isospectralDrift: drift,
     eigen: { method: e1.method, detail: e1.detail, maxResidual: maxRes, residualTol: e1.residualTol, wallMs: eigenMs },
     drives: results, cdStrength, timings: { eigenMs, propagationMs, totalMs: performance.now() - tStart }, warnings,
   };
-}
-
-/** one drive only (convenience wrapper) */
-export function verifyDrive(opts: Omit<VerifyOptions, 'drives'>, drive: DriveKind): DriveResult {
-  return verifySequence({ ...opts, drives: [drive] }).drives[0];
 }

@@ -1,0 +1,43 @@
+/**
+ * Interleaved complex vectors (re₀, im₀, re₁, im₁, …) in Float64Array: the real-to-complex copy, inner products
+ * ⟨a|b⟩ = Σ conj(a_j) b_j, the norm and the squared overlap |⟨a|b⟩|² (common practice).
+ */
+
+/** complex vector from a real one (imaginary part zero) */
+export function complexFromReal(re: Float64Array): Float64Array {
+  const out = new Float64Array(2 * re.length);
+  for (let j = 0; j < re.length; j++) out[2 * j] = re[j];
+  return out;
+}
+
+/** Re Σ conj(a_j) b_j */
+export function dotRe(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let j = 0; j < a.length; j++) s += a[j] * b[j];
+  return s;
+}
+
+/** Im Σ conj(a_j) b_j */
+export function dotIm(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let j = 0; j < a.length; j += 2) s += a[j] * b[j + 1] - a[j + 1] * b[j];
+  return s;
+}
+
+/** ‖a‖₂ = sqrt(Σ |a_j|²) */
+export function norm2(a: Float64Array): number {
+  let s = 0;
+  for (let j = 0; j < a.length; j++) s += a[j] * a[j];
+  return Math.sqrt(s);
+}
+
+/** |⟨a|b⟩|² */
+export function overlap2(a: Float64Array, b: Float64Array): number {
+  let re = 0;
+  let im = 0;
+  for (let i = 0; i < a.length; i += 2) {
+    re += a[i] * b[i] + a[i + 1] * b[i + 1];
+    im += a[i] * b[i + 1] - a[i + 1] * b[i];
+  }
+  return re * re + im * im;
+}

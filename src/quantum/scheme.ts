@@ -1,0 +1,79 @@
+/**
+ * One-step schemes for the time-dependent Schrödinger equation i ∂_s ψ = H(s) ψ, registered by name.
+ *
+ * A scheme is defined once (`SchemeDefinition`: name, order, the paper it follows) and instantiated per
+ * propagator (`create`), so every instance owns its preallocated buffers and two propagations never share
+ * scratch. A registry is immutable: `with` returns a new registry that also knows the given schemes, so nothing
+ * is registered into shared module state.
+ */
+import type { Grid } from '../spectral/grid.ts';
+import type { KrylovExp } from '../integrate/krylov.ts';
+import type { OperatorTerms, SpectralOperator } from './hamiltonian.ts';
+
+/** the time-dependent Hamiltonian; `terms` may point out.v / out.w at arrays it reuses on the next call */
+export interface DrivenHamiltonian {
+  readonly grid: Grid;
+  terms(s: number, out: OperatorTerms): void;
+  /** out[0..2] = ∫_{sa}^{sb} (c₁, c₂, c₃) ds; optional, not read by the core schemes */
+  kineticIntegral?(sa: number, sb: number, out: Float64Array): void;
+}
+
+/** what a scheme instance may use: the grid, the matrix-free operator and a Krylov exponential */
+export interface SchemeContext {
+  readonly grid: Grid;
+  readonly op: SpectralOperator;
+  readonly krylov: KrylovExp;
+}
+
+/** a scheme bound to one propagator's buffers */
+export interface StepScheme {
+  /** every state ← ψ(s + h), in place; tolK is the absolute tolerance of any Krylov exponential used */
+  step(H: DrivenHamiltonian, s: number, h: number, states: Float64Array[], tolK: number): void;
+}
+
+export interface SchemeDefinition {
+  readonly name: string;
+  /** classical order (sets the controller exponent) */
+  readonly order: number;
+  /** one line: method and source */
+  readonly doc: string;
+  create(ctx: SchemeContext): StepScheme;
+}
+
+/** the step of a scheme on its own buffers (state in, state out; allocates nothing) */
+export type SchemeStep<C> = (cache: C, H: DrivenHamiltonian, s: number, h: number, states: Float64Array[], tolK: number) => void;
+
+/** a definition whose instances pair fresh buffers from `makeCache` with the step function */
+export function defineScheme<C>(name: string, order: number, doc: string, makeCache: (ctx: SchemeContext) => C, step: SchemeStep<C>): SchemeDefinition {
+  return {
+    name, order, doc,
+    create(ctx: SchemeContext): StepScheme {
+      const cache = makeCache(ctx);
+      return { step: (H, s, h, states, tolK) => step(cache, H, s, h, states, tolK) };
+    },
+  };
+}
+
+export class SchemeRegistry {
+  private readonly defs: ReadonlyMap<string, SchemeDefinition>;
+  constructor(defs: readonly SchemeDefinition[]) {
+    const map = new Map<string, SchemeDefinition>();
+    for (const d of defs) {
+      if (map.has(d.name)) throw new RangeError(`scheme "${d.name}" is registered twice`);
+      map.set(d.name, d);
+    }
+    this.defs = map;
+  }
+  /** a new registry with these schemes added */
+  with(...defs: SchemeDefinition[]): SchemeRegistry {
+    return new SchemeRegistry([...this.defs.values(), ...defs]);
+  }
+  names(): string[] {
+    return [...this.defs.keys()];
+  }
+  get(name: string): SchemeDefinition {
+    const d = this.defs.get(name);
+    if (!d) throw new RangeError(`propagator: scheme "${name}" is not registered; registered: ${this.names().join(', ')}`);
+    return d;
+  }
+}
