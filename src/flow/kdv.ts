@@ -18,7 +18,9 @@ import { errorExponent, stepFactor } from '../integrate/controller.ts';
 import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients, type Etdrk4Workspace } from '../integrate/etdrk4.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
-import { intervalIndex } from '../spectral/ops.ts';
+import { DenseFlow } from './dense.ts';
+
+export { DenseFlow } from './dense.ts';
 
 /** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): four rungs per octave keeps the cache small and h/2 on it */
 export const LADDER_DIVISIONS = 4;
@@ -160,85 +162,6 @@ export class FlowOperator {
       if (m >= lo && e > top) top = e;
     }
     return all > 0 ? Math.sqrt(top / all) : 0;
-  }
-}
-
-/**
- * Piecewise cubic Hermite interpolant in λ through the stored (λ_i, û_i, ∂_λû_i), kept as half spectra on the
- * retained band (a fifth of the memory of physical arrays, and no transform per step); a query combines the
- * four neighbouring spectra and transforms once.
- */
-export class DenseFlow {
-  readonly lambdas: number[] = [];
-  private readonly values: Float64Array[] = [];
-  private readonly rates: Float64Array[] = [];
-  readonly points: number;
-  private readonly fft: RealFFT;
-  private readonly spec: Float64Array;
-  constructor(points: number, fft: RealFFT) {
-    this.points = points;
-    this.fft = fft;
-    this.spec = new Float64Array(points + 2);
-  }
-  /** store copies of the first `active` modes of a half spectrum and its λ-derivative */
-  push(lambda: number, v: Float64Array, vt: Float64Array, active: number): void {
-    this.lambdas.push(lambda);
-    this.values.push(v.slice(0, 2 * active));
-    this.rates.push(vt.slice(0, 2 * active));
-  }
-  get start(): number {
-    return this.lambdas[0];
-  }
-  get end(): number {
-    return this.lambdas[this.lambdas.length - 1];
-  }
-  private locate(lambda: number): number {
-    const ls = this.lambdas;
-    if (!(lambda >= ls[0] - 1e-12 && lambda <= ls[ls.length - 1] + 1e-12)) {
-      throw new RangeError(`λ = ${lambda} is outside the computed sequence [${ls[0]}, ${ls[ls.length - 1]}]`);
-    }
-    return intervalIndex(ls, lambda);
-  }
-  private combine(lambda: number, out: Float64Array, derivative: boolean): Float64Array {
-    const spec = this.spec;
-    spec.fill(0);
-    if (this.lambdas.length === 1) {
-      spec.set(derivative ? this.rates[0] : this.values[0]);
-    } else {
-      const i = this.locate(lambda);
-      const h = this.lambdas[i + 1] - this.lambdas[i];
-      const t = (lambda - this.lambdas[i]) / h;
-      const t2 = t * t;
-      const t3 = t2 * t;
-      let a0, b0, a1, b1;
-      if (derivative) {
-        a0 = (6 * t2 - 6 * t) / h;
-        b0 = 3 * t2 - 4 * t + 1;
-        a1 = (-6 * t2 + 6 * t) / h;
-        b1 = 3 * t2 - 2 * t;
-      } else {
-        a0 = 2 * t3 - 3 * t2 + 1;
-        b0 = (t3 - 2 * t2 + t) * h;
-        a1 = -2 * t3 + 3 * t2;
-        b1 = (t3 - t2) * h;
-      }
-      const u0 = this.values[i], d0 = this.rates[i], u1 = this.values[i + 1], d1 = this.rates[i + 1];
-      for (let j = 0; j < u0.length; j++) spec[j] = a0 * u0[j] + b0 * d0[j] + a1 * u1[j] + b1 * d1[j];
-    }
-    this.fft.inverse(spec, out);
-    return out;
-  }
-  /** u(·, λ) into out (length N) */
-  at(lambda: number, out: Float64Array): Float64Array {
-    return this.combine(lambda, out, false);
-  }
-  /** ∂_λ u(·, λ) into out */
-  rateAt(lambda: number, out: Float64Array): Float64Array {
-    return this.combine(lambda, out, true);
-  }
-  /** bytes held by the stored spectra */
-  get bytes(): number {
-    return this.values.reduce((s, a) => s + 2 * a.byteLength, 0);
   }
 }
 

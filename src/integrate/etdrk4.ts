@@ -17,7 +17,7 @@
 import { etdContourMeans, phiImaginary } from './phi.ts';
 
 /** stage times of the four right-hand-side evaluations, as fractions of the step */
-export const ETDRK4_STAGE_NODES: readonly number[] = [0, 0.5, 0.5, 1];
+export const ETDRK4_STAGE_NODES: readonly number[] = Object.freeze([0, 0.5, 0.5, 1]);
 
 export interface Etdrk4Coefficients {
   h: number;

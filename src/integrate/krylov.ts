@@ -8,12 +8,17 @@
  * dimension, the step is cut into sub-steps that reuse the same basis (the scheme of Sidje, Expokit, ACM TOMS 24,
  * 130, 1998), so any h is accepted. Buffers are allocated in the constructor only.
  */
+import { NumericalError } from '../core/errors.ts';
 import { tridiagEigen } from '../linalg/tridiag.ts';
 
 /** smallest dimension before the error estimate is first evaluated (estimate unreliable below) */
 const MIN_CHECK_DIM = 4;
 /** relative size of β_j below which the Krylov space is invariant ("happy breakdown") */
 const BREAKDOWN_REL = 1e-14;
+/** sub-steps allowed per call before giving up (a runaway guard; typical calls need one) */
+const MAX_SUBSTEPS = 10000;
+/** halvings of a sub-step on one basis before it is used as is */
+const MAX_HALVINGS = 200;
 /** Gram–Schmidt passes over the basis per Lanczos step (1 suffices here; 2 = "twice is enough", Parlett 1998) */
 const REORTH_PASSES = 1;
 
@@ -105,94 +110,111 @@ export class KrylovExp {
   expm(applyA: ApplyOperator, v: Float64Array, h: number, tol: number, out: Float64Array, normA = 1): void {
     const st = this.stats;
     st.calls++;
-    const { q, r, w, alpha, beta } = this;
+    const { q, w } = this;
     const len = this.len;
     w.set(v);
     let remaining = h;
     let guard = 0;
     while (remaining !== 0) {
-      if (++guard > 10000) throw new Error('KrylovExp: too many sub-steps');
+      if (++guard > MAX_SUBSTEPS) throw new NumericalError('KrylovExp: too many sub-steps');
       let bnorm = 0;
       for (let i = 0; i < len; i++) bnorm += w[i] * w[i];
       bnorm = Math.sqrt(bnorm);
       if (bnorm === 0) break;
       const q0 = q[0];
       for (let i = 0; i < len; i++) q0[i] = w[i] / bnorm;
-      let m = 0;
-      let hs = remaining;
-      let converged = false;
-      for (let j = 0; j < this.maxDim; j++) {
-        const qj = q[j];
-        applyA(qj, r);
-        st.matvecs++;
-        // α_j = ⟨q_j, A q_j⟩ (real for Hermitian A)
-        let a = 0;
-        for (let i = 0; i < len; i++) a += qj[i] * r[i];
-        alpha[j] = a;
-        // full reorthogonalisation against q_0 … q_j (classical Gram–Schmidt; one pass after the recurrence's
-        // own projection is enough for the exponential, Saad 1992)
-        for (let pass = 0; pass < REORTH_PASSES; pass++) {
-          for (let l = 0; l <= j; l++) {
-            const ql = q[l];
-            let sr = 0;
-            let si = 0;
-            for (let i = 0; i < len; i += 2) {
-              sr += ql[i] * r[i] + ql[i + 1] * r[i + 1];
-              si += ql[i] * r[i + 1] - ql[i + 1] * r[i];
-            }
-            for (let i = 0; i < len; i += 2) {
-              r[i] -= sr * ql[i] - si * ql[i + 1];
-              r[i + 1] -= sr * ql[i + 1] + si * ql[i];
-            }
-          }
-        }
-        let b = 0;
-        for (let i = 0; i < len; i++) b += r[i] * r[i];
-        b = Math.sqrt(b);
-        beta[j] = b;
-        m = j + 1;
-        if (b <= BREAKDOWN_REL * Math.max(normA, Math.abs(a))) {
-          // invariant subspace: the exponential is exact for any h
-          this.smallExp(m, hs);
-          converged = true;
-          break;
-        }
-        const qn = q[j + 1];
-        for (let i = 0; i < len; i++) qn[i] = r[i] / b;
-        if (m >= MIN_CHECK_DIM && (m === this.maxDim || m % 2 === 0)) {
-          const last = this.smallExp(m, hs);
-          const err = bnorm * b * last;
-          if (err <= (tol * Math.abs(hs)) / Math.abs(h)) {
-            converged = true;
-            break;
-          }
-        }
-      }
-      if (!converged) {
-        // shrink the sub-step on the same basis until the estimate is met
-        for (let it = 0; it < 200; it++) {
-          hs *= 0.5;
-          const last = this.smallExp(m, hs);
-          if (bnorm * beta[m - 1] * last <= (tol * Math.abs(hs)) / Math.abs(h)) break;
-        }
-      }
+      const { m, hs } = this.subStep(applyA, bnorm, remaining, h, tol, normA);
       if (m > st.maxDimUsed) st.maxDimUsed = m;
-      // w = β Q c
-      const { cRe, cIm } = this;
-      w.fill(0);
-      for (let l = 0; l < m; l++) {
-        const ql = q[l];
-        const cr = bnorm * cRe[l];
-        const ci = bnorm * cIm[l];
-        for (let i = 0; i < len; i += 2) {
-          w[i] += cr * ql[i] - ci * ql[i + 1];
-          w[i + 1] += cr * ql[i + 1] + ci * ql[i];
-        }
-      }
+      this.expand(m, bnorm);
       st.substeps++;
       remaining -= hs;
       if (Math.abs(remaining) <= 1e-15 * Math.abs(h)) remaining = 0;
     }
     out.set(w);
+  }
+
+  /**
+   * Lanczos basis from q₀ until the error estimate for the sub-step hs meets its share tol·|hs|/|h| (or the basis
+   * is invariant); at the maximal dimension hs is halved on the same basis instead. Leaves c = exp(−ihs T_m)e₁ in
+   * cRe, cIm and returns the dimension and the sub-step taken.
+   */
+  private subStep(applyA: ApplyOperator, bnorm: number, hs: number, h: number, tol: number, normA: number): { m: number; hs: number } {
+    const { q, r, alpha, beta } = this;
+    const len = this.len;
+    let m = 0;
+    for (let j = 0; j < this.maxDim; j++) {
+      const qj = q[j];
+      applyA(qj, r);
+      this.stats.matvecs++;
+      // α_j = ⟨q_j, A q_j⟩ (real for Hermitian A)
+      let a = 0;
+      for (let i = 0; i < len; i++) a += qj[i] * r[i];
+      alpha[j] = a;
+      this.reorthogonalise(j);
+      let b = 0;
+      for (let i = 0; i < len; i++) b += r[i] * r[i];
+      b = Math.sqrt(b);
+      beta[j] = b;
+      m = j + 1;
+      if (b <= BREAKDOWN_REL * Math.max(normA, Math.abs(a))) {
+        // invariant subspace: the exponential is exact for any h
+        this.smallExp(m, hs);
+        return { m, hs };
+      }
+      const qn = q[j + 1];
+      for (let i = 0; i < len; i++) qn[i] = r[i] / b;
+      if (m >= MIN_CHECK_DIM && (m === this.maxDim || m % 2 === 0)) {
+        const last = this.smallExp(m, hs);
+        const err = bnorm * b * last;
+        if (err <= (tol * Math.abs(hs)) / Math.abs(h)) return { m, hs };
+      }
+    }
+    // shrink the sub-step on the same basis until the estimate is met
+    for (let it = 0; it < MAX_HALVINGS; it++) {
+      hs *= 0.5;
+      const last = this.smallExp(m, hs);
+      if (bnorm * beta[m - 1] * last <= (tol * Math.abs(hs)) / Math.abs(h)) break;
+    }
+    return { m, hs };
+  }
+
+  /**
+   * r ← r − Σ_{l ≤ j} q_l⟨q_l, r⟩: full reorthogonalisation against q_0 … q_j (classical Gram–Schmidt; one pass after
+   * the recurrence's own projection is enough for the exponential, Saad 1992)
+   */
+  private reorthogonalise(j: number): void {
+    const { q, r } = this;
+    const len = this.len;
+    for (let pass = 0; pass < REORTH_PASSES; pass++) {
+      for (let l = 0; l <= j; l++) {
+        const ql = q[l];
+        let sr = 0;
+        let si = 0;
+        for (let i = 0; i < len; i += 2) {
+          sr += ql[i] * r[i] + ql[i + 1] * r[i + 1];
+          si += ql[i] * r[i + 1] - ql[i + 1] * r[i];
+        }
+        for (let i = 0; i < len; i += 2) {
+          r[i] -= sr * ql[i] - si * ql[i + 1];
+          r[i + 1] -= sr * ql[i + 1] + si * ql[i];
+        }
+      }
+    }
+  }
+
+  /** w = β Q_m c */
+  private expand(m: number, bnorm: number): void {
+    const { q, w, cRe, cIm } = this;
+    const len = this.len;
+    w.fill(0);
+    for (let l = 0; l < m; l++) {
+      const ql = q[l];
+      const cr = bnorm * cRe[l];
+      const ci = bnorm * cIm[l];
+      for (let i = 0; i < len; i += 2) {
+        w[i] += cr * ql[i] - ci * ql[i + 1];
+        w[i + 1] += cr * ql[i + 1] + ci * ql[i];
+      }
+    }
   }
 }

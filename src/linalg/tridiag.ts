@@ -4,6 +4,8 @@
  * routine tql2). Used for the small Lanczos matrices of eigen.ts and krylov.ts.
  */
 
+import { NumericalError } from '../core/errors.ts';
+
 /** QL iterations allowed per eigenvalue before giving up (Numerical Recipes uses 30; doubled for safety) */
 const MAX_QL_ITERATIONS = 60;
 
@@ -28,7 +30,7 @@ export function tridiagEigen(d: Float64Array, e: Float64Array, n: number, z: Flo
         if (Math.abs(e[m]) <= Number.EPSILON * dd) break;
       }
       if (m !== l) {
-        if (iter++ === MAX_QL_ITERATIONS) throw new Error('tridiagEigen: QL iteration did not converge');
+        if (iter++ === MAX_QL_ITERATIONS) throw new NumericalError('tridiagEigen: QL iteration did not converge');
         let g = (d[l + 1] - d[l]) / (2 * e[l]);
         let r = Math.hypot(g, 1);
         g = d[m] - d[l] + e[l] / (g + (g >= 0 ? Math.abs(r) : -Math.abs(r)));

@@ -51,7 +51,7 @@ export function eigenspaceFidelity(psi: Float64Array, vectors: readonly Float64A
 /** the group (index list) that contains level `index` */
 export function groupOf(groups: readonly number[][], index: number): number[] {
   const g = groups.find((gr) => gr.includes(index));
-  if (!g) throw new Error(`observables: level ${index} is in no degenerate group`);
+  if (!g) throw new RangeError(`observables: level ${index} is in no degenerate group`);
   return g;
 }
 

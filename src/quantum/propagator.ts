@@ -30,7 +30,7 @@ export type { DrivenHamiltonian } from './scheme.ts';
 /** a scheme name (the registry decides which exist) */
 export type Scheme = string;
 
-/** the production registry: etd4 only */
+/** the production registry: 'etd4' (etd4.ts; Cox & Matthews, J. Comput. Phys. 176, 430, 2002, eq. (26)–(29)) */
 export const CORE_SCHEMES = new SchemeRegistry([etd4Scheme()]);
 
 /** fraction of the per-step error budget given to each Krylov exponential (the rest is time stepping) */
@@ -92,8 +92,8 @@ export interface PropagateOptions {
    * 'global': uniform steps n₀, 2n₀, 4n₀, … until the final states converge: with the perpendicular differences
    * d_k between levels k−1 and k and ρ = d_{k−1}/d_k (≥ 2 required, at least three levels), the error of the finest
    * level is estimated as d_k/(ρ − 1) (geometric tail; Aitken-type, cf. Richardson extrapolation, Hairer, Nørsett
-   * & Wanner 1993, §II.4) and accepted when it is ≤ √tol. Once the observed order p = log₂ρ (≤ 4) is known, the
-   * next level is the predicted count ×1.2 (growth f ∈ [1.25, 2]) and its error is d/(f^p − 1).
+   * & Wanner 1993, §II.4) and accepted when it is ≤ √tol. Once the observed order p = log₂ρ (at most the scheme's
+   * order) is known, the next level is the predicted count ×1.2 (growth f ∈ [1.25, 2]) and its error is d/(f^p − 1).
    * Samples are reported from the accepted level only.
    */
   errorControl?: 'local' | 'global';

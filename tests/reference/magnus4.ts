@@ -41,5 +41,6 @@ function magnus4Step(c: Magnus4Cache, H: DrivenHamiltonian, s: number, h: number
   }
 }
 
+/** 'magnus4': commutator-free Magnus-4 (Blanes & Moan, Appl. Numer. Math. 56, 1519, 2006) */
 export const MAGNUS4: SchemeDefinition = defineScheme('magnus4', 4, 'commutator-free Magnus, two exponentials at the Gauss nodes (Blanes & Moan 2006)',
   (ctx) => new Magnus4Cache(ctx), magnus4Step);

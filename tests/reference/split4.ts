@@ -12,7 +12,7 @@ import { TermsBuffer } from '../../src/quantum/terms-buffer.ts';
 
 /** Suzuki fractal p = 1/(4 − 4^{1/3}); stage fractions p, p, 1 − 4p, p, p */
 const SUZUKI_P = 1 / (4 - Math.cbrt(4));
-const SUZUKI_STAGES: readonly number[] = [SUZUKI_P, SUZUKI_P, 1 - 4 * SUZUKI_P, SUZUKI_P, SUZUKI_P];
+const SUZUKI_STAGES: readonly number[] = Object.freeze([SUZUKI_P, SUZUKI_P, 1 - 4 * SUZUKI_P, SUZUKI_P, SUZUKI_P]);
 
 /** a Hamiltonian that also gives out[0..2] = ∫_{sa}^{sb} (c₁, c₂, c₃) ds */
 export interface KineticIntegrable extends DrivenHamiltonian {
@@ -86,5 +86,6 @@ function split4Step(c: Split4Cache, H: DrivenHamiltonian, s: number, h: number, 
   for (const psi of states) kineticFlow(c, psi);
 }
 
-export const SPLIT4: SchemeDefinition = defineScheme('split4', 4, 'Strang splitting D exact / B by Lanczos, Suzuki five-stage composition (Suzuki 1990)',
+/** 'split4': Suzuki-composed Strang splitting (Suzuki, Phys. Lett. A 146, 319, 1990; Hairer, Lubich & Wanner 2006, §II.4) */
+export const SPLIT4: SchemeDefinition = defineScheme('split4', 4, 'Strang splitting D exact / B by Lanczos, Suzuki five-stage composition (Suzuki 1990; Hairer, Lubich & Wanner 2006, §II.4)',
   (ctx) => new Split4Cache(ctx), split4Step);
