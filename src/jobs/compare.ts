@@ -45,9 +45,10 @@ import { configSchema, parseConfigWith, parseYaml, readConfigText, strictSection
 import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
+import { gridBreaking } from '../flow/breaking.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { verifySequence } from '../quantum/verify.ts';
-import { characteristicsBreaking, scalesText, toJson } from './design.ts';
+import { scalesText, toJson } from './design.ts';
 import { makeContext, type JobContext } from './context.ts';
 
 /** a decade of δ below the config's own, five points evenly spaced in log δ */
@@ -264,7 +265,7 @@ export function runCompare(config: CompareConfig, opts: CompareOptions = {}): Co
   // no spectral truncation) up to CLASSICAL_END_FRACTION of its breaking λ; the pseudo-spectral Hopf run
   // (flow/kdv.ts) is kept as an independent check over the range the grid resolves.
   const brk = hopfBreaking(grid, u0);
-  const brkGrid = characteristicsBreaking(grid, u0);
+  const brkGrid = gridBreaking(grid, u0);
   progress('quantum sequence', 0);
   const quantum = integrateFlow(grid, naturalFlowEquation('quantum', drift), u0, { tolerance: flowCfg.tolerance, frames });
   if (quantum.breaking) warnings.push(`the quantum flow stopped at λ = ${quantum.breaking.lambdaReached}: ${quantum.breaking.reason}`);

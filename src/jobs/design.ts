@@ -10,8 +10,8 @@ import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
+import { gridBreaking } from '../flow/breaking.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
-import { derivative } from '../spectral/ops.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { makeContext, type JobContext } from './context.ts';
@@ -120,14 +120,6 @@ export function boundStates(grid: Grid, u: Float64Array): BoundStates {
   return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
 }
 
-/** 1/max(6 ∂_ξu₀) over ∂_ξu₀ > 0: first crossing of the Hopf characteristics ξ + 6uτ = const (physics.md §4) */
-export function characteristicsBreaking(grid: Grid, u0: Float64Array): number {
-  const ux = derivative(grid, u0, 1);
-  let m = 0;
-  for (const v of ux) m = Math.max(m, 6 * v);
-  return m > 0 ? 1 / m : Infinity;
-}
-
 export interface DesignOptions {
   onProgress?: (lambda: number, lambdaEnd: number) => void;
 }
@@ -171,7 +163,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
   }
   let breakingPredicted: number | null = null;
-  if (flowCfg.dispersion === 'classical') breakingPredicted = characteristicsBreaking(grid, u0);
+  if (flowCfg.dispersion === 'classical') breakingPredicted = gridBreaking(grid, u0);
   if (run.breaking) {
     warnings.push(
       `the ${flowCfg.dispersion} flow stopped at λ = ${run.breaking.lambdaReached.toPrecision(6)} before λ_end = ${flowCfg.lambda_end}: ${run.breaking.reason}; ` +
