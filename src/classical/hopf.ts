@@ -113,6 +113,15 @@ export function profileBreaking(u0: Profile1D, xs: Float64Array): { lambda: numb
   return { lambda: breakingTime(slope), position: buf[1] >= best ? x : xs[j0], slope };
 }
 
+/**
+ * Growth of the curvature of the Hopf sequence at λ before breaking: from the characteristics formulas of the
+ * module doc u_ξξ = u₀″q³ with q = 1/(1 − λ/λ_b) at the steepest point, so the curvature grows by q³.
+ */
+export function hopfCurvatureGrowth(lambda: number, lambdaBreak: number): number {
+  const q = 1 / (1 - lambda / lambdaBreak);
+  return q * q * q;
+}
+
 /** `profileBreaking` of grid samples u₀ (Fourier interpolant). */
 export function hopfBreaking(grid: Grid, u0: Float64Array): { lambda: number; position: number; slope: number } {
   return profileBreaking(new FourierProfile(grid, u0), grid.x);

@@ -49,7 +49,7 @@ export interface VariationalReport {
   };
 }
 
-/** default tolerance on the relative residual and the relative bound-state drift (issue 5) */
+/** default tolerance on the relative residual and the relative bound-state drift */
 export const DEFAULT_TOLERANCE = 1e-3;
 /** frames up to this count all get their spectrum (each a dense diagonalisation, ~0.03–0.2 s); beyond it an
  * even selection plus every frame that fails the residual */
