@@ -51,6 +51,7 @@ import { gridBreaking } from '../flow/breaking.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { driveWithCorrection } from '../quantum/correction.ts';
 import { scalesText, toJson } from './design.ts';
+import { compareFigures, writeFigures, type CompareFileLike } from './report.ts';
 import { makeContext, type JobContext } from './context.ts';
 
 /** a decade of δ below the config's own, five points evenly spaced in log δ */
@@ -510,4 +511,27 @@ export function quantumDrives(config: CompareConfig, result: CompareResult, stat
     drives,
     `both sequences driven with the cubic correction −λ̇(4k³ + 3{u,k}) over λ ∈ [0, ${lc.toPrecision(4)}] in ${units.timeFromNatural(duration).toPrecision(4)} ${units.labels.time} (${config.protocol.ramp} ramp at the protocol's mean speed)`,
   );
+}
+
+/** runCompare followed by quantumDrives: the complete compare.json content */
+export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions = {}): CompareSummary {
+  return quantumDrives(config, runCompare(config, opts));
+}
+
+/**
+ * The parts of the summary the compare figures read. An action drift that could not be measured (null: the orbit
+ * did not close) is drawn as a zero bar.
+ */
+export function compareFigureData(s: CompareSummary): CompareFileLike {
+  const trajectories = s.classical_phase_space.trajectories.map((t) => ({
+    shell_energy: t.shell_energy,
+    classical: { action_drift: t.classical.action_drift ?? 0 },
+    quantum: { action_drift: t.quantum.action_drift ?? 0 },
+  }));
+  return { units: s.units, delta2: s.delta2, breaking_lambda: s.breaking_lambda, distance: s.distance, sequences: s.sequences, scaling: s.scaling, classical_phase_space: { trajectories } };
+}
+
+/** Write the compare figures (jobs/report.ts) into dir; returns the paths written. */
+export function writeCompareFigures(summary: CompareSummary, dir: string, force: boolean): string[] {
+  return writeFigures(compareFigures(compareFigureData(summary)), dir, force);
 }
