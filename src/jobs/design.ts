@@ -120,6 +120,36 @@ export function boundStates(grid: Grid, u: Float64Array): BoundStates {
   return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
 }
 
+/**
+ * Solitons the start will shed (physics.md §4): each bound state E = −κ² of H(0) becomes a soliton of depth 2κ²
+ * moving at speed 4κ² (natural units), here in the config's units.
+ */
+function solitonPredictions(energies: readonly number[], units: JobContext['units']): SolitonPrediction[] {
+  const perLength = units.lengthToNatural(1);
+  return energies.map((e) => {
+    const kappa = Math.sqrt(-e);
+    return {
+      kappa,
+      kappa_user: kappa * perLength,
+      energy: units.energyFromNatural(e),
+      depth: units.energyFromNatural(2 * kappa * kappa),
+      speed: units.lengthFromNatural(4 * kappa * kappa),
+    };
+  });
+}
+
+/** warnings about the grid resolution of the sequence (spectral tails) */
+function resolutionWarnings(run: FlowRun): string[] {
+  const warnings: string[] = [];
+  if (run.tail > TAIL_WARNING && !run.breaking) {
+    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points for a finer sequence`);
+  }
+  if (run.discardedTail > TAIL_WARNING) {
+    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
+  }
+  return warnings;
+}
+
 export interface DesignOptions {
   onProgress?: (lambda: number, lambdaEnd: number) => void;
 }
@@ -135,16 +165,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
 
   const bound = boundStates(grid, u0);
   const perLength = units.lengthToNatural(1);
-  const predicted = bound.energies.map((e) => {
-    const kappa = Math.sqrt(-e);
-    return {
-      kappa,
-      kappa_user: kappa * perLength,
-      energy: units.energyFromNatural(e),
-      depth: units.energyFromNatural(2 * kappa * kappa),
-      speed: units.lengthFromNatural(4 * kappa * kappa),
-    };
-  });
+  const predicted = solitonPredictions(bound.energies, units);
   const last = run.frames[run.frames.length - 1];
   const wellsFound = findWells(grid, last).map((w) => ({
     position: units.lengthFromNatural(w.position),
@@ -156,12 +177,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const invariantsLast = invariants(grid, eq, last);
   const drift = invariantDrift(invariantsFirst, invariantsLast);
 
-  if (run.tail > TAIL_WARNING && !run.breaking) {
-    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points for a finer sequence`);
-  }
-  if (run.discardedTail > TAIL_WARNING) {
-    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
-  }
+  warnings.push(...resolutionWarnings(run));
   let breakingPredicted: number | null = null;
   if (flowCfg.dispersion === 'classical') breakingPredicted = gridBreaking(grid, u0);
   if (run.breaking) {
