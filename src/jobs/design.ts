@@ -14,6 +14,7 @@ import { gridBreaking } from '../flow/breaking.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
+import { PLANCK_H } from '../units/constants.ts';
 import { makeContext, type JobContext } from './context.ts';
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
@@ -230,7 +231,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
 export function scalesText(ctx: JobContext): { E0: string; t0: string; ell: string } {
   const u = ctx.units;
   if (u.system === 'natural') return { E0: 'E₀ = ħ²/(2mℓ²) (natural units)', t0: 't₀ = ħ/E₀', ell: 'ℓ' };
-  const hz = u.E0 / 6.62607015e-34; // E₀/h in Hz (CODATA 2018 exact h)
+  const hz = u.E0 / PLANCK_H; // E₀/h in Hz
   return { E0: `E₀ = h × ${hz.toPrecision(5)} Hz`, t0: `t₀ = ${(u.t0 * 1e3).toPrecision(5)} ms`, ell: `ℓ = ${(u.ell * 1e6).toPrecision(5)} µm` };
 }
 
