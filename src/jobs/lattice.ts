@@ -168,10 +168,15 @@ export interface LatticeParameters {
   warnings: string[];
 }
 
+/** the lattice section; UserError when the config has none */
+function latticeSection(config: LatticeConfig): LatticeSection {
+  if (!config.lattice) throw new UserError(`${config.meta.source}: the config has no lattice section: add lattice: {spacing_um | wavelength_nm, tunnelling_hz | depth_recoil, …}`);
+  return config.lattice;
+}
+
 /** d, J and m* from the lattice section (see the module doc) */
 export function latticeParameters(config: LatticeConfig): LatticeParameters {
-  const l = config.lattice;
-  if (!l) throw new UserError(`${config.meta.source}: the config has no lattice section: add lattice: {spacing_um | wavelength_nm, tunnelling_hz | depth_recoil, …}`);
+  const l = latticeSection(config);
   const warnings: string[] = [];
   const units = config.units;
   if (units.system === 'natural') {
@@ -437,7 +442,7 @@ interface LatticeSetup {
 
 function latticeSetup(config: LatticeConfig, progress: (p: LatticeProgress) => void): LatticeSetup {
   const params = latticeParameters(config);
-  const section = config.lattice as LatticeSection;
+  const section = latticeSection(config);
   if (!config.protocol) throw new UserError(`${config.meta.source}: protocol is missing: the lattice verification needs protocol.duration (and ramp)`);
   const design = runDesign(effectiveMassConfig(config, params), { onProgress: (x, end) => progress({ stage: 'design', fraction: x / end }) });
   if (design.run.breaking) throw new UserError(`the designed flow broke at λ = ${design.run.breaking.lambdaReached}: a broken sequence cannot be put on a lattice (${design.run.breaking.reason})`);
