@@ -17,7 +17,7 @@ import { chainSites, LatticeSequence, TrigSampler } from '../src/lattice/sequenc
 import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
-import { verifyOnLattice } from '../src/jobs/lattice.ts';
+import { verifyOnLattice } from '../src/lattice/verify.ts';
 
 const sech = (z: number) => 1 / Math.cosh(z);
 

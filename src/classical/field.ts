@@ -105,37 +105,9 @@ export class FourierProfile implements Profile1D {
 /** recompute e^{imθ} directly every this many modes (bounds the recurrence's error growth; common practice) */
 export const RECUR_ANCHOR = 64;
 
-/** The sequence u(·, λ) of a flow run (dense output), as a SequenceField. */
-export function spectralSequence(grid: Grid, dense: DenseFlow): SequenceField {
-  const profile = new FourierProfile(grid);
-  const buf = new Float64Array(grid.n);
-  let current = NaN;
-  const field: SequenceField = {
-    get lambda() {
-      return current;
-    },
-    get min() {
-      return profile.min;
-    },
-    get max() {
-      return profile.max;
-    },
-    select(lambda: number) {
-      if (lambda === current) return;
-      dense.at(lambda, buf);
-      profile.set(buf);
-      current = lambda;
-    },
-    evaluate(x: number, out: Float64Array) {
-      profile.evaluate(x, out);
-    },
-  };
-  return field;
-}
-
-/** A static profile as a (λ-independent) SequenceField. */
-export function staticSequence(profile: Profile1D): SequenceField {
-  let current = 0;
+/** a SequenceField that evaluates `profile`; selecting a new λ first calls `load` (which may update the profile) */
+function profileField(profile: Profile1D, start: number, load?: (lambda: number) => void): SequenceField {
+  let current = start;
   return {
     get lambda() {
       return current;
@@ -147,12 +119,29 @@ export function staticSequence(profile: Profile1D): SequenceField {
       return profile.max;
     },
     select(lambda: number) {
+      if (lambda === current) return;
+      load?.(lambda);
       current = lambda;
     },
     evaluate(x: number, out: Float64Array) {
       profile.evaluate(x, out);
     },
   };
+}
+
+/** The sequence u(·, λ) of a flow run (dense output), as a SequenceField. */
+export function spectralSequence(grid: Grid, dense: DenseFlow): SequenceField {
+  const profile = new FourierProfile(grid);
+  const buf = new Float64Array(grid.n);
+  return profileField(profile, NaN, (lambda) => {
+    dense.at(lambda, buf);
+    profile.set(buf);
+  });
+}
+
+/** A static profile as a (λ-independent) SequenceField. */
+export function staticSequence(profile: Profile1D): SequenceField {
+  return profileField(profile, 0);
 }
 
 /** Analytic profile from a function returning f, f′, f″, f‴ (tests, closed forms). */

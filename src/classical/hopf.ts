@@ -14,6 +14,7 @@
 import type { Profile1D, SequenceField } from './field.ts';
 import { FourierProfile } from './field.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { breakingTime } from '../flow/breaking.ts';
 
 /** Newton stops when its step is below this (relative to 1 + |ζ|): round-off level */
 export const FOOT_TOLERANCE = 1e-15;
@@ -81,7 +82,7 @@ export function hopfCharacteristics(u0: Profile1D, xs: Float64Array, tau: number
 }
 
 /**
- * First breaking λ of the Hopf flow, τ_b = 1/max(6u₀′) over u₀′ > 0 (physics.md §4), for a profile sampled at
+ * First breaking λ of the Hopf flow, τ_b = 1/max(6u₀′) over u₀′ > 0 (flow/breaking.ts), for a profile sampled at
  * ascending xs: the largest sampled slope refined between the samples by Newton's method on u₀″ = 0. Returns the
  * steepest point and slope too; Infinity when u₀′ ≤ 0 at every sample.
  */
@@ -109,7 +110,16 @@ export function profileBreaking(u0: Profile1D, xs: Float64Array): { lambda: numb
   }
   u0.evaluate(x, buf);
   const slope = Math.max(buf[1], best);
-  return { lambda: 1 / (6 * slope), position: buf[1] >= best ? x : xs[j0], slope };
+  return { lambda: breakingTime(slope), position: buf[1] >= best ? x : xs[j0], slope };
+}
+
+/**
+ * Growth of the curvature of the Hopf sequence at λ before breaking: from the characteristics formulas of the
+ * module doc u_ξξ = u₀″q³ with q = 1/(1 − λ/λ_b) at the steepest point, so the curvature grows by q³.
+ */
+export function hopfCurvatureGrowth(lambda: number, lambdaBreak: number): number {
+  const q = 1 / (1 - lambda / lambdaBreak);
+  return q * q * q;
 }
 
 /** `profileBreaking` of grid samples u₀ (Fourier interpolant). */

@@ -20,7 +20,7 @@ import { phaseSpaceCheck, shellStarts, suggestSteps, wellShape } from './cd.ts';
 import { FourierProfile, spectralSequence } from './field.ts';
 import { hopfBreaking } from './hopf.ts';
 
-/** the 1 % criterion of the issue: relative max distance 0.01 */
+/** the 1 % criterion: relative max distance 0.01 (common practice) */
 export const DISTANCE_THRESHOLD = 0.01;
 /** bisection steps on the dense output for a threshold crossing (2⁻⁴⁰ of a sampling interval) */
 export const CROSSING_BISECTIONS = 40;

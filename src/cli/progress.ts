@@ -47,3 +47,20 @@ export function makeProgress(label: string, quiet: boolean): Progress {
     },
   };
 }
+
+/** one progress display per stage of a multi-stage job: a new one starts when the stage changes */
+export function makeStagedProgress(quiet: boolean): { update(stage: string, fraction: number): void; stop(): void } {
+  let current: { stage: string; progress: Progress } | null = null;
+  return {
+    update(stage, fraction) {
+      if (current?.stage !== stage) {
+        current?.progress.stop();
+        current = { stage, progress: makeProgress(stage, quiet) };
+      }
+      current.progress.update(fraction);
+    },
+    stop() {
+      current?.progress.stop();
+    },
+  };
+}

@@ -49,7 +49,7 @@ export interface VariationalReport {
   };
 }
 
-/** default tolerance on the relative residual and the relative bound-state drift (issue 5) */
+/** default tolerance on the relative residual and the relative bound-state drift */
 export const DEFAULT_TOLERANCE = 1e-3;
 /** frames up to this count all get their spectrum (each a dense diagonalisation, ~0.03–0.2 s); beyond it an
  * even selection plus every frame that fails the residual */
@@ -148,116 +148,110 @@ function median(v: number[]): number {
 
 const fmt = (v: number) => v.toExponential(2);
 
-/** Run the whole check (no files written; see writeCheckOutputs). Bad input throws a UserError. */
-export function runCheck(opts: CheckOptions): CheckResult {
-  const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
-  if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
-  const mode = opts.repair ?? 'median';
-  if (mode !== 'median' && mode !== 'piecewise') throw new UserError(`repair = ${JSON.stringify(mode)} is not allowed: must be "median" or "piecewise"`);
-  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
-  const { grid, frames, lambda, system } = seq;
-  const warnings = [...seq.warnings];
-  const fits = fitFrames(grid, lambda, frames);
+/** frames whose bound-state spectrum is computed: all, or an even selection plus every frame failing the residual */
+function spectrumFrames(fits: FrameFit[], count: number, tolerance: number, warnings: string[]): number[] {
+  if (count <= SPECTRUM_FRAMES_ALL) return Array.from({ length: count }, (_, i) => i);
+  const set = new Set<number>();
+  for (let i = 0; i < SPECTRUM_FRAMES_ALL; i++) set.add(Math.round((i * (count - 1)) / (SPECTRUM_FRAMES_ALL - 1)));
+  for (const f of fits) if (f.residual > tolerance) set.add(f.index);
+  const indices = [...set].sort((a, b) => a - b);
+  warnings.push(`${count} frames: bound-state spectra computed for ${indices.length} of them (an even selection plus every frame failing the residual)`);
+  return indices;
+}
 
-  const count = frames.length;
-  let indices: number[];
-  if (count <= SPECTRUM_FRAMES_ALL) indices = frames.map((_, i) => i);
-  else {
-    const set = new Set<number>();
-    for (let i = 0; i < SPECTRUM_FRAMES_ALL; i++) set.add(Math.round((i * (count - 1)) / (SPECTRUM_FRAMES_ALL - 1)));
-    for (const f of fits) if (f.residual > tolerance) set.add(f.index);
-    indices = [...set].sort((a, b) => a - b);
-    warnings.push(`${count} frames: bound-state spectra computed for ${indices.length} of them (an even selection plus every frame failing the residual)`);
-  }
-  const spectrum = spectrumCheck(grid, frames, indices);
-  const depth = spectrum.levels > 0 ? Math.abs(spectrum.reference[0]) : 0;
-  if (spectrum.levels === 0) warnings.push(`no bound state below the box threshold ${fmt(spectrum.threshold)} E₀ in some frame: isospectrality not tested`);
-
-  const lab = system.system === 'lab';
+/** conversions of the fitted coefficients to the sequence's units: a = âℓ³ (lab, µm³/ħ²) and a·ħ²/ℓ³ in SI */
+function coefficientUnits(seq: Sequence): { aUser: (aHat: number) => number; aSi: (aHat: number) => number | null } {
+  const lab = seq.system.system === 'lab';
   const ellUm = seq.units.length_unit_um ?? 1;
-  const aUser = (aHat: number) => (lab ? aHat * ellUm ** 3 : aHat);
-  const aSi = (aHat: number) => (lab ? (aHat * system.ell ** 3) / (HBAR * HBAR) : null);
-  const E = system.labels.energy;
-  const Lb = system.labels.length;
+  return {
+    aUser: (aHat) => (lab ? aHat * ellUm ** 3 : aHat),
+    aSi: (aHat) => (lab ? (aHat * seq.system.ell ** 3) / (HBAR * HBAR) : null),
+  };
+}
 
-  const specOf = new Map<number, number>();
-  indices.forEach((frame, i) => specOf.set(frame, i));
-  const failures: string[] = [];
-  const frameReports: FrameReport[] = fits.map((f) => {
-    const reasons: string[] = [];
-    if (f.residual > tolerance) {
-      let why = `residual ${fmt(f.residual)} > ${tolerance}: ∂_λV is not of the form (★) for any a, c`;
-      if (f.lambdaResolution > tolerance) why += ` (the 3- and ${STENCIL_WIDTH}-point λ-derivatives differ by ${fmt(f.lambdaResolution)}: the frames are too far apart in λ, or the sequence is not smooth in λ here)`;
-      reasons.push(why);
-    }
-    if (f.degenerate) warnings.push(`frame ${f.index}: the cubic and drift terms of (★) are parallel here (as for a single soliton): fitted as a pure translation, a = 0`);
-    const si = specOf.get(f.index);
-    let drift: number | null = null, rel: number | null = null, nb: number | null = null;
-    if (si !== undefined) {
-      nb = spectrum.energies[si].length;
-      if (spectrum.levels > 0) {
-        drift = system.energyFromNatural(spectrum.deviation[si]);
-        rel = spectrum.deviation[si] / depth;
-        if (rel > tolerance) {
-          reasons.push(`not isospectral: bound-state energies off the sequence median by ${fmt(Math.abs(drift))} ${E} (relative ${fmt(rel)} > ${tolerance})`);
-        }
-      }
-      if (spectrum.countChanged[si]) reasons.push(`not isospectral: ${nb} bound states, while most frames have ${spectrum.levels === nb ? 'more' : 'a different number'}`);
-    }
-    const admissible = reasons.length === 0;
-    if (!admissible) failures.push(`frame ${f.index} (λ = ${f.lambda}): ${reasons.join('; ')}`);
-    return {
-      index: f.index,
-      lambda: f.lambda,
-      residual: f.residual,
-      a: aUser(f.aHat),
-      a_si: aSi(f.aHat),
-      c: system.lengthFromNatural(f.cHat),
-      a_hat: f.aHat,
-      c_hat: f.cHat,
-      admissible,
-      spectral_drift: drift,
-      spectral_drift_relative: rel,
-      bound_states: nb,
-      stencil: f.stencil,
-      lambda_resolution: f.lambdaResolution,
-      degenerate: f.degenerate,
-      static: f.static,
-      reasons,
-    };
-  });
-  const isospectral = spectrum.levels > 0 ? frameReports.every((r) => !r.reasons.some((s) => s.startsWith('not isospectral'))) : null;
-  if (isospectral === false) {
-    failures.push(`the sequence is not isospectral: the bound-state energies spread by ${fmt(system.energyFromNatural(spectrum.spread))} ${E} (relative ${fmt(spectrum.spread / depth)}) along it, so no exact cubic counterdiabatic term exists`);
+/** what the per-frame reports need besides the fit of the frame */
+interface FrameContext {
+  seq: Sequence;
+  spectrum: SpectrumCheck;
+  /** spectrum row of each frame that has one */
+  specOf: Map<number, number>;
+  /** |E₀| of the deepest reference level (E₀), the scale of the relative drift */
+  depth: number;
+  tolerance: number;
+  warnings: string[];
+}
+
+/** the report of one frame: residual and isospectrality verdicts, coefficients in the sequence's units */
+function frameReport(f: FrameFit, c: FrameContext): FrameReport {
+  const { seq, spectrum, tolerance } = c;
+  const { system } = seq;
+  const { aUser, aSi } = coefficientUnits(seq);
+  const reasons: string[] = [];
+  if (f.residual > tolerance) {
+    let why = `residual ${fmt(f.residual)} > ${tolerance}: ∂_λV is not of the form (★) for any a, c`;
+    if (f.lambdaResolution > tolerance) why += ` (the 3- and ${STENCIL_WIDTH}-point λ-derivatives differ by ${fmt(f.lambdaResolution)}: the frames are too far apart in λ, or the sequence is not smooth in λ here)`;
+    reasons.push(why);
   }
-  const admissible = frameReports.every((r) => r.admissible);
+  if (f.degenerate) c.warnings.push(`frame ${f.index}: the cubic and drift terms of (★) are parallel here (as for a single soliton): fitted as a pure translation, a = 0`);
+  const si = c.specOf.get(f.index);
+  let drift: number | null = null, rel: number | null = null, nb: number | null = null;
+  if (si !== undefined) {
+    nb = spectrum.energies[si].length;
+    if (spectrum.levels > 0) {
+      drift = system.energyFromNatural(spectrum.deviation[si]);
+      rel = spectrum.deviation[si] / c.depth;
+      if (rel > tolerance) {
+        reasons.push(`not isospectral: bound-state energies off the sequence median by ${fmt(Math.abs(drift))} ${system.labels.energy} (relative ${fmt(rel)} > ${tolerance})`);
+      }
+    }
+    if (spectrum.countChanged[si]) reasons.push(`not isospectral: ${nb} bound states, while most frames have ${spectrum.levels === nb ? 'more' : 'a different number'}`);
+  }
+  return {
+    index: f.index,
+    lambda: f.lambda,
+    residual: f.residual,
+    a: aUser(f.aHat),
+    a_si: aSi(f.aHat),
+    c: system.lengthFromNatural(f.cHat),
+    a_hat: f.aHat,
+    c_hat: f.cHat,
+    admissible: reasons.length === 0,
+    spectral_drift: drift,
+    spectral_drift_relative: rel,
+    bound_states: nb,
+    stencil: f.stencil,
+    lambda_resolution: f.lambdaResolution,
+    degenerate: f.degenerate,
+    static: f.static,
+    reasons,
+  };
+}
 
-  const repair = repairSequence(grid, lambda, frames, fits, mode);
+/** the unit labels of check.json */
+function reportUnits(seq: Sequence): CheckReport['units'] {
+  const lab = seq.system.system === 'lab';
+  const Lb = seq.system.labels.length;
+  return {
+    length: Lb,
+    energy: seq.system.labels.energy,
+    lambda: 'dimensionless (KdV time in the natural units of ℓ)',
+    a: lab ? 'µm³/ħ² (a·ħ²/µm³)' : 'ℓ³/ħ² (â = aħ²/ℓ³)',
+    a_si: lab ? 's²/(kg²·m)' : null,
+    c: `${Lb} per unit λ`,
+    species: seq.units.species,
+    mass_u: seq.units.mass_u,
+    length_unit_um: seq.units.length_unit_um,
+  };
+}
+
+/** the fit, spectrum, repaired and grid sections of check.json */
+function reportSections(seq: Sequence, fits: FrameFit[], spectrum: SpectrumCheck, repair: Repair): Pick<CheckReport, 'fit' | 'spectrum' | 'repaired' | 'grid'> {
+  const { system, lambda, grid } = seq;
+  const { aUser } = coefficientUnits(seq);
   const good = fits.filter((f) => !f.static && !f.degenerate);
   const aMed = median(good.map((f) => f.aHat));
   const cMed = median((good.length ? good : fits.filter((f) => !f.static)).map((f) => f.cHat));
-  const report: CheckReport = {
-    format: 'isotrap-check/1',
-    input: seq.file,
-    sidecar: seq.sidecar,
-    admissible,
-    tolerance,
-    frames: frameReports,
-    spectral_drift: system.energyFromNatural(spectrum.spread),
-    spectral_drift_relative: depth > 0 ? spectrum.spread / depth : 0,
-    isospectral,
-    failures,
-    units: {
-      length: Lb,
-      energy: E,
-      lambda: 'dimensionless (KdV time in the natural units of ℓ)',
-      a: lab ? 'µm³/ħ² (a·ħ²/µm³)' : 'ℓ³/ħ² (â = aħ²/ℓ³)',
-      a_si: lab ? 's²/(kg²·m)' : null,
-      c: `${Lb} per unit λ`,
-      species: seq.units.species,
-      mass_u: seq.units.mass_u,
-      length_unit_um: seq.units.length_unit_um,
-    },
+  return {
     fit: {
       a_median: aUser(aMed),
       c_median: system.lengthFromNatural(cMed),
@@ -275,7 +269,7 @@ export function runCheck(opts: CheckOptions): CheckResult {
       levels: spectrum.levels,
     },
     repaired: {
-      mode,
+      mode: repair.mode,
       a: repair.aHat.map(aUser),
       c: repair.cHat.map((c) => system.lengthFromNatural(c)),
       max_distance: system.energyFromNatural(repair.maxDistance),
@@ -286,10 +280,12 @@ export function runCheck(opts: CheckOptions): CheckResult {
       files: [],
     },
     grid: { points: grid.n, length: system.lengthFromNatural(grid.length), dx: system.lengthFromNatural(grid.dx), x0: seq.xUser[0] },
-    warnings,
   };
-  if (!opts.variational) return { sequence: seq, fits, spectrum, repair, report, admissible };
-  const vo = opts.variational;
+}
+
+/** the variational correction and the side-by-side drives (check/variational.ts, check/drive.ts) */
+function variationalStep(seq: Sequence, fits: FrameFit[], vo: VariationalCheckOptions): { fit: VariationalFit; comparison: ComparisonResult; report: VariationalReport } {
+  const { grid, lambda, frames, system } = seq;
   if (!(Number.isFinite(vo.duration) && vo.duration > 0)) throw new UserError(`variational.duration = ${vo.duration} is not allowed: must be a finite number > 0 (${system.labels.time})`);
   const temp = vo.temperature !== undefined ? system.temperatureToNatural(vo.temperature) : undefined;
   const vfit = variationalFit(grid, lambda, frames, { states: vo.states, temperature: temp, legendre: vo.legendre });
@@ -301,7 +297,7 @@ export function runCheck(opts: CheckOptions): CheckResult {
       { label: 'none', schedule: null },
     ],
   });
-  report.variational = {
+  const report: VariationalReport = {
     method: 'variational gauge potential: min Σ_m w_m Σ_{n∉deg m} |(∂_λH + i[A,H])_nm|² over A = a k³ + ½{g, k}, g over [u, 1, P_c(2ξ/L)] (natural units ℓ, E₀)',
     basis: vfit.basis,
     states: vfit.states,
@@ -318,7 +314,57 @@ export function runCheck(opts: CheckOptions): CheckResult {
       })),
     },
   };
-  return { sequence: seq, fits, spectrum, repair, report, admissible, variational: { fit: vfit, comparison } };
+  return { fit: vfit, comparison, report };
+}
+
+/**
+ * Run the whole check (no files written; see writeCheckOutputs): read → fit per frame → spectra → verdicts →
+ * repair → optional variational step. Bad input throws a UserError.
+ */
+export function runCheck(opts: CheckOptions): CheckResult {
+  const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
+  if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
+  const mode = opts.repair ?? 'median';
+  if (mode !== 'median' && mode !== 'piecewise') throw new UserError(`repair = ${JSON.stringify(mode)} is not allowed: must be "median" or "piecewise"`);
+  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
+  const { grid, frames, lambda, system } = seq;
+  const warnings = [...seq.warnings];
+  const fits = fitFrames(grid, lambda, frames);
+  const indices = spectrumFrames(fits, frames.length, tolerance, warnings);
+  const spectrum = spectrumCheck(grid, frames, indices);
+  const depth = spectrum.levels > 0 ? Math.abs(spectrum.reference[0]) : 0;
+  if (spectrum.levels === 0) warnings.push(`no bound state below the box threshold ${fmt(spectrum.threshold)} E₀ in some frame: isospectrality not tested`);
+
+  const specOf = new Map<number, number>();
+  indices.forEach((frame, i) => specOf.set(frame, i));
+  const context: FrameContext = { seq, spectrum, specOf, depth, tolerance, warnings };
+  const frameReports = fits.map((f) => frameReport(f, context));
+  const failures = frameReports.filter((r) => !r.admissible).map((r) => `frame ${r.index} (λ = ${r.lambda}): ${r.reasons.join('; ')}`);
+  const isospectral = spectrum.levels > 0 ? frameReports.every((r) => !r.reasons.some((s) => s.startsWith('not isospectral'))) : null;
+  if (isospectral === false) {
+    failures.push(`the sequence is not isospectral: the bound-state energies spread by ${fmt(system.energyFromNatural(spectrum.spread))} ${system.labels.energy} (relative ${fmt(spectrum.spread / depth)}) along it, so no exact cubic counterdiabatic term exists`);
+  }
+  const admissible = frameReports.every((r) => r.admissible);
+  const repair = repairSequence(grid, lambda, frames, fits, mode);
+  const report: CheckReport = {
+    format: 'isotrap-check/1',
+    input: seq.file,
+    sidecar: seq.sidecar,
+    admissible,
+    tolerance,
+    frames: frameReports,
+    spectral_drift: system.energyFromNatural(spectrum.spread),
+    spectral_drift_relative: depth > 0 ? spectrum.spread / depth : 0,
+    isospectral,
+    failures,
+    units: reportUnits(seq),
+    ...reportSections(seq, fits, spectrum, repair),
+    warnings,
+  };
+  if (!opts.variational) return { sequence: seq, fits, spectrum, repair, report, admissible };
+  const v = variationalStep(seq, fits, opts.variational);
+  report.variational = v.report;
+  return { sequence: seq, fits, spectrum, repair, report, admissible, variational: { fit: v.fit, comparison: v.comparison } };
 }
 
 /** CLI exit code of a finished check: 0 admissible, 1 not (bad input never gets here: UserError → 2) */

@@ -10,10 +10,11 @@ import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
+import { gridBreaking } from '../flow/breaking.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
-import { derivative } from '../spectral/ops.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
+import { PLANCK_H } from '../units/constants.ts';
 import { makeContext, type JobContext } from './context.ts';
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
@@ -120,12 +121,34 @@ export function boundStates(grid: Grid, u: Float64Array): BoundStates {
   return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
 }
 
-/** 1/max(6 ∂_ξu₀) over ∂_ξu₀ > 0: first crossing of the Hopf characteristics ξ + 6uτ = const (physics.md §4) */
-export function characteristicsBreaking(grid: Grid, u0: Float64Array): number {
-  const ux = derivative(grid, u0, 1);
-  let m = 0;
-  for (const v of ux) m = Math.max(m, 6 * v);
-  return m > 0 ? 1 / m : Infinity;
+/**
+ * Solitons the start will shed (physics.md §4): each bound state E = −κ² of H(0) becomes a soliton of depth 2κ²
+ * moving at speed 4κ² (natural units), here in the config's units.
+ */
+function solitonPredictions(energies: readonly number[], units: JobContext['units']): SolitonPrediction[] {
+  const perLength = units.lengthToNatural(1);
+  return energies.map((e) => {
+    const kappa = Math.sqrt(-e);
+    return {
+      kappa,
+      kappa_user: kappa * perLength,
+      energy: units.energyFromNatural(e),
+      depth: units.energyFromNatural(2 * kappa * kappa),
+      speed: units.lengthFromNatural(4 * kappa * kappa),
+    };
+  });
+}
+
+/** warnings about the grid resolution of the sequence (spectral tails) */
+function resolutionWarnings(run: FlowRun): string[] {
+  const warnings: string[] = [];
+  if (run.tail > TAIL_WARNING && !run.breaking) {
+    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points for a finer sequence`);
+  }
+  if (run.discardedTail > TAIL_WARNING) {
+    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
+  }
+  return warnings;
 }
 
 export interface DesignOptions {
@@ -143,16 +166,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
 
   const bound = boundStates(grid, u0);
   const perLength = units.lengthToNatural(1);
-  const predicted = bound.energies.map((e) => {
-    const kappa = Math.sqrt(-e);
-    return {
-      kappa,
-      kappa_user: kappa * perLength,
-      energy: units.energyFromNatural(e),
-      depth: units.energyFromNatural(2 * kappa * kappa),
-      speed: units.lengthFromNatural(4 * kappa * kappa),
-    };
-  });
+  const predicted = solitonPredictions(bound.energies, units);
   const last = run.frames[run.frames.length - 1];
   const wellsFound = findWells(grid, last).map((w) => ({
     position: units.lengthFromNatural(w.position),
@@ -164,14 +178,9 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const invariantsLast = invariants(grid, eq, last);
   const drift = invariantDrift(invariantsFirst, invariantsLast);
 
-  if (run.tail > TAIL_WARNING && !run.breaking) {
-    warnings.push(`the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points for a finer sequence`);
-  }
-  if (run.discardedTail > TAIL_WARNING) {
-    warnings.push(`the initial potential holds ${run.discardedTail.toExponential(2)} of its spectrum beyond the dealiased band (> ${TAIL_WARNING}), which was dropped: it is too sharp for this grid; raise grid.points or smooth it`);
-  }
+  warnings.push(...resolutionWarnings(run));
   let breakingPredicted: number | null = null;
-  if (flowCfg.dispersion === 'classical') breakingPredicted = characteristicsBreaking(grid, u0);
+  if (flowCfg.dispersion === 'classical') breakingPredicted = gridBreaking(grid, u0);
   if (run.breaking) {
     warnings.push(
       `the ${flowCfg.dispersion} flow stopped at λ = ${run.breaking.lambdaReached.toPrecision(6)} before λ_end = ${flowCfg.lambda_end}: ${run.breaking.reason}; ` +
@@ -222,7 +231,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
 export function scalesText(ctx: JobContext): { E0: string; t0: string; ell: string } {
   const u = ctx.units;
   if (u.system === 'natural') return { E0: 'E₀ = ħ²/(2mℓ²) (natural units)', t0: 't₀ = ħ/E₀', ell: 'ℓ' };
-  const hz = u.E0 / 6.62607015e-34; // E₀/h in Hz (CODATA 2018 exact h)
+  const hz = u.E0 / PLANCK_H; // E₀/h in Hz
   return { E0: `E₀ = h × ${hz.toPrecision(5)} Hz`, t0: `t₀ = ${(u.t0 * 1e3).toPrecision(5)} ms`, ell: `ℓ = ${(u.ell * 1e6).toPrecision(5)} µm` };
 }
 

@@ -1,5 +1,5 @@
 /**
- * `lattice`: a designed KdV sequence realised on an optical lattice, and verified there (issue 7; physics.md §6).
+ * `lattice`: a designed KdV sequence realised on an optical lattice, and verified there (physics.md §6).
  *
  * 1. Lattice parameters: spacing d (spacing_um, or wavelength_nm with d = λ/2) and tunnelling J (tunnelling_hz,
  *    or depth_recoil s = V₀/E_R with E_R = ħ²k_L²/2m, k_L = π/d; then J from Zwerger's deep-lattice estimate, an
@@ -7,12 +7,11 @@
  *    −2J cos kd gives the effective mass m* = ħ²/(2Jd²).
  * 2. Design on m*: the config's trap is designed (jobs/design.ts) in the natural units of m* and ℓ,
  *    E₀ = ħ²/(2m*ℓ²), so that the lattice spacing is h = d/ℓ and J = E₀/h² in those units.
- * 3. Control tables: at `samples` times the on-site energies ε_j = V(x_j, λ) + 2J (band bottom of the uniform
- *    lattice at V), the nearest-neighbour elements −J + i b_j and the next-nearest i q (lattice/operators.ts),
- *    as amplitude and phase per bond.
- * 4. Verification: the tight-binding Schrödinger equation for the CD and bare drives (lattice/propagate.ts),
+ * 3. Control tables: at `samples` times the on-site energies, nearest- and next-nearest-neighbour couplings as
+ *    amplitude and phase per bond (lattice/tables.ts).
+ * 4. Verification: the tight-binding Schrödinger equation for the CD and bare drives (lattice/verify.ts),
  *    fidelities of the lowest states, and a study of the infidelity against sites per soliton width at the same
- *    m* (J scaled as 1/d²), with the coarsest lattice that meets the target. The continuum reference is exact for
+ *    m* (lattice/study.ts), with the coarsest lattice that meets the target. The continuum reference is exact for
  *    CD (physics.md §1); a caller can pass `opts.continuum` (e.g. src/quantum's verifySequence on the job's own
  *    m* design) to get lattice-minus-continuum differences for both drives.
  *
@@ -32,9 +31,7 @@
  *     tolerance: 1e-4            # local error per unit time of the lattice propagation (amplitude; the
  *                                #   fidelities move by ~1e-9 against 1e-5)
  *
- * Cost: the cubic CD term has a spectral radius ≈ 10.4 λ′/d³ (natural units), so the Krylov work of one
- * propagation grows like sites × λ_end/d³ (independent of the duration); `predictedWork` budgets it and lattices
- * above MAX_SITE_PRODUCTS are skipped (study) or refused (the configured lattice).
+ * The cost model that limits the lattices is in lattice/cost.ts.
  */
 import { dirname, join, resolve } from 'node:path';
 import { z } from 'zod';
@@ -43,13 +40,15 @@ import { writeCsv } from '../io/csv.ts';
 import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { lowestBand, MAX_DEPTH_RECOIL, tunnellingEstimate } from '../lattice/bands.ts';
-import { tridiagonalLowest } from '../linalg/tridiagonal-lowest.ts';
-import { applyTerms, cdTerms, emptyTerms, nearestCoupling, nextNearestCoupling, type LatticeTerms } from '../lattice/operators.ts';
-import { complexOf, LatticePropagator, overlap2 } from '../lattice/propagate.ts';
+import { MAX_DEPTH_RECOIL } from '../lattice/bands.ts';
+import { MAX_SITE_PRODUCTS, predictedWork, siteCountProblem } from '../lattice/cost.ts';
+import { depthTunnelling, dispersionForMass, effectiveMassU, naturalTunnelling, type DepthTunnelling } from '../lattice/params.ts';
 import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
+import { latticeStudy, observedOrder, recommendLattice, solitonWidth } from '../lattice/study.ts';
+import { controlTables } from '../lattice/tables.ts';
+import { lowestLatticeStates, verifyOnLattice, type LatticeRun } from '../lattice/verify.ts';
 import { makeRamp, type Ramp } from '../protocol/ramp.ts';
-import { ATOMIC_MASS_CONSTANT, HBAR, PLANCK_H } from '../units/constants.ts';
+import { ATOMIC_MASS_CONSTANT, PLANCK_H } from '../units/constants.ts';
 import { compareConfigSchema } from './compare.ts';
 import { runDesign, toJson, type DesignResult } from './design.ts';
 import { boxThreshold } from '../quantum/bound.ts';
@@ -59,31 +58,9 @@ export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
 export const DEFAULT_TARGET_INFIDELITY = 1e-4;
 /** at most this many propagated states by default (each costs one propagation per drive and lattice) */
 export const DEFAULT_MAX_STATES = 6;
-/** lattices larger than this are refused (memory and run time grow as sites × (sites/width)³) */
-export const MAX_SITES = 20000;
-/** lattice propagations predicted to cost more than this many site·products are skipped (≈ 2·10⁷ per second on
- * one core, measured: about a minute and a quarter) */
-export const MAX_SITE_PRODUCTS = 1.5e9;
-/** products per unit of ∫‖H‖ds per state and drive, plus a fixed overhead (measured: 5–14 per unit on the wide
- * two-soliton split at 3–6 sites per width, ≈ 13 on the ⁸⁷Rb split at 3 sites per width; rounded up) */
-const WORK_PER_NORM = 15;
-const WORK_OFFSET = 1000;
-/** largest |symbol| of the lattice k³, (2 sin x − sin 2x) at x = 2π/3, times 4: 4 · 3√3/2 */
-const CUBIC_SYMBOL_MAX = 6 * Math.sqrt(3);
-
-/**
- * Predicted Lanczos products × sites of one lattice verification (states × {CD, bare}): the Krylov cost of
- * exp(−iHΔ) grows with ‖H‖Δ, and ∫‖H‖ds ≈ (4/h² + max|u|)·T + 4·(3√3/2)·λ_end/h³ (the cubic part depends on the
- * distance in λ only, not on the duration).
- */
-export function predictedWork(sites: number, h: number, duration: number, lambdaEnd: number, uMax: number, states: number): number {
-  const normIntegral = (4 / (h * h) + uMax) * duration + (CUBIC_SYMBOL_MAX * Math.abs(lambdaEnd)) / (h * h * h);
-  return 2 * states * WORK_PER_NORM * (normIntegral + WORK_OFFSET) * sites;
-}
-
 /** the Zwerger estimate is flagged when it differs from the band-structure J by more than this (common practice) */
 export const ESTIMATE_WARNING = 0.05;
-/** Hermiticity defects above this (relative, random-vector test) are an internal error */
+/** Hermiticity defects above this (relative, random-vector test, lattice/verify.ts) are an internal error */
 export const HERMITICITY_LIMIT = 1e-12;
 
 export const LATTICE_FILES = [
@@ -184,69 +161,47 @@ export interface LatticeParameters {
   tunnelling: number;
   tunnellingSource: 'given' | 'estimate' | 'band' | 'implied';
   /** depth data when depth_recoil was given */
-  depth: null | {
-    s: number;
-    recoil_hz: number;
-    estimate_hz: number;
-    band_hz: number;
-    relative_difference: number;
-    band_mass_ratio: number;
-    band_bottom_recoil: number;
-    band_top_recoil: number;
-  };
+  depth: null | DepthTunnelling;
   /** m* and the atomic mass in u (lab; null natural) */
   massStarU: number | null;
   massU: number | null;
   warnings: string[];
 }
 
+/** the lattice section; UserError when the config has none */
+function latticeSection(config: LatticeConfig): LatticeSection {
+  if (!config.lattice) throw new UserError(`${config.meta.source}: the config has no lattice section: add lattice: {spacing_um | wavelength_nm, tunnelling_hz | depth_recoil, …}`);
+  return config.lattice;
+}
+
 /** d, J and m* from the lattice section (see the module doc) */
 export function latticeParameters(config: LatticeConfig): LatticeParameters {
-  const l = config.lattice;
-  if (!l) throw new UserError(`${config.meta.source}: the config has no lattice section: add lattice: {spacing_um | wavelength_nm, tunnelling_hz | depth_recoil, …}`);
+  const l = latticeSection(config);
   const warnings: string[] = [];
   const units = config.units;
   if (units.system === 'natural') {
     const h = l.spacing as number;
-    return { system: 'natural', spacing: h, h, tunnelling: 1 / (h * h), tunnellingSource: 'implied', depth: null, massStarU: null, massU: null, warnings };
+    return { system: 'natural', spacing: h, h, tunnelling: naturalTunnelling(h), tunnellingSource: 'implied', depth: null, massStarU: null, massU: null, warnings };
   }
   const dUm = l.spacing_um ?? (l.wavelength_nm as number) / 2000;
   const dM = dUm * 1e-6;
-  const massKg = units.mass_u * ATOMIC_MASS_CONSTANT;
   let jHz: number;
   let source: LatticeParameters['tunnellingSource'] = 'given';
   let depth: LatticeParameters['depth'] = null;
   if (l.tunnelling_hz !== undefined) {
     jHz = l.tunnelling_hz;
   } else {
-    const s = l.depth_recoil as number;
-    const kL = Math.PI / dM;
-    const erHz = (HBAR * HBAR * kL * kL) / (2 * massKg) / PLANCK_H;
-    const band = lowestBand(s);
-    const estimateHz = tunnellingEstimate(s) * erHz;
-    const bandHz = band.tunnelling * erHz;
-    const rel = estimateHz / bandHz - 1;
+    depth = depthTunnelling(l.depth_recoil as number, dM, units.mass_u * ATOMIC_MASS_CONSTANT);
     source = l.tunnelling_source ?? 'estimate';
-    jHz = source === 'estimate' ? estimateHz : bandHz;
-    depth = {
-      s,
-      recoil_hz: erHz,
-      estimate_hz: estimateHz,
-      band_hz: bandHz,
-      relative_difference: rel,
-      band_mass_ratio: band.massRatioAtBottom,
-      band_bottom_recoil: band.bottom,
-      band_top_recoil: band.top,
-    };
+    jHz = source === 'estimate' ? depth.estimate_hz : depth.band_hz;
+    const rel = depth.relative_difference;
     if (source === 'estimate' && Math.abs(rel) > ESTIMATE_WARNING) {
       warnings.push(
-        `the deep-lattice estimate J = ${estimateHz.toPrecision(4)} h·Hz (Zwerger 2003, an approximation) differs by ${(100 * rel).toFixed(1)} % from the band-structure value ` +
-          `${bandHz.toPrecision(4)} h·Hz at s = ${s}: it is accurate only for deep lattices (the error falls like 0.44/√s); set lattice.tunnelling_source: band to use the band value`,
+        `the deep-lattice estimate J = ${depth.estimate_hz.toPrecision(4)} h·Hz (Zwerger 2003, an approximation) differs by ${(100 * rel).toFixed(1)} % from the band-structure value ` +
+          `${depth.band_hz.toPrecision(4)} h·Hz at s = ${depth.s}: it is accurate only for deep lattices (the error falls like 0.44/√s); set lattice.tunnelling_source: band to use the band value`,
       );
     }
   }
-  const jJ = jHz * PLANCK_H;
-  const mStar = (HBAR * HBAR) / (2 * jJ * dM * dM);
   return {
     system: 'lab',
     spacing: dUm,
@@ -254,7 +209,7 @@ export function latticeParameters(config: LatticeConfig): LatticeParameters {
     tunnelling: jHz,
     tunnellingSource: source,
     depth,
-    massStarU: mStar / ATOMIC_MASS_CONSTANT,
+    massStarU: effectiveMassU(jHz, dM),
     massU: units.mass_u,
     warnings,
   };
@@ -270,95 +225,6 @@ export function effectiveMassConfig(config: LatticeConfig, params: LatticeParame
     label: `${config.units.label} in the lowest lattice band (m* = ${params.massStarU.toPrecision(5)} u)`,
   };
   return { ...config, units };
-}
-
-// ---------------------------------------------------------------------------------------------------------
-// verification on one lattice
-
-export interface LatticeRun {
-  h: number;
-  sites: number;
-  sitesPerWidth: number;
-  energiesStart: number[];
-  energiesEnd: number[];
-  fidelityCd: number[];
-  fidelityBare: number[];
-  maxInfidelityCd: number;
-  stepsCd: number;
-  stepsBare: number;
-  matvecs: number;
-  seconds: number;
-}
-
-/** lowest eigenpairs of the lattice H at λ (τ′ = 0: real symmetric tridiagonal) */
-function lowestLatticeStates(seq: LatticeSequence, lambda: number, h: number, count: number): { values: Float64Array; vectors: Float64Array[] } {
-  const M = seq.sites.length;
-  const u = seq.at(lambda, new Float64Array(M));
-  const d = u.map((v) => v + 2 / (h * h));
-  const e = new Float64Array(M).fill(-1 / (h * h));
-  return tridiagonalLowest(d, e, count);
-}
-
-/** propagate the lowest `count` states of the lattice for the CD (σ = 1) and bare (σ = 0) drives */
-export function verifyOnLattice(seq: LatticeSequence, h: number, ramp: Ramp, count: number, tol: number, width: number, onStep?: (f: number) => void): LatticeRun {
-  const start = performance.now();
-  const g0 = lowestLatticeStates(seq, ramp.value(0), h, count);
-  const g1 = lowestLatticeStates(seq, ramp.value(ramp.duration), h, count);
-  const fid: Record<number, number[]> = {};
-  const steps: Record<number, number> = {};
-  let matvecs = 0;
-  for (const sigma of [1, 0]) {
-    const prop = new LatticePropagator({ sequence: seq, ramp, sigma, h });
-    const states = g0.vectors.map(complexOf);
-    const stats = prop.run(states, 0, ramp.duration, tol, onStep ? (s) => onStep((sigma === 1 ? 0 : 0.5) + (0.5 * s) / ramp.duration) : undefined);
-    fid[sigma] = states.map((v, i) => overlap2(complexOf(g1.vectors[i]), v));
-    steps[sigma] = stats.accepted;
-    matvecs += stats.matvecs;
-  }
-  return {
-    h,
-    sites: seq.sites.length,
-    sitesPerWidth: width / h,
-    energiesStart: Array.from(g0.values),
-    energiesEnd: Array.from(g1.values),
-    fidelityCd: fid[1],
-    fidelityBare: fid[0],
-    maxInfidelityCd: Math.max(...fid[1].map((f) => 1 - f)),
-    stepsCd: steps[1],
-    stepsBare: steps[0],
-    matvecs,
-    seconds: (performance.now() - start) / 1000,
-  };
-}
-
-/** max over a few random vectors of |⟨x,Hy⟩ − conj⟨y,Hx⟩| / (‖H‖-scale): a cheap Hermiticity check of the product */
-export function hermiticityCheck(t: LatticeTerms, vectors = 3): number {
-  const M = t.sites;
-  const x = new Float64Array(2 * M), y = new Float64Array(2 * M), hx = new Float64Array(2 * M), hy = new Float64Array(2 * M);
-  let state = 12345;
-  const rnd = () => {
-    state = (state * 16807) % 2147483647; // Park–Miller minimal standard generator (exact in doubles)
-    return state / 2147483647 - 0.5;
-  };
-  let worst = 0;
-  for (let v = 0; v < vectors; v++) {
-    for (let i = 0; i < 2 * M; i++) {
-      x[i] = rnd();
-      y[i] = rnd();
-    }
-    applyTerms(t, x, hx);
-    applyTerms(t, y, hy);
-    let ar = 0, ai = 0, br = 0, bi = 0, scale = 0;
-    for (let i = 0; i < 2 * M; i += 2) {
-      ar += x[i] * hy[i] + x[i + 1] * hy[i + 1];
-      ai += x[i] * hy[i + 1] - x[i + 1] * hy[i];
-      br += y[i] * hx[i] + y[i + 1] * hx[i + 1];
-      bi += y[i] * hx[i + 1] - y[i + 1] * hx[i];
-      scale += Math.hypot(x[i], x[i + 1]) * Math.hypot(hy[i], hy[i + 1]) + Math.hypot(y[i], y[i + 1]) * Math.hypot(hx[i], hx[i + 1]);
-    }
-    worst = Math.max(worst, Math.hypot(ar - br, ai + bi) / scale);
-  }
-  return worst;
 }
 
 // ---------------------------------------------------------------------------------------------------------
@@ -419,10 +285,6 @@ export interface LatticeStudyRow {
   difference_bare: number[] | null;
   seconds: number;
 }
-
-/** below this observed order of the infidelity in the spacing the study is not converging and nothing is
- * extrapolated from it (the expected order is 4: O(d²) amplitude errors, squared) */
-export const MIN_TRUSTED_ORDER = 1;
 
 export interface LatticeSummary {
   name: string;
@@ -556,219 +418,223 @@ function fieldUnits(L: string, E: string, T: string): Record<string, string> {
   };
 }
 
-/** the narrowest soliton width 1/κ_max (κ² = −E of the deepest bound state), capped by the initial well width */
-function solitonWidth(design: DesignResult): number {
-  const e = design.bound.energies;
-  const kMax = e.length > 0 ? Math.sqrt(-Math.min(...e)) : NaN;
-  const w = Number.isFinite(kMax) && kMax > 0 ? 1 / kMax : Infinity;
-  const wc = Number.isFinite(design.ctx.width) ? design.ctx.width : Infinity;
-  const out = Math.min(w, wc);
-  if (!Number.isFinite(out)) throw new UserError('the designed potential has no bound state, so it has no soliton width to resolve on the lattice');
-  return out;
+/** the design on m* and the quantities every step of the job needs (natural units of m* unless marked) */
+interface LatticeSetup {
+  config: LatticeConfig;
+  section: LatticeSection;
+  protocol: NonNullable<LatticeConfig['protocol']>;
+  params: LatticeParameters;
+  design: DesignResult;
+  warnings: string[];
+  /** spacing in ℓ */
+  h: number;
+  lambdaEnd: number;
+  duration: number;
+  ramp: Ramp;
+  /** narrowest soliton width (ℓ) */
+  width: number;
+  lab: boolean;
+  /** energy E₀ → the output unit (h·Hz lab, E₀ natural) */
+  hz: (e: number) => number;
+  /** spacing ℓ → the output length unit (µm lab, ℓ natural) */
+  length: (h: number) => number;
 }
 
-/**
- * Run the lattice job (see the module doc). Throws UserError for configs it cannot serve (no lattice or protocol
- * section, a broken flow, a lattice that is too large).
- */
-export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): LatticeResult {
+function latticeSetup(config: LatticeConfig, progress: (p: LatticeProgress) => void): LatticeSetup {
   const params = latticeParameters(config);
-  const progress = opts.onProgress ?? (() => {});
-  const l = config.lattice as LatticeSection;
+  const section = latticeSection(config);
   if (!config.protocol) throw new UserError(`${config.meta.source}: protocol is missing: the lattice verification needs protocol.duration (and ramp)`);
-  const starConfig = effectiveMassConfig(config, params);
-  const design = runDesign(starConfig, { onProgress: (x, end) => progress({ stage: 'design', fraction: x / end }) });
+  const design = runDesign(effectiveMassConfig(config, params), { onProgress: (x, end) => progress({ stage: 'design', fraction: x / end }) });
   if (design.run.breaking) throw new UserError(`the designed flow broke at λ = ${design.run.breaking.lambdaReached}: a broken sequence cannot be put on a lattice (${design.run.breaking.reason})`);
-  const { ctx } = design;
-  const { units, grid } = ctx;
+  const { units } = design.ctx;
   const warnings = [...params.warnings, ...design.warnings];
   const lab = units.system === 'lab';
-  const hz = (e: number) => (lab ? (e * units.E0) / PLANCK_H : e);
-  const energyLabel = lab ? 'h·Hz' : 'E₀';
-  const h = params.h;
   const lambdaEnd = design.run.lambdas[design.run.lambdas.length - 1];
   const duration = units.timeToNatural(config.protocol.duration);
   const ramp = makeRamp(config.protocol.ramp, duration, lambdaEnd);
   if (!ramp.endSlopeZero) warnings.push(`ramp ${ramp.kind} has λ′ ≠ 0 at the ends: the CD couplings do not vanish there, so H_CD ≠ H at the start and the end`);
-  const width = solitonWidth(design);
-
-  const makeSites = (spacing: number): Float64Array => {
-    const sites = chainSites(grid.length, spacing);
-    if (sites.length < 8) throw new UserError(`lattice spacing ${spacing} ℓ leaves only ${sites.length} sites in the box of ${grid.length} ℓ: at least 8 are needed`);
-    if (sites.length > MAX_SITES) throw new UserError(`lattice spacing ${spacing} ℓ gives ${sites.length} sites in the box (more than ${MAX_SITES}): choose a larger spacing or a smaller box`);
-    return sites;
+  const width = solitonWidth(design.bound.energies, design.ctx.width);
+  if (!Number.isFinite(width)) throw new UserError('the designed potential has no bound state, so it has no soliton width to resolve on the lattice');
+  return {
+    config, section, protocol: config.protocol, params, design, warnings, h: params.h, lambdaEnd, duration, ramp, width, lab,
+    hz: (e) => (lab ? (e * units.E0) / PLANCK_H : e),
+    length: (hn) => (lab ? hn * (units.ell * 1e6) : hn),
   };
-  const sites = makeSites(h);
-  const M = sites.length;
-  const seq = LatticeSequence.fromDense(grid, design.run.dense, sites);
+}
 
-  // control tables
-  const S = l.samples;
-  const times = new Float64Array(S);
-  const onsite = new Float64Array(S * M);
-  const nnA = new Float64Array(S * (M - 1)), nnP = new Float64Array(S * (M - 1));
-  const nnnA = new Float64Array(S * (M - 2)), nnnP = new Float64Array(S * (M - 2));
-  const terms = emptyTerms(M, h);
-  const u = new Float64Array(M);
-  let maxNn = 0, maxNnn = 0, maxAmp = 0, herm = 0;
+/** sites of the chain at spacing h in the design box; UserError when there are too few or too many */
+function chainFor(setup: LatticeSetup, h: number): Float64Array {
+  const length = setup.design.ctx.grid.length;
+  const sites = chainSites(length, h);
+  const problem = siteCountProblem(h, sites.length, length);
+  if (problem !== null) throw new UserError(problem);
+  return sites;
+}
+
+/** the control tables (lattice/tables.ts) in the output units, and the couplings section of the summary */
+function tablesStep(setup: LatticeSetup, seq: LatticeSequence, sites: Float64Array, progress: (p: LatticeProgress) => void): { tables: LatticeTables; couplings: LatticeSummary['couplings'] } {
+  const { hz, h } = setup;
+  const { units } = setup.design.ctx;
+  const S = setup.section.samples;
+  const t = controlTables(seq, setup.ramp, h, S, (done) => progress({ stage: 'tables', fraction: done / S }));
+  const onsite = t.onsite.map(hz);
   let onMin = Infinity, onMax = -Infinity;
-  for (let i = 0; i < S; i++) {
-    const s = (duration * i) / (S - 1);
-    times[i] = units.timeFromNatural(s);
-    seq.at(ramp.value(s), u);
-    cdTerms(u, ramp.rate(s), 1, terms);
-    herm = Math.max(herm, hermiticityCheck(terms));
-    for (let j = 0; j < M; j++) {
-      const e = hz(u[j] + 2 / (h * h));
-      onsite[i * M + j] = e;
-      onMin = Math.min(onMin, e);
-      onMax = Math.max(onMax, e);
-    }
-    for (let j = 0; j < M - 1; j++) {
-      const c = nearestCoupling(terms, j);
-      nnA[i * (M - 1) + j] = hz(c.amplitude);
-      nnP[i * (M - 1) + j] = c.phase;
-      maxNn = Math.max(maxNn, Math.abs(terms.bond[j]));
-      maxAmp = Math.max(maxAmp, c.amplitude);
-    }
-    const c2 = nextNearestCoupling(terms);
-    for (let j = 0; j < M - 2; j++) {
-      nnnA[i * (M - 2) + j] = hz(c2.amplitude);
-      nnnP[i * (M - 2) + j] = c2.phase;
-    }
-    maxNnn = Math.max(maxNnn, Math.abs(terms.nnn));
-    progress({ stage: 'tables', fraction: (i + 1) / S });
+  for (const e of onsite) {
+    onMin = Math.min(onMin, e);
+    onMax = Math.max(onMax, e);
   }
-  const bandWidth = 4 / (h * h);
-  const cdFraction = Math.max(maxNn, maxNnn) / bandWidth;
+  const cdFraction = Math.max(t.maxNn, t.maxNnn) / bandWidth(h);
   if (cdFraction > 1) {
-    warnings.push(
+    setup.warnings.push(
       `the largest CD coupling is ${cdFraction.toFixed(2)} × the band width 4J: the Peierls couplings grow like λ̇/d³ against J ∝ 1/d², ` +
         'so a lab must realise tunnelling amplitudes larger than J; a longer protocol.duration lowers them in proportion',
     );
   }
-  if (herm > HERMITICITY_LIMIT) throw new Error(`internal error: a lattice Hamiltonian failed the Hermiticity check (${herm})`);
+  if (t.hermiticityDefect > HERMITICITY_LIMIT) throw new Error(`internal error: a lattice Hamiltonian failed the Hermiticity check (${t.hermiticityDefect})`);
+  const tables: LatticeTables = {
+    sites: sites.map((x) => units.lengthFromNatural(x)),
+    times: t.times.map((s) => units.timeFromNatural(s)),
+    onsite,
+    nnAmplitude: t.nn.amplitude.map(hz),
+    nnPhase: t.nn.phase,
+    nnnAmplitude: t.nnn.amplitude.map(hz),
+    nnnPhase: t.nnn.phase,
+  };
+  const couplings: LatticeSummary['couplings'] = {
+    largest_peierls_nn: hz(t.maxNn),
+    largest_peierls_nnn: hz(t.maxNnn),
+    largest_cd_coupling: hz(Math.max(t.maxNn, t.maxNnn)),
+    fraction_of_band_width: cdFraction,
+    largest_nn_amplitude: hz(t.maxAmplitude),
+    onsite_range: [onMin, onMax],
+    hermiticity_defect_max: t.hermiticityDefect,
+    convention:
+      'H = Σ_j ε_j n_j + Σ_{j<j′} (A_jj′ e^{iφ_jj′} c_j† c_j′ + h.c.), j′ = j+1 (nn) and j+2 (nnn); ε_j = V(x_j) + 2J puts the uniform band bottom at V; ' +
+      'nn: A e^{iφ} = −J + i b_j, b_j = λ̇·(4/d³ + 3(u_j+u_{j+1})/(2d)) in natural units; nnn: i q, q = −2λ̇/d³ (physics.md §3, §6)',
+  };
+  return { tables, couplings };
+}
 
-  // verification on the configured lattice
-  const lowest0 = lowestLatticeStates(seq, 0, h, Math.min(M, 64));
-  const threshold = boxThreshold(grid.length);
+/** the band width 4J = 4/h² of the lowest band (E₀) */
+function bandWidth(h: number): number {
+  return 4 / (h * h);
+}
+
+/** number of propagated states: lattice.states, verify.states, or the bound states of the lattice H(0) (at most DEFAULT_MAX_STATES) */
+function stateCount(setup: LatticeSetup, seq: LatticeSequence): number {
+  const M = seq.sites.length;
+  const lowest0 = lowestLatticeStates(seq, 0, setup.h, Math.min(M, 64));
+  const threshold = boxThreshold(setup.design.ctx.grid.length);
   const bound = Array.from(lowest0.values).filter((e) => e < threshold).length;
-  const count = Math.max(1, Math.min(l.states ?? config.verify?.states ?? Math.min(bound, DEFAULT_MAX_STATES), M));
-  if (bound === 0) warnings.push('the lattice H(0) has no bound state below the box threshold −(2π/L)²: the fidelities refer to box states');
+  if (bound === 0) setup.warnings.push('the lattice H(0) has no bound state below the box threshold −(2π/L)²: the fidelities refer to box states');
+  return Math.max(1, Math.min(setup.section.states ?? setup.config.verify?.states ?? Math.min(bound, DEFAULT_MAX_STATES), M));
+}
+
+/** predicted site·products of a lattice (lattice/cost.ts) for this design and state count */
+function workModel(setup: LatticeSetup, count: number): (sites: number, h: number) => number {
   let uMax = 0;
-  for (const v of design.run.frames) for (const x of v) uMax = Math.max(uMax, Math.abs(x));
-  const work = (sitesN: number, hn: number) => predictedWork(sitesN, hn, duration, lambdaEnd, uMax, count);
-  if (work(M, h) > MAX_SITE_PRODUCTS) {
-    throw new UserError(
-      `lattice verification of ${M} sites at ${(width / h).toFixed(1)} sites per width would need about ${work(M, h).toExponential(1)} site·products ` +
-        `(limit ${MAX_SITE_PRODUCTS.toExponential(1)}, about two minutes): the cubic CD term makes the cost grow like λ_end/d³; use a larger lattice spacing, a smaller box or fewer states`,
-    );
-  }
-  const main = verifyOnLattice(seq, h, ramp, count, l.tolerance, width, (f) => progress({ stage: 'verify', fraction: f }));
-  const drift = Math.max(...main.energiesStart.map((e, i) => Math.abs(main.energiesEnd[i] - e)));
+  for (const v of setup.design.run.frames) for (const x of v) uMax = Math.max(uMax, Math.abs(x));
+  return (sitesN, hn) => predictedWork(sitesN, hn, setup.duration, setup.lambdaEnd, uMax, count);
+}
 
-  const cont = opts.continuum
-    ? opts.continuum({ design, potential: (lam, out) => void design.run.dense.at(lam, out), ramp: ramp.kind, duration, lambdaEnd, states: count })
-    : null;
-
-  // convergence study at the same m*
-  const rows: LatticeStudyRow[] = [];
-  const spw = [...l.sites_per_width].sort((a, b) => a - b);
-  spw.forEach((n, idx) => {
-    const hn = width / n;
-    let sitesN: Float64Array;
-    try {
-      sitesN = makeSites(hn);
-    } catch (err) {
-      if (err instanceof UserError) {
-        warnings.push(`study: ${n} sites per width skipped: ${err.message}`);
-        return;
-      }
-      throw err;
-    }
-    if (work(sitesN.length, hn) > MAX_SITE_PRODUCTS) {
-      warnings.push(`study: ${n} sites per width skipped: about ${work(sitesN.length, hn).toExponential(1)} site·products predicted (limit ${MAX_SITE_PRODUCTS.toExponential(1)})`);
-      return;
-    }
-    const seqN = LatticeSequence.fromDense(grid, design.run.dense, sitesN);
-    const r = verifyOnLattice(seqN, hn, ramp, count, l.tolerance, width, (f) => progress({ stage: 'study', fraction: (idx + f) / spw.length, detail: `${n} sites per width` }));
-    rows.push({
-      sites_per_width: n,
-      spacing: lab ? hn * (units.ell * 1e6) : hn,
-      tunnelling: hz(1 / (hn * hn)),
-      sites: sitesN.length,
-      infidelity_cd_max: r.maxInfidelityCd,
-      infidelity_cd: r.fidelityCd.map((f) => 1 - f),
-      fidelity_bare: r.fidelityBare,
-      difference_cd: cont ? r.fidelityCd.map((f, i) => f - (cont.cd[i] ?? NaN)) : null,
-      difference_bare: cont ? r.fidelityBare.map((f, i) => f - (cont.bare[i] ?? NaN)) : null,
-      seconds: r.seconds,
-    });
+/** the convergence study at the same m* (lattice/study.ts), rows in the output units */
+function studyStep(setup: LatticeSetup, count: number, work: (sites: number, h: number) => number, cont: { cd: number[]; bare: number[] } | null, progress: (p: LatticeProgress) => void): LatticeStudyRow[] {
+  const { hz, design } = setup;
+  const study = latticeStudy({
+    grid: design.ctx.grid,
+    dense: design.run.dense,
+    ramp: setup.ramp,
+    width: setup.width,
+    sitesPerWidth: [...setup.section.sites_per_width].sort((a, b) => a - b),
+    states: count,
+    tol: setup.section.tolerance,
+    work,
+    onProgress: (fraction, n) => progress({ stage: 'study', fraction, detail: `${n} sites per width` }),
   });
-  let order: number | null = null;
-  if (rows.length >= 2) {
-    const a = rows[rows.length - 2], b = rows[rows.length - 1];
-    if (a.infidelity_cd_max > 0 && b.infidelity_cd_max > 0) order = Math.log(a.infidelity_cd_max / b.infidelity_cd_max) / Math.log(b.sites_per_width / a.sites_per_width);
-  }
-  const ok = rows.find((r) => r.infidelity_cd_max < l.target_infidelity);
+  setup.warnings.push(...study.skipped);
+  return study.points.map(({ sitesPerWidth, h: hn, sites, run: r }) => ({
+    sites_per_width: sitesPerWidth,
+    spacing: setup.length(hn),
+    tunnelling: hz(naturalTunnelling(hn)),
+    sites,
+    infidelity_cd_max: r.maxInfidelityCd,
+    infidelity_cd: r.fidelityCd.map((f) => 1 - f),
+    fidelity_bare: r.fidelityBare,
+    difference_cd: cont ? r.fidelityCd.map((f, i) => f - (cont.cd[i] ?? NaN)) : null,
+    difference_bare: cont ? r.fidelityBare.map((f, i) => f - (cont.bare[i] ?? NaN)) : null,
+    seconds: r.seconds,
+  }));
+}
+
+/** the study section: observed order and recommendation (lattice/study.ts) with their warnings */
+function studySection(setup: LatticeSetup, rows: LatticeStudyRow[]): LatticeSummary['study'] {
+  const target = setup.section.target_infidelity;
+  const points = rows.map((r) => ({ sitesPerWidth: r.sites_per_width, maxInfidelity: r.infidelity_cd_max }));
+  const rec = recommendLattice(points, target);
   let recommended: LatticeSummary['study']['recommended'] = null;
-  if (ok) {
+  if (rec.kind === 'met') {
+    const ok = rows[rec.index];
     recommended = { sites_per_width: ok.sites_per_width, spacing: ok.spacing, tunnelling: ok.tunnelling, basis: 'coarsest studied lattice whose CD infidelity (every state) is below the target' };
-  } else if (rows.length >= 2 && order !== null && order < MIN_TRUSTED_ORDER) {
-    warnings.push(
-      `no studied lattice met the target infidelity ${l.target_infidelity}, and the infidelity falls only as d^${order.toFixed(2)} over the study ` +
+  } else if (rec.kind === 'not-converging') {
+    setup.warnings.push(
+      `no studied lattice met the target infidelity ${target}, and the infidelity falls only as d^${rec.order.toFixed(2)} over the study ` +
         '(not converging: e.g. continuum states reflecting from the ends of the open chain): no spacing is recommended; track bound states only (lattice.states) or refine the study',
     );
-  } else if (rows.length >= 2 && order !== null && order > 0) {
-    const f = rows[rows.length - 1];
-    const n = f.sites_per_width * Math.pow(f.infidelity_cd_max / l.target_infidelity, 1 / order);
-    const hn = width / n;
-    recommended = { sites_per_width: n, spacing: lab ? hn * units.ell * 1e6 : hn, tunnelling: hz(1 / (hn * hn)), basis: `extrapolated with the observed order ${order.toFixed(2)} from the finest studied lattice (not simulated)` };
-    warnings.push(`no studied lattice met the target infidelity ${l.target_infidelity}; the recommendation is extrapolated`);
+  } else if (rec.kind === 'extrapolated') {
+    const hn = setup.width / rec.sitesPerWidth;
+    recommended = { sites_per_width: rec.sitesPerWidth, spacing: setup.lab ? hn * setup.design.ctx.units.ell * 1e6 : hn, tunnelling: setup.hz(naturalTunnelling(hn)), basis: `extrapolated with the observed order ${rec.order.toFixed(2)} from the finest studied lattice (not simulated)` };
+    setup.warnings.push(`no studied lattice met the target infidelity ${target}; the recommendation is extrapolated`);
   }
-  if (main.maxInfidelityCd >= l.target_infidelity) {
-    warnings.push(`the configured lattice (${(width / h).toFixed(2)} sites per width) misses the target: CD infidelity ${main.maxInfidelityCd.toExponential(2)} ≥ ${l.target_infidelity}`);
-  }
+  const configured = setup.width / setup.h;
+  return {
+    target_infidelity: target,
+    rows,
+    observed_order: observedOrder(points),
+    recommended,
+    widen_trap_by: recommended && recommended.sites_per_width > configured ? recommended.sites_per_width / configured : null,
+    note:
+      'same effective mass m* for every row (J = ħ²/(2m*d²) scales as 1/d²); the continuum CD drive is exact (physics.md §1), so 1 − F_CD on the lattice is the residual lattice error; ' +
+      'the recommendation is the LARGEST spacing (fewest sites per width) that meets the target',
+  };
+}
 
-  const lengthLabel = units.labels.length;
-  const timeLabel = units.labels.time;
-  const summary: LatticeSummary = {
-    name: config.name,
-    format: 'isotrap-lattice/1',
+/** the units, lattice, mass, scales, δ² and soliton-width sections of the summary */
+function descriptionSections(setup: LatticeSetup, M: number): Pick<LatticeSummary, 'units' | 'field_units' | 'lattice' | 'mass' | 'scales' | 'delta2' | 'soliton_width'> {
+  const { params, lab, hz, h, width } = setup;
+  const { units, delta2 } = setup.design.ctx;
+  const energyLabel = lab ? 'h·Hz' : 'E₀';
+  const massRatio = params.massU !== null && params.massStarU !== null ? params.massStarU / params.massU : null;
+  return {
     units: {
-      length: lengthLabel,
+      length: units.labels.length,
       energy: energyLabel,
-      time: timeLabel,
+      time: units.labels.time,
       phase: 'rad',
       mass: 'u',
       note: lab
         ? 'energies and couplings in h·Hz (E/h), lengths in µm, times in ms'
         : 'natural units of the lattice effective mass: lengths in ℓ, energies in E₀ = ħ²/(2m*ℓ²), times in t₀ = ħ/E₀',
     },
-    field_units: fieldUnits(lengthLabel, energyLabel, timeLabel),
+    field_units: fieldUnits(units.labels.length, energyLabel, units.labels.time),
     lattice: {
       spacing: params.spacing,
       spacing_natural_l: h,
-      tunnelling: hz(1 / (h * h)),
+      tunnelling: hz(naturalTunnelling(h)),
       tunnelling_source: params.tunnellingSource,
-      band_width_4J: hz(bandWidth),
+      band_width_4J: hz(bandWidth(h)),
       sites: M,
       depth: params.depth,
     },
-    mass: {
-      atomic_u: params.massU,
-      effective_u: params.massStarU,
-      ratio_effective_to_atomic: params.massU !== null && params.massStarU !== null ? params.massStarU / params.massU : null,
-    },
+    mass: { atomic_u: params.massU, effective_u: params.massStarU, ratio_effective_to_atomic: massRatio },
     scales: {
       E0_hz: lab ? units.E0 / PLANCK_H : null,
       t0_ms: lab ? units.t0 * 1e3 : null,
       ell_um: lab ? units.ell * 1e6 : null,
-      J_over_E0: 1 / (h * h),
+      J_over_E0: naturalTunnelling(h),
     },
     delta2: {
-      with_effective_mass: ctx.delta2,
-      with_atomic_mass: params.massU !== null && params.massStarU !== null ? (ctx.delta2 * params.massStarU) / params.massU : null,
+      with_effective_mass: delta2,
+      with_atomic_mass: params.massU !== null && params.massStarU !== null ? dispersionForMass(delta2, params.massStarU, params.massU) : null,
       meaning: 'δ² = ħ²/(2mV₀w²) with m = m* (the design) or the bare atomic mass (for comparison); dimensionless',
     },
     soliton_width: {
@@ -777,56 +643,72 @@ export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): La
       sites_per_width: width / h,
       definition: 'w = 1/κ of the narrowest soliton (κ² = −E of the deepest bound state of H(0)), capped by the curvature width of the deepest initial well',
     },
-    couplings: {
-      largest_peierls_nn: hz(maxNn),
-      largest_peierls_nnn: hz(maxNnn),
-      largest_cd_coupling: hz(Math.max(maxNn, maxNnn)),
-      fraction_of_band_width: cdFraction,
-      largest_nn_amplitude: hz(maxAmp),
-      onsite_range: [onMin, onMax],
-      hermiticity_defect_max: herm,
-      convention:
-        'H = Σ_j ε_j n_j + Σ_{j<j′} (A_jj′ e^{iφ_jj′} c_j† c_j′ + h.c.), j′ = j+1 (nn) and j+2 (nnn); ε_j = V(x_j) + 2J puts the uniform band bottom at V; ' +
-        'nn: A e^{iφ} = −J + i b_j, b_j = λ̇·(4/d³ + 3(u_j+u_{j+1})/(2d)) in natural units; nnn: i q, q = −2λ̇/d³ (physics.md §3, §6)',
-    },
-    verification: {
-      states: count,
-      energies_start: main.energiesStart.map(hz),
-      energies_end: main.energiesEnd.map(hz),
-      continuum_energies_start: design.bound.energies.slice(0, count).map(hz),
-      isospectral_drift_max: hz(drift),
-      fidelity_cd: main.fidelityCd,
-      fidelity_bare: main.fidelityBare,
-      continuum_fidelity_cd: cont ? cont.cd : null,
-      continuum_fidelity_bare: cont ? cont.bare : null,
-      infidelity_cd_max: main.maxInfidelityCd,
-      meets_target: main.maxInfidelityCd < l.target_infidelity,
-      steps_cd: main.stepsCd,
-      steps_bare: main.stepsBare,
-      seconds: main.seconds,
-      method: 'open tight-binding chain; commutator-free 4th-order Magnus (CF4:2) with Lanczos exponentials and step doubling',
-    },
-    study: {
-      target_infidelity: l.target_infidelity,
-      rows,
-      observed_order: order,
-      recommended,
-      widen_trap_by: recommended && recommended.sites_per_width > width / h ? recommended.sites_per_width / (width / h) : null,
-      note:
-        'same effective mass m* for every row (J = ħ²/(2m*d²) scales as 1/d²); the continuum CD drive is exact (physics.md §1), so 1 − F_CD on the lattice is the residual lattice error; ' +
-        'the recommendation is the LARGEST spacing (fewest sites per width) that meets the target',
-    },
-    protocol: { duration: config.protocol.duration, ramp: ramp.kind, lambda_end: lambdaEnd },
-    warnings,
   };
-  const tables: LatticeTables = {
-    sites: sites.map((x) => units.lengthFromNatural(x)),
-    times,
-    onsite,
-    nnAmplitude: nnA,
-    nnPhase: nnP,
-    nnnAmplitude: nnnA,
-    nnnPhase: nnnP,
+}
+
+/** the verification section of the configured lattice */
+function verificationSection(setup: LatticeSetup, count: number, main: LatticeRun, cont: { cd: number[]; bare: number[] } | null): LatticeSummary['verification'] {
+  const { hz } = setup;
+  const drift = Math.max(...main.energiesStart.map((e, i) => Math.abs(main.energiesEnd[i] - e)));
+  return {
+    states: count,
+    energies_start: main.energiesStart.map(hz),
+    energies_end: main.energiesEnd.map(hz),
+    continuum_energies_start: setup.design.bound.energies.slice(0, count).map(hz),
+    isospectral_drift_max: hz(drift),
+    fidelity_cd: main.fidelityCd,
+    fidelity_bare: main.fidelityBare,
+    continuum_fidelity_cd: cont ? cont.cd : null,
+    continuum_fidelity_bare: cont ? cont.bare : null,
+    infidelity_cd_max: main.maxInfidelityCd,
+    meets_target: main.maxInfidelityCd < setup.section.target_infidelity,
+    steps_cd: main.stepsCd,
+    steps_bare: main.stepsBare,
+    seconds: main.seconds,
+    method: 'open tight-binding chain; commutator-free 4th-order Magnus (CF4:2) with Lanczos exponentials and step doubling',
+  };
+}
+
+/**
+ * Run the lattice job (see the module doc): setup (parameters, design on m*) → control tables → verification on
+ * the configured lattice → convergence study → summary. Throws UserError for configs it cannot serve (no lattice
+ * or protocol section, a broken flow, a lattice that is too large).
+ */
+export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): LatticeResult {
+  const progress = opts.onProgress ?? (() => {});
+  const setup = latticeSetup(config, progress);
+  const { design, h, width } = setup;
+  const sites = chainFor(setup, h);
+  const M = sites.length;
+  const seq = LatticeSequence.fromDense(design.ctx.grid, design.run.dense, sites);
+  const { tables, couplings } = tablesStep(setup, seq, sites, progress);
+
+  const count = stateCount(setup, seq);
+  const work = workModel(setup, count);
+  if (work(M, h) > MAX_SITE_PRODUCTS) {
+    throw new UserError(
+      `lattice verification of ${M} sites at ${(width / h).toFixed(1)} sites per width would need about ${work(M, h).toExponential(1)} site·products ` +
+        `(limit ${MAX_SITE_PRODUCTS.toExponential(1)}, about two minutes): the cubic CD term makes the cost grow like λ_end/d³; use a larger lattice spacing, a smaller box or fewer states`,
+    );
+  }
+  const main = verifyOnLattice(seq, h, setup.ramp, count, setup.section.tolerance, width, (f) => progress({ stage: 'verify', fraction: f }));
+  const cont = opts.continuum
+    ? opts.continuum({ design, potential: (lam, out) => void design.run.dense.at(lam, out), ramp: setup.ramp.kind, duration: setup.duration, lambdaEnd: setup.lambdaEnd, states: count })
+    : null;
+  const rows = studyStep(setup, count, work, cont, progress);
+  const study = studySection(setup, rows);
+  if (main.maxInfidelityCd >= setup.section.target_infidelity) {
+    setup.warnings.push(`the configured lattice (${(width / h).toFixed(2)} sites per width) misses the target: CD infidelity ${main.maxInfidelityCd.toExponential(2)} ≥ ${setup.section.target_infidelity}`);
+  }
+  const summary: LatticeSummary = {
+    name: config.name,
+    format: 'isotrap-lattice/1',
+    ...descriptionSections(setup, M),
+    couplings,
+    verification: verificationSection(setup, count, main, cont),
+    study,
+    protocol: { duration: setup.protocol.duration, ramp: setup.ramp.kind, lambda_end: setup.lambdaEnd },
+    warnings: setup.warnings,
   };
   return { summary, tables };
 }

@@ -9,8 +9,10 @@ import { UserError } from '../core/errors.ts';
 import type { Config } from '../io/config.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { integrateFlow, naturalFlowEquation } from '../flow/kdv.ts';
+import { driveClassicalSequence } from '../classical/corrected.ts';
 import { makeRamp } from '../protocol/ramp.ts';
+import { correctionSizes, CORRECTION_SIZE_DEFINITION } from '../quantum/correction.ts';
+import type { UnitSystem } from '../units/scales.ts';
 import { verifySequence, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
@@ -82,93 +84,64 @@ function driveOf(r: VerifyResult, kind: DriveKind): DriveResult {
   return d;
 }
 
-export function runVerify(config: Config, design: DesignResult, opts: VerifyJobOptions = {}): VerifyJobResult {
-  const started = performance.now();
-  const { units, grid } = design.ctx;
+/** the protocol and verify sections in natural units, after the checks verify needs */
+interface VerifyInput {
+  protocol: NonNullable<Config['protocol']>;
+  verify: NonNullable<Config['verify']>;
+  duration: number;
+  lambdaEnd: number;
+  temperature: number | undefined;
+}
+
+function verifyInput(config: Config, design: DesignResult): VerifyInput {
+  const { units } = design.ctx;
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
   const v = config.verify ?? { tolerance: 1e-8, compare_classical: false };
-  const duration = units.timeToNatural(config.protocol.duration);
-  const lambdaEnd = config.flow.lambda_end;
-  const temperature = v.temperature !== undefined && v.temperature > 0 ? units.temperatureToNatural(v.temperature) : undefined;
-  const dense = design.run.dense;
-  const natural = verifySequence({
+  return {
+    protocol: config.protocol,
+    verify: v,
+    duration: units.timeToNatural(config.protocol.duration),
+    lambdaEnd: config.flow.lambda_end,
+    temperature: v.temperature !== undefined && v.temperature > 0 ? units.temperatureToNatural(v.temperature) : undefined,
+  };
+}
+
+const CLASSICAL_NOTE =
+  'the Hopf (ħ → 0) sequence of the same start, driven with the same cubic correction over the part of the ramp it exists on (a ramp reaching its last λ, same shape); fidelities against the eigenstates of H at that λ';
+
+/** the classical sequence of the same start, same correction, until it breaks (classical/corrected.ts) */
+function classicalSection(config: Config, design: DesignResult, input: VerifyInput, states: number): VerifyFile['classical'] {
+  const { grid, u0, units } = design.ctx;
+  const c = driveClassicalSequence({
     grid,
-    potential: (l, out) => dense.at(Math.min(Math.max(l, 0), lambdaEnd), out),
-    lambdaEnd,
-    ramp: config.protocol.ramp,
-    duration,
-    states: v.states,
-    tol: v.tolerance,
-    temperature,
-    fermions: v.fermions,
-    drives: ['cd', 'bare'],
-    traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
-    onProgress: opts.onProgress,
+    u0,
+    flowTolerance: config.flow.tolerance,
+    lambdaEnd: input.lambdaEnd,
+    ramp: input.protocol.ramp,
+    duration: input.duration,
+    states,
+    tol: input.verify.tolerance,
   });
-  const cd = driveOf(natural, 'cd');
-  const bare = driveOf(natural, 'bare');
+  return { lambda_break: c.lambdaBreak, lambda_reached: c.lambdaReached, time_reached: units.timeFromNatural(c.timeReached), fidelity: c.fidelity, note: CLASSICAL_NOTE };
+}
+
+/** the correction's size against time (quantum/correction.ts) in the config's units */
+function correctionSamples(design: DesignResult, input: VerifyInput): VerifyFile['cd_strength']['samples'] {
+  const { units, grid } = design.ctx;
+  const ramp = makeRamp(input.protocol.ramp, input.duration, input.lambdaEnd);
+  const n = correctionSizes(ramp, (l, out) => void design.run.dense.at(l, out), grid.n, CORRECTION_SAMPLES);
   const E = (x: number) => units.energyFromNatural(x);
-  const Lt = units.labels;
-  const warnings = [...natural.warnings];
+  return { time: n.time.map((s) => units.timeFromNatural(s)), cubic: n.cubic.map(E), potential: n.potential.map(E), total: n.total.map(E), definition: CORRECTION_SIZE_DEFINITION };
+}
 
-  // classical sequence of the same start, same correction, until it breaks
-  let classical: VerifyFile['classical'] = null;
-  if (v.compare_classical) {
-    const flow = integrateFlow(grid, naturalFlowEquation('classical'), design.ctx.u0, { tolerance: config.flow.tolerance, frames: [lambdaEnd] });
-    const reach = flow.breaking ? flow.breaking.lambdaReached : lambdaEnd;
-    const ramp = makeRamp(config.protocol.ramp, duration, lambdaEnd);
-    // the time at which the ramp reaches the last λ the classical sequence has (ramps are monotonic)
-    let lo = 0, hi = duration;
-    for (let i = 0; i < 60; i++) {
-      const mid = 0.5 * (lo + hi);
-      if (ramp.value(mid) < reach) lo = mid;
-      else hi = mid;
-    }
-    const tReach = lo;
-    const cv = verifySequence({
-      grid,
-      potential: (l, out) => flow.dense.at(Math.min(Math.max(l, 0), reach), out),
-      lambdaEnd: reach,
-      ramp: config.protocol.ramp,
-      duration: tReach,
-      states: natural.states.length,
-      tol: v.tolerance,
-      drives: ['cd'],
-      traceSamples: 0,
-      strengthSamples: 0,
-    });
-    classical = {
-      lambda_break: flow.breaking?.lambdaExtrapolated ?? NaN,
-      lambda_reached: reach,
-      time_reached: units.timeFromNatural(tReach),
-      fidelity: cv.drives[0].fidelity,
-      note: 'the Hopf (ħ → 0) sequence of the same start, driven with the same cubic correction over the part of the ramp it exists on (a ramp reaching its last λ, same shape); fidelities against the eigenstates of H at that λ',
-    };
-  }
-
-  // size of the correction against time: the p³ term at p = ħ/ℓ, 4|λ̇|E₀, and the potential term 6|λ̇| max|u| E₀
-  const ramp = makeRamp(config.protocol.ramp, duration, lambdaEnd);
-  const uS = new Float64Array(grid.n);
-  const samples = { time: [] as number[], cubic: [] as number[], potential: [] as number[], total: [] as number[], definition: 'at momentum p = ħ/ℓ: p³ part 4|λ̇|·E₀, potential part 6|λ̇|·max|V|/E₀·E₀ (the Weyl symbol of 3{u,k} is 6uk); total their sum' };
-  for (let i = 0; i < CORRECTION_SAMPLES; i++) {
-    const s = (duration * i) / (CORRECTION_SAMPLES - 1);
-    const rate = Math.abs(ramp.rate(s));
-    dense.at(ramp.value(s), uS);
-    let umax = 0;
-    for (const x of uS) umax = Math.max(umax, Math.abs(x));
-    samples.time.push(units.timeFromNatural(s));
-    samples.cubic.push(E(4 * rate));
-    samples.potential.push(E(6 * rate * umax));
-    samples.total.push(E(4 * rate + 6 * rate * umax));
-  }
-
-  // traces: rows (drive, state) × times
+/** fidelity traces as a (drive, state) × time table */
+function traceTable(natural: VerifyResult, drives: DriveResult[], timeFromNatural: (s: number) => number): { data: Float64Array; shape: [number, number]; times: number[]; rows: { drive: string; state: number }[] } {
   const rows: { drive: string; state: number }[] = [];
-  const times = cd.trace ? cd.trace.times.map((s) => units.timeFromNatural(s)) : [];
+  const times = drives[0].trace ? drives[0].trace.times.map(timeFromNatural) : [];
   const traceRows: number[][] = [];
-  for (const d of [cd, bare]) {
+  for (const d of drives) {
     if (!d.trace) continue;
     for (let i = 0; i < natural.states.length; i++) {
       rows.push({ drive: d.drive, state: i });
@@ -176,19 +149,57 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     }
   }
   const nT = times.length;
-  const traceData = new Float64Array(rows.length * nT);
-  traceRows.forEach((r, i) => traceData.set(r, i * nT));
+  const data = new Float64Array(rows.length * nT);
+  traceRows.forEach((r, i) => data.set(r, i * nT));
+  return { data, shape: [rows.length, nT], times, rows };
+}
 
-  const minCd = cd.minFidelity;
-  const accepted = 1 - minCd <= ACCEPT_INFIDELITY;
-  const acceptance = accepted
+function acceptanceText(accepted: boolean, minCd: number): string {
+  return accepted
     ? `every tracked state keeps fidelity ≥ 1 − ${ACCEPT_INFIDELITY} with the correction (worst ${minCd.toPrecision(10)})`
     : `a tracked state loses more than ${ACCEPT_INFIDELITY} fidelity with the correction (worst ${minCd.toPrecision(10)}): the sequence is not admissible at this resolution, or the time stepping is too coarse`;
+}
+
+const CD_STRENGTH_DEFINITION =
+  'max over the protocol of |λ̇|·‖P A P‖ on the occupied low-energy subspace (P: the lowest transported states), and the same for the p³ part and the potential-weighted momentum part separately';
+
+/** the thermal and Fermi-sea sections, when both drives have them */
+function ensembleSections(cd: DriveResult, bare: DriveResult, temperature: number | undefined, units: UnitSystem): Pick<VerifyFile, 'thermal' | 'fermions'> {
+  const E = (x: number) => units.energyFromNatural(x);
+  return {
+    thermal:
+      cd.thermal && bare.thermal
+        ? {
+            temperature: temperature ?? NaN,
+            unit: units.labels.temperature,
+            fidelity_cd: cd.thermal.ensembleFidelity,
+            fidelity_bare: bare.thermal.ensembleFidelity,
+            mean_excess_cd: E(cd.thermal.meanExcessEnergy),
+            mean_excess_bare: E(bare.thermal.meanExcessEnergy),
+            tail_weight: cd.thermal.tailWeight,
+            definition: cd.thermal.definition,
+          }
+        : null,
+    fermions:
+      cd.fermions && bare.fermions
+        ? { count: cd.fermions.particles, fidelity_cd: cd.fermions.manyBodyFidelity, fidelity_bare: bare.fermions.manyBodyFidelity, fermi_level_cuts_group: cd.fermions.fermiLevelCutsGroup }
+        : null,
+  };
+}
+
+/** the verify.json content (config units) from the natural-units result; summary_rows filled by `summaryRows` */
+function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyResult, parts: { classical: VerifyFile['classical']; samples: VerifyFile['cd_strength']['samples']; traces: ReturnType<typeof traceTable> }): VerifyFile {
+  const { units } = design.ctx;
+  const cd = driveOf(natural, 'cd');
+  const bare = driveOf(natural, 'bare');
+  const E = (x: number) => units.energyFromNatural(x);
+  const Lt = units.labels;
+  const accepted = 1 - cd.minFidelity <= ACCEPT_INFIDELITY;
   const st = natural.cdStrength;
-  const file: VerifyFile = {
+  return {
     format: 'isotrap-verify/1',
     units: { energy: Lt.energy, time: Lt.time, length: Lt.length, temperature: Lt.temperature },
-    protocol: { duration: config.protocol.duration, ramp: config.protocol.ramp, lambda_end: lambdaEnd, duration_natural: duration },
+    protocol: { duration: input.protocol.duration, ramp: input.protocol.ramp, lambda_end: input.lambdaEnd, duration_natural: input.duration },
     eigen: natural.eigen,
     bound_states: natural.boundStates,
     isospectral_drift: E(natural.isospectralDrift),
@@ -203,23 +214,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
       excess_cd: E(cd.excessEnergy[i]),
       excess_bare: E(bare.excessEnergy[i]),
     })),
-    thermal:
-      cd.thermal && bare.thermal
-        ? {
-            temperature: v.temperature ?? NaN,
-            unit: Lt.temperature,
-            fidelity_cd: cd.thermal.ensembleFidelity,
-            fidelity_bare: bare.thermal.ensembleFidelity,
-            mean_excess_cd: E(cd.thermal.meanExcessEnergy),
-            mean_excess_bare: E(bare.thermal.meanExcessEnergy),
-            tail_weight: cd.thermal.tailWeight,
-            definition: cd.thermal.definition,
-          }
-        : null,
-    fermions:
-      cd.fermions && bare.fermions
-        ? { count: cd.fermions.particles, fidelity_cd: cd.fermions.manyBodyFidelity, fidelity_bare: bare.fermions.manyBodyFidelity, fermi_level_cuts_group: cd.fermions.fermiLevelCutsGroup }
-        : null,
+    ...ensembleSections(cd, bare, input.verify.temperature, units),
     cd_strength: {
       unit: Lt.energy,
       occupied: st?.occupied ?? 0,
@@ -227,40 +222,78 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
       max_cubic: E(st?.cubic ?? NaN),
       max_potential: E(st?.potential ?? NaN),
       at_time: units.timeFromNatural(st?.atTime ?? NaN),
-      definition: 'max over the protocol of |λ̇|·‖P A P‖ on the occupied low-energy subspace (P: the lowest transported states), and the same for the p³ part and the potential-weighted momentum part separately',
-      samples,
+      definition: CD_STRENGTH_DEFINITION,
+      samples: parts.samples,
     },
-    classical,
+    classical: parts.classical,
     propagation: Object.fromEntries(
       natural.drives.map((d) => [
         d.drive,
         { steps: d.stats.steps, rejected: d.stats.rejected, matvecs: d.stats.matvecs, scheme: d.stats.scheme, norm_drift: d.normDrift, seconds: d.stats.wallMs / 1000, estimated_amplitude_error: d.stats.estimatedAmplitudeError },
       ]),
     ),
-    traces: { file: 'traces.npy', times, rows },
+    traces: { file: 'traces.npy', times: parts.traces.times, rows: parts.traces.rows },
     accepted,
-    acceptance,
-    seconds: (performance.now() - started) / 1000,
-    warnings,
+    acceptance: acceptanceText(accepted, cd.minFidelity),
+    seconds: 0,
+    warnings: [...natural.warnings],
     summary_rows: [],
   };
-  const worstBare = Math.min(...bare.fidelity);
-  file.summary_rows = [
-    { key: 'protocol', value: `${config.protocol.ramp} ramp over ${config.protocol.duration} ${Lt.time}` },
+}
+
+/** the rows of the report's summary table */
+function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
+  const protocol = file.protocol;
+  const T = file.units.time;
+  const cd = driveOf(natural, 'cd');
+  const bare = driveOf(natural, 'bare');
+  return [
+    { key: 'protocol', value: `${protocol.ramp} ramp over ${protocol.duration} ${T}` },
     { key: 'states tracked', value: natural.states.length },
-    { key: 'worst infidelity 1 − F with correction', value: 1 - minCd },
-    { key: 'worst infidelity 1 − F bare drive', value: 1 - worstBare },
+    { key: 'worst infidelity 1 − F with correction', value: 1 - cd.minFidelity },
+    { key: 'worst infidelity 1 − F bare drive', value: 1 - Math.min(...bare.fidelity) },
     { key: 'ground-state fidelity with / without', value: `${cd.fidelity[0].toPrecision(10)} / ${bare.fidelity[0].toPrecision(6)}` },
-    ...(file.thermal ? [{ key: `thermal ensemble at ${file.thermal.temperature} ${Lt.temperature}: fidelity with / without`, value: `${file.thermal.fidelity_cd.toPrecision(10)} / ${file.thermal.fidelity_bare.toPrecision(6)}` }, { key: 'thermal excess energy with / without', value: `${file.thermal.mean_excess_cd.toExponential(3)} / ${file.thermal.mean_excess_bare.toExponential(3)}`, unit: Lt.energy }] : []),
+    ...(file.thermal ? [{ key: `thermal ensemble at ${file.thermal.temperature} ${file.units.temperature}: fidelity with / without`, value: `${file.thermal.fidelity_cd.toPrecision(10)} / ${file.thermal.fidelity_bare.toPrecision(6)}` }, { key: 'thermal excess energy with / without', value: `${file.thermal.mean_excess_cd.toExponential(3)} / ${file.thermal.mean_excess_bare.toExponential(3)}`, unit: file.units.energy }] : []),
     ...(file.fermions ? [{ key: `Fermi sea (${file.fermions.count} fermions): fidelity with / without`, value: `${file.fermions.fidelity_cd.toPrecision(10)} / ${file.fermions.fidelity_bare.toPrecision(6)}` }] : []),
-    { key: 'largest correction |λ̇|‖A‖ (p³ / potential part)', value: `${file.cd_strength.max_total.toPrecision(4)} (${file.cd_strength.max_cubic.toPrecision(4)} / ${file.cd_strength.max_potential.toPrecision(4)})`, unit: Lt.energy },
-    { key: 'isospectrality drift', value: file.isospectral_drift, unit: Lt.energy },
+    { key: 'largest correction |λ̇|‖A‖ (p³ / potential part)', value: `${file.cd_strength.max_total.toPrecision(4)} (${file.cd_strength.max_cubic.toPrecision(4)} / ${file.cd_strength.max_potential.toPrecision(4)})`, unit: file.units.energy },
+    { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
+}
+
+/**
+ * Run the verification of a complete design: load → Schrödinger proof (quantum/verify.ts) → optional classical
+ * drive (classical/corrected.ts) → correction sizes (quantum/correction.ts) → conversion to the config's units.
+ */
+export function runVerify(config: Config, design: DesignResult, opts: VerifyJobOptions = {}): VerifyJobResult {
+  const started = performance.now();
+  const input = verifyInput(config, design);
+  const { units, grid } = design.ctx;
+  const dense = design.run.dense;
+  const natural = verifySequence({
+    grid,
+    potential: (l, out) => dense.at(Math.min(Math.max(l, 0), input.lambdaEnd), out),
+    lambdaEnd: input.lambdaEnd,
+    ramp: input.protocol.ramp,
+    duration: input.duration,
+    states: input.verify.states,
+    tol: input.verify.tolerance,
+    temperature: input.temperature,
+    fermions: input.verify.fermions,
+    drives: ['cd', 'bare'],
+    traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
+    onProgress: opts.onProgress,
+  });
+  const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
+  const samples = correctionSamples(design, input);
+  const traces = traceTable(natural, [driveOf(natural, 'cd'), driveOf(natural, 'bare')], (s) => units.timeFromNatural(s));
+  const file = verifyFile(design, input, natural, { classical, samples, traces });
+  file.seconds = (performance.now() - started) / 1000;
+  file.summary_rows = summaryRows(file, natural);
   for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare])]) {
     if (!Number.isFinite(x)) throw new Error('internal error: a non-finite verify result');
   }
-  return { file, traces: { data: traceData, shape: [rows.length, nT] }, natural };
+  return { file, traces: { data: traces.data, shape: traces.shape }, natural };
 }
 
 export function writeVerifyOutputs(result: VerifyJobResult, dir: string, force: boolean): string[] {

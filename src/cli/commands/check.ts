@@ -1,0 +1,97 @@
+/** `isotrap check <sequence>`: admissibility of a potential sequence from elsewhere. */
+import { basename, dirname, extname, join } from 'node:path';
+import { UserError } from '../../core/errors.ts';
+import { checkExitCode, runCheck, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
+import { toJson } from '../../jobs/design.ts';
+import { isRampKind, RAMP_KINDS } from '../../protocol/ramp.ts';
+import { numberOption, type CommonOptions } from '../options.ts';
+import { num, table } from '../table.ts';
+
+export interface CheckCliOptions extends CommonOptions {
+  tolerance?: string;
+  sidecar?: string;
+  repair?: 'median' | 'piecewise';
+  lengthUnit?: string;
+  energyUnit?: string;
+  species?: string;
+  massU?: string;
+  lengthUnitUm?: string;
+  variationalDuration?: string;
+  variationalStates?: string;
+  variationalTemperature?: string;
+  variationalRamp?: string;
+  variationalLegendre?: string;
+}
+
+/** a whole-number option ≥ 1, or undefined */
+function countOption(name: string, v: string | undefined): number | undefined {
+  const x = numberOption(name, v);
+  if (x !== undefined && !(Number.isInteger(x) && x >= 1)) throw new UserError(`option --${name} = ${v} is not allowed: must be a whole number ≥ 1`);
+  return x;
+}
+
+function variationalOptions(opts: CheckCliOptions) {
+  const duration = numberOption('variational-duration', opts.variationalDuration);
+  const others = [opts.variationalStates, opts.variationalTemperature, opts.variationalRamp, opts.variationalLegendre];
+  if (duration === undefined) {
+    if (others.some((o) => o !== undefined)) throw new UserError('the --variational-* options need --variational-duration <t> (ramp duration, in the sequence\'s time unit), which turns the variational step on');
+    return undefined;
+  }
+  const ramp = opts.variationalRamp;
+  if (ramp !== undefined && !isRampKind(ramp)) {
+    throw new UserError(`option --variational-ramp = ${JSON.stringify(ramp)} is not allowed: must be one of ${RAMP_KINDS.join(', ')}`);
+  }
+  return {
+    duration,
+    states: countOption('variational-states', opts.variationalStates),
+    temperature: numberOption('variational-temperature', opts.variationalTemperature),
+    ramp,
+    legendre: countOption('variational-legendre', opts.variationalLegendre),
+  };
+}
+
+function checkRows(r: CheckReport, files: string[]): [string, string][] {
+  return [
+    ['input', `${r.input}${r.sidecar ? ` (units from ${r.sidecar})` : ''}`],
+    ['verdict', r.admissible ? `admissible (tolerance ${r.tolerance})` : `NOT admissible (tolerance ${r.tolerance})`],
+    ['frames', `${r.frames.length}, ${r.frames.filter((f) => f.admissible).length} pass`],
+    ['fitted a (median)', `${num(r.fit.a_median)} ${r.units.a}`],
+    ['fitted c (median)', `${num(r.fit.c_median)} ${r.units.c}`],
+    ['bound-state drift', `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
+    ['repaired sequence', `max distance ${num(r.repaired.max_distance, 3)} ${r.units.energy}, relative L² ${num(r.repaired.relative_l2, 3)}`],
+    ...(r.variational
+      ? r.variational.comparison.drives.map((d): [string, string] => [`drive: ${d.label}`, `worst fidelity ${num(d.min_fidelity, 8)} over ${d.fidelity.length} states (ramp ${r.variational!.comparison.ramp}, ${r.variational!.comparison.duration})`])
+      : []),
+    ['outputs', files.join(', ')],
+  ];
+}
+
+export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
+  if (opts.repair !== undefined && opts.repair !== 'median' && opts.repair !== 'piecewise') {
+    throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: must be median or piecewise`);
+  }
+  const result = runCheck({
+    input,
+    tolerance: numberOption('tolerance', opts.tolerance),
+    sidecar: opts.sidecar,
+    repair: opts.repair,
+    units: {
+      length_unit: opts.lengthUnit,
+      energy_unit: opts.energyUnit,
+      species: opts.species,
+      mass_u: numberOption('mass-u', opts.massU),
+      length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
+    },
+    variational: variationalOptions(opts),
+  });
+  const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
+  const files = writeCheckOutputs(result, dir, opts.force ?? false);
+  const r = result.report;
+  if (opts.json) process.stdout.write(toJson(r, 2) + '\n');
+  else {
+    process.stdout.write(`isotrap check\n${table(checkRows(r, files))}\n`);
+    for (const f of r.failures) process.stdout.write(`  fails: ${f}\n`);
+    for (const w of r.warnings) process.stderr.write(`warning: ${w}\n`);
+  }
+  return checkExitCode(result);
+}

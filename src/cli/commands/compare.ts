@@ -1,0 +1,39 @@
+/** `isotrap compare <config>`: quantum against classical design of the same trap. */
+import { runCompareWithDrives, writeCompareFigures, writeCompareOutputs, type CompareSummary } from '../../jobs/compare.ts';
+import { toJson } from '../../jobs/design.ts';
+import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { makeProgress } from '../progress.ts';
+import { num, table } from '../table.ts';
+
+/** share of the progress bar given to the comparison before the Schrödinger drives */
+const COMPARE_PROGRESS_SHARE = 0.7;
+
+function compareRows(s: CompareSummary, files: string[]): [string, string][] {
+  const E = s.units.energy;
+  return [
+    ['scenario', `${s.name}${s.species ? ` (${s.species})` : ''}, δ² = ${num(s.delta2)}`],
+    ['classical breaking λ', `${num(s.breaking_lambda)} (characteristics, 1/max(6∂ξu₀))`],
+    ['1 % difference at λ', num(s.distance.lambda_1pct)],
+    ['ħ-scaling exponent', `${num(s.scaling.exponent)} ± ${num(s.scaling.uncertainty, 2)} (expected 2: dispersion ∝ ħ²)`],
+    ['phase-space energy drift', `classical sequence ${num(s.classical_phase_space.max.classical_energy_drift, 3)} ${E}, quantum sequence ${num(s.classical_phase_space.max.quantum_energy_drift, 3)} ${E}`],
+    ...s.quantum.drives.map((d): [string, string] => [`Schrödinger: ${d.drive}`, `worst fidelity ${num(Math.min(...d.states.map((x) => x.fidelity)), 8)} over ${d.states.length} states; largest excess ${num(Math.max(...d.states.map((x) => Math.abs(x.excess_energy))), 3)} ${E}`]),
+    ['outputs', files.join(', ')],
+  ];
+}
+
+export async function compareCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const config = loadScenario(configPath);
+  const progress = makeProgress('compare', opts.quiet ?? false);
+  const s = runCompareWithDrives(config, { onProgress: (_stage, fraction) => progress.update(COMPARE_PROGRESS_SHARE * fraction) });
+  progress.stop();
+  const dir = outputDir(config.name, opts);
+  const files = [...writeCompareOutputs(s, dir, opts.force ?? false), ...writeCompareFigures(s, dir, opts.force ?? false)];
+  if (opts.json) {
+    const { sequences: _omit, ...rest } = s;
+    process.stdout.write(toJson({ ...rest, outputs: files }, 2) + '\n');
+  } else {
+    process.stdout.write(`isotrap compare\n${table(compareRows(s, files))}\n`);
+    for (const w of s.warnings) process.stderr.write(`warning: ${w}\n`);
+  }
+  return 0;
+}

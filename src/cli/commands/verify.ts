@@ -1,0 +1,65 @@
+/** `isotrap verify <config>`: design, then the Schrödinger proof, into one output folder. */
+import { toJson } from '../../jobs/design.ts';
+import { runPipeline, type PipelineResult } from '../../jobs/run.ts';
+import type { VerifyFile } from '../../jobs/verify.ts';
+import { loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
+import { makeStagedProgress } from '../progress.ts';
+import { num, table } from '../table.ts';
+
+function verifyRows(v: VerifyFile): [string, string][] {
+  const E = v.units.energy;
+  const rows: [string, string][] = [
+    ['protocol', `${v.protocol.ramp} ramp, ${v.protocol.duration} ${v.units.time}, λ = 0 … ${v.protocol.lambda_end}`],
+    ['eigenstates', `${v.states.length} tracked (${v.bound_states} bound); ${v.eigen.method}`],
+  ];
+  for (const st of v.states) {
+    rows.push([`state ${st.index} (E = ${num(st.energy)} ${E})`, `fidelity ${num(st.fidelity_cd, 10)} with correction, ${num(st.fidelity_bare, 4)} bare; excess ${num(st.excess_cd, 3)} / ${num(st.excess_bare, 3)} ${E}`]);
+  }
+  if (v.thermal) rows.push([`thermal (T = ${v.thermal.temperature} ${v.thermal.unit})`, `fidelity ${num(v.thermal.fidelity_cd, 10)} / ${num(v.thermal.fidelity_bare, 4)}, excess energy ${num(v.thermal.mean_excess_cd, 3)} / ${num(v.thermal.mean_excess_bare, 3)} ${E}`]);
+  if (v.fermions) rows.push([`Fermi sea (${v.fermions.count} fermions)`, `fidelity ${num(v.fermions.fidelity_cd, 10)} / ${num(v.fermions.fidelity_bare, 4)}`]);
+  rows.push(['correction size', `max |λ̇|‖A‖ = ${num(v.cd_strength.max_total)} ${E} (p³ part ${num(v.cd_strength.max_cubic)}, potential part ${num(v.cd_strength.max_potential)})`]);
+  if (v.classical) rows.push(['classical sequence + correction', `to λ = ${num(v.classical.lambda_reached)} (t = ${num(v.classical.time_reached)} ${v.units.time}): worst fidelity ${num(Math.min(...v.classical.fidelity), 6)}`]);
+  rows.push(['isospectrality drift', `${num(v.isospectral_drift, 3)} ${E}`]);
+  rows.push(['verdict', v.acceptance]);
+  return rows;
+}
+
+/** print the summary of a design → verify (→ report) pipeline; returns the exit code (1 when not accepted) */
+export function printPipeline(r: PipelineResult, dir: string, opts: CommonOptions, command: string): number {
+  const v = r.verify.file;
+  const s = r.design.summary;
+  if (opts.json) {
+    process.stdout.write(toJson({ design: s, ...v, outputs: r.files }, 2) + '\n');
+  } else {
+    const E = s.units.energy;
+    const rows: [string, string][] = [
+      ['scenario', `${s.name}${r.design.ctx.speciesLabel ? ` (${r.design.ctx.speciesLabel})` : ' (natural units)'}`],
+      ['units', `${s.scales.ell}, ${s.scales.E0}, ${s.scales.t0}`],
+      ['δ² = ħ²/(2mV₀w²)', num(s.delta2)],
+      ['solitons predicted / found', `${s.predicted_solitons.map((p) => num(p.depth)).join(', ') || 'none'} / ${s.wells_found.map((w) => num(w.depth)).join(', ') || 'none'} ${E}`],
+      ...verifyRows(v),
+      ['outputs', dir],
+    ];
+    process.stdout.write(`isotrap ${command}\n${table(rows)}\n`);
+    for (const w of [...s.warnings, ...v.warnings]) process.stderr.write(`warning: ${w}\n`);
+  }
+  return v.accepted ? 0 : 1;
+}
+
+/** `verify` (report: false) and `run` (report: true) */
+export async function pipelineCommand(configPath: string, opts: CommonOptions, report: boolean): Promise<number> {
+  const config = loadScenario(configPath);
+  const dir = outputDir(config.name, opts);
+  const progress = makeStagedProgress(opts.quiet ?? false);
+  let result: PipelineResult;
+  try {
+    result = runPipeline(config, { dir, force: opts.force ?? false, report, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
+  } finally {
+    progress.stop();
+  }
+  return printPipeline(result, dir, opts, report ? 'run' : 'verify');
+}
+
+export async function verifyCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  return pipelineCommand(configPath, opts, false);
+}

@@ -1,0 +1,41 @@
+/**
+ * `verify` and `run`: design → verify (→ report) into one output folder. The design is written even when the flow
+ * stops before λ_end (then nothing is verified and a UserError says where the frames are).
+ */
+import { UserError } from '../core/errors.ts';
+import type { Config } from '../io/config.ts';
+import { runDesign, writeDesignOutputs, type DesignResult } from './design.ts';
+import { renderFolder } from './report.ts';
+import { runVerify, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
+
+export interface PipelineOptions {
+  /** output folder */
+  dir: string;
+  force: boolean;
+  /** also render the figures and report.html from the written folder */
+  report: boolean;
+  /** recorded in the report's provenance */
+  toolVersion: string;
+  onProgress?: (stage: 'design' | 'verify', fraction: number) => void;
+}
+
+export interface PipelineResult {
+  design: DesignResult;
+  verify: VerifyJobResult;
+  files: string[];
+}
+
+/** Design, verify and (with opts.report) render the report of one config into opts.dir. */
+export function runPipeline(config: Config, opts: PipelineOptions): PipelineResult {
+  const started = performance.now();
+  const progress = opts.onProgress ?? (() => {});
+  const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end) });
+  if (!design.summary.complete) {
+    writeDesignOutputs(design, opts.dir, opts.force);
+    throw new UserError(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the frames it has are in ${opts.dir})`);
+  }
+  const verify = runVerify(config, design, { onProgress: (f) => progress('verify', f) });
+  const files = [...writeDesignOutputs(design, opts.dir, opts.force), ...writeVerifyOutputs(verify, opts.dir, opts.force)];
+  if (opts.report) files.push(...renderFolder(opts.dir, { force: opts.force, toolVersion: opts.toolVersion, runSeconds: (performance.now() - started) / 1000 }));
+  return { design, verify, files };
+}
