@@ -4,12 +4,9 @@
  * inserted as markup after a check that they are plain SVG (no script, no foreignObject, no external refs).
  */
 import { UserError } from '../core/errors.ts';
+import type { SummaryRow } from '../io/formats/read.ts';
 
-export interface SummaryRow {
-  key: string;
-  value: string | number;
-  unit?: string;
-}
+export type { SummaryRow };
 
 export interface ReportFigure {
   id: string;
