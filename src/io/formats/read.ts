@@ -7,6 +7,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { z } from 'zod';
 import { UserError } from '../../core/errors.ts';
+import { decodeNpy, type NpyArray } from '../npy.ts';
 
 /** a number the writer may have stored as null (it was NaN or ±∞): read back as NaN */
 export const num = z
@@ -67,4 +68,10 @@ export function parseFormat<T>(data: unknown, schema: z.ZodType<T>, path: string
 /** read and validate one output file (see parseFormat) */
 export function readFormat<T>(path: string, schema: z.ZodType<T>, format: string, job: string): T {
   return parseFormat(readJsonFile(path), schema, path, format, job);
+}
+
+/** read a .npy array of an output folder; a missing file is a UserError */
+export function readNpyFile(path: string): NpyArray {
+  if (!existsSync(path)) throw new UserError(`${path} does not exist: is this a finished isotrap output folder?`);
+  return decodeNpy(readFileSync(path), path);
 }

@@ -4,6 +4,7 @@
  * layout of traces.npy. Units as named in `units`.
  */
 import { z } from 'zod';
+import { RAMP_KINDS } from '../../protocol/ramp.ts';
 import type { VerifyResult } from '../../quantum/verify.ts';
 import { num, nums, readFormat, str, summaryRowSchema, type SummaryRow } from './read.ts';
 
@@ -52,7 +53,7 @@ export interface VerifyFile {
 const verifySchema: z.ZodType<VerifyFile> = z.object({
   format: z.literal(VERIFY_FORMAT),
   units: z.object({ energy: str, time: str, length: str, temperature: str }),
-  protocol: z.object({ duration: num, ramp: str, lambda_end: num, duration_natural: num }),
+  protocol: z.object({ duration: num, ramp: z.enum(RAMP_KINDS), lambda_end: num, duration_natural: num }),
   eigen: z.object({ method: str, detail: str, maxResidual: num, residualTol: num, wallMs: num }),
   bound_states: num,
   isospectral_drift: num,
