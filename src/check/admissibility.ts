@@ -19,7 +19,7 @@ import { RealGridOperators } from '../spectral/real-operators.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 import { fornbergWeights, stencilFor } from './fornberg.ts';
 
-/** frames in the λ-stencil: fourth order on uniform frames, as asked for a "high-order" derivative */
+/** frames in the λ-stencil: fourth order on uniform frames, while five frames still fit short sequences */
 export const STENCIL_WIDTH = 5;
 /** a lower-order stencil whose difference from the main one indicates whether the frames resolve u_λ */
 export const LOW_STENCIL_WIDTH = 3;

@@ -15,7 +15,7 @@
  * k³ = iD³ and ½{φ, k} = −(i/2)(φD + Dφ), so A = iB with B = a D³ − ½ Σ_c θ_c (φ_c D + D φ_c) real antisymmetric.
  * For a real eigenvector ψ_m of H (energy E_m),
  *     G ψ_m = u_λ ψ_m − i(H − E_m) A ψ_m = u_λ ψ_m + (H − E_m) B ψ_m            (all real)
- * and its matrix elements G_nm = (u_λ)_nm + (E_n − E_m) B_nm, B_nm = −i A_nm: the eigenbasis form of the brief,
+ * and its matrix elements G_nm = (u_λ)_nm + (E_n − E_m) B_nm, B_nm = −i A_nm: the eigenbasis form,
  * with ½{φ,k}_nm = −(i/2) Σ_j φ_j (ψ_n,j (Dψ_m)_j − (Dψ_n)_j ψ_m,j) (the tests check both forms agree).
  *
  * Cost. The subspace the user cares about is a set of levels m ∈ S with weights w_m (equal, or Boltzmann at a
