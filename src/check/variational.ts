@@ -202,7 +202,7 @@ interface GaugeSystem {
 function gaugeSystem(grid: Grid, u: Float64Array, uLambda: Float64Array, sub: SubspaceBasis, weights: readonly number[], legendre: readonly Float64Array[]): GaugeSystem {
   const n = grid.n;
   const M = sub.vectors.length;
-  if (weights.length !== M) throw new Error(`variational: ${weights.length} weights for ${M} states`);
+  if (weights.length !== M) throw new RangeError(`variational: ${weights.length} weights for ${M} states`);
   const ops = new RealGridOperators(grid);
   const ones = new Float64Array(n).fill(1);
   const phis: Float64Array[] = [u, ones, ...legendre];

@@ -21,7 +21,7 @@ const ID_PLACEHOLDER = '__ISOTRAP_ID__';
 
 /** Format a pixel coordinate; throws on non-finite values so that NaN/Infinity can never reach the SVG. */
 export function px(v: number): string {
-  if (!Number.isFinite(v)) throw new Error(`internal: non-finite coordinate ${v}`);
+  if (!Number.isFinite(v)) throw new RangeError(`non-finite coordinate ${v}`);
   const r = Number(v.toFixed(PX_DECIMALS));
   return String(Object.is(r, -0) ? 0 : r);
 }
