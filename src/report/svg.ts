@@ -206,6 +206,19 @@ export function tickLabelWidth(label: string): number {
 export type AxisSide = 'bottom' | 'left' | 'right';
 
 /**
+ * One <g class="tick"> per tick at a finite position (data-value, data-pos), handed to `draw` with the tick's
+ * pixel position and mark length (minor ticks are 0.6 as long).
+ */
+function eachTick(g: D3Selection, scale: ContinuousScale, ticks: Tick[], draw: (tg: D3Selection, t: Tick, p: number, len: number) => void): void {
+  for (const t of ticks) {
+    const p = scale(t.value);
+    if (!Number.isFinite(p)) continue;
+    const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
+    draw(tg, t, p, t.major ? TICK_LEN : TICK_LEN * 0.6);
+  }
+}
+
+/**
  * Draw an axis line with ticks and labels along one side of `plot`. Each tick is a <g class="tick"> with
  * data-value (the data coordinate) and data-pos (the pixel coordinate along the axis), so tests can recover
  * the mapping. Returns the extent (px) the tick labels occupy away from the axis.
@@ -231,17 +244,13 @@ export function drawAxis(
       .attr('d', `M${px(Math.min(r0, r1))},${px(y)}H${px(Math.max(r0, r1))}`)
       .attr('stroke', '#000000')
       .attr('stroke-width', px(STROKE.axis));
-    for (const t of ticks) {
-      const p = scale(t.value);
-      if (!Number.isFinite(p)) continue;
-      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
-      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+    eachTick(g, scale, ticks, (tg, t, p, len) => {
       tg.append('path').attr('d', `M${px(p)},${px(y)}v${px(len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
       if (t.label) {
         const tt = addText(tg, '', p, y + TICK_LEN + TICK_GAP + ptToPx(FONT_PT.tick) * 0.8, FONT_PT.tick, { anchor: 'middle' });
         writeTickLabel(tt, t.label);
       }
-    }
+    });
     addText(g, label, (Math.min(r0, r1) + Math.max(r0, r1)) / 2, y + labelOffset, FONT_PT.label, { anchor: 'middle', cls: 'axis-label' });
   } else {
     const x = side === 'left' ? x0 : x0 + plot.width;
@@ -251,11 +260,7 @@ export function drawAxis(
       .attr('d', `M${px(x)},${px(Math.min(r0, r1))}V${px(Math.max(r0, r1))}`)
       .attr('stroke', '#000000')
       .attr('stroke-width', px(STROKE.axis));
-    for (const t of ticks) {
-      const p = scale(t.value);
-      if (!Number.isFinite(p)) continue;
-      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
-      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+    eachTick(g, scale, ticks, (tg, t, p, len) => {
       tg.append('path').attr('d', `M${px(x)},${px(p)}h${px(dir * len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
       if (t.label) {
         const tt = addText(tg, '', x + dir * (TICK_LEN + TICK_GAP), p + ptToPx(FONT_PT.tick) * 0.35, FONT_PT.tick, {
@@ -263,7 +268,7 @@ export function drawAxis(
         });
         writeTickLabel(tt, t.label);
       }
-    }
+    });
     const cy = (Math.min(r0, r1) + Math.max(r0, r1)) / 2;
     // rotated by −90°, glyphs extend towards −x from the baseline: on the right side shift by one em
     const lx = side === 'left' ? x - labelOffset : x + labelOffset + ptToPx(FONT_PT.label) * 0.75;
