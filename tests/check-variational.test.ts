@@ -6,7 +6,8 @@ import { spectrum } from '../src/spectral/ops.ts';
 import { RealFFT } from '../src/spectral/fft.ts';
 import { denseHamiltonian } from '../src/quantum/eigen.ts';
 import { fitFrames } from '../src/check/admissibility.ts';
-import { evaluateG, gaugeCost, legendreTable, RealGridOperators, subspaceOf, subspaceWeights, variationalFit } from '../src/check/variational.ts';
+import { evaluateG, gaugeCost, legendreTable, subspaceOf, subspaceWeights, variationalFit } from '../src/check/variational.ts';
+import { RealGridOperators } from '../src/spectral/real-operators.ts';
 import { compareCorrections, cubicSchedule, variationalSchedule } from '../src/check/drive.ts';
 
 function bandLimit(grid: Grid, u: Float64Array): Float64Array {

@@ -10,7 +10,7 @@ import { makeGrid, type Grid } from '../src/spectral/grid.ts';
 import { spectrum } from '../src/spectral/ops.ts';
 import { RealFFT } from '../src/spectral/fft.ts';
 import { HBAR } from '../src/units/constants.ts';
-import { unitSystemOfSequence } from '../src/check/sequence.ts';
+import { unitSystemOfSequence } from '../src/io/external-sequence.ts';
 import { fornbergWeights } from '../src/check/fornberg.ts';
 import { checkExitCode, runCheck, writeCheckOutputs } from '../src/jobs/check.ts';
 

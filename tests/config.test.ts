@@ -130,7 +130,7 @@ verify: { states: 6, temperature: 50, fermions: 3, compare_classical: true }
 });
 
 describe('invalid configs', () => {
-  it('non-power-of-two grid: the brief’s exact message', () => {
+  it('non-power-of-two grid: its exact message', () => {
     const e = errorOf(variant({ grid: 'grid: { length: 60, points: 1000 }' }));
     expect(e.message).toBe('configs/x.yaml: grid.points = 1000 is not allowed: must be a power of two (16, 32, …, 65536)');
     expect(e.exitCode).toBe(2);
@@ -186,7 +186,7 @@ protocol: { duration: 1, ramp: cubic }
 `);
     const lines = e.message.split('\n');
     expect(lines.every((l) => l.startsWith('configs/x.yaml: '))).toBe(true);
-    // ranges from the brief: frames 2…10000, flow.tolerance (0, 1e-2], states 1…200, verify.tolerance (0, 1e-3],
+    // allowed ranges: frames 2…10000, flow.tolerance (0, 1e-2], states 1…200, verify.tolerance (0, 1e-3],
     // temperature ≥ 0, fermions 1…200, ramp sin2|smooth|linear
     for (const part of [
       'name = "bad name" is not allowed',

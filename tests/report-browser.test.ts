@@ -14,7 +14,7 @@ import { pathToFileURL } from 'node:url';
 import { inflateSync } from 'node:zlib';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { barChart, heatmap, lineChart } from '../src/report/figures.ts';
+import { barChart, heatmap, lineChart } from '../src/report/index.ts';
 import { renderReport } from '../src/report/html.ts';
 import { encodePngRgba } from '../src/report/png.ts';
 

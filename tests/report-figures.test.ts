@@ -3,11 +3,10 @@ import { crc32 as zlibCrc32, inflateSync } from 'node:zlib';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { barChart, heatmap, lineChart } from '../src/report/figures.ts';
+import { barChart, heatmap, lineChart } from '../src/report/index.ts';
 import { crc32, encodePngRgba } from '../src/report/png.ts';
 import { renderReport } from '../src/report/html.ts';
 import { hexToRgb, viridisRgb } from '../src/report/style.ts';
-import { UserError } from '../src/core/errors.ts';
 import {
   allAttributeValues,
   fitAxis,
@@ -277,8 +276,8 @@ describe('lineChart with non-finite data', () => {
     // last point e(5) = exp(−15) (closed form): within one pixel in log10 units
     expect(Math.abs(Math.log10(fit.toValue(bottom)) - Math.log10(Math.exp(-15)))).toBeLessThan(fit.unitsPerPx);
   });
-  it('rejects mismatched lengths with a UserError naming the series', () => {
-    expect(() => lineChart({ xLabel: 'a', yLabel: 'b', series: [{ name: 'bad', x: [1, 2], y: [1] }], width: 'single' })).toThrow(UserError);
+  it('rejects mismatched lengths with a RangeError naming the series', () => {
+    expect(() => lineChart({ xLabel: 'a', yLabel: 'b', series: [{ name: 'bad', x: [1, 2], y: [1] }], width: 'single' })).toThrow(RangeError);
     expect(() => lineChart({ xLabel: 'a', yLabel: 'b', series: [{ name: 'bad', x: [1, 2], y: [1] }], width: 'single' })).toThrow(/"bad"/);
   });
   it('decimates long monotone series but keeps the exact extremes', () => {
@@ -406,7 +405,7 @@ describe('heatmap', () => {
   it('rejects rows of the wrong length', () => {
     const x = linspace(0, 1, 4);
     const y = linspace(0, 1, 3);
-    expect(() => heatmap({ xLabel: 'a', yLabel: 'b', zLabel: 'c', x, y, z: [x, x, new Float64Array(3)], width: 'single' })).toThrow(UserError);
+    expect(() => heatmap({ xLabel: 'a', yLabel: 'b', zLabel: 'c', x, y, z: [x, x, new Float64Array(3)], width: 'single' })).toThrow(RangeError);
   });
 });
 

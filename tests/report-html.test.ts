@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { barChart, heatmap, lineChart } from '../src/report/figures.ts';
+import { barChart, heatmap, lineChart } from '../src/report/index.ts';
 import { escapeHtml, renderReport } from '../src/report/html.ts';
 import { UserError } from '../src/core/errors.ts';
 import { parseHtml } from './report-helpers.ts';

@@ -14,12 +14,12 @@
  * Isospectrality (no fit): bound-state energies of k² + u per frame (quantum/bound.ts) against the median
  * along the sequence (physics.md §5: the eigenvalues of an admissible sequence do not move).
  */
-import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { RealGridOperators } from '../spectral/real-operators.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 import { fornbergWeights, stencilFor } from './fornberg.ts';
 
-/** frames in the λ-stencil: fourth order on uniform frames, as asked for a "high-order" derivative */
+/** frames in the λ-stencil: fourth order on uniform frames, while five frames still fit short sequences */
 export const STENCIL_WIDTH = 5;
 /** a lower-order stencil whose difference from the main one indicates whether the frames resolve u_λ */
 export const LOW_STENCIL_WIDTH = 3;
@@ -72,39 +72,34 @@ export function lambdaDerivatives(lambda: readonly number[], frames: readonly Fl
 }
 
 /**
- * The two model columns of (★ₙ): B₁ = −(3/2)·½∂_ξ(u²) + ¼u_ξξξ and B₂ = −u_ξ, spectrally (preallocated
- * buffers; `columns` allocates nothing).
+ * The two model columns of (★ₙ): B₁ = −(3/2)·½∂_ξ(u²) + ¼u_ξξξ and B₂ = −u_ξ, spectrally on the shared
+ * operators of spectral/real-operators.ts (preallocated buffers; `columns` allocates nothing).
  */
 export class KdvColumns {
-  private readonly fft: RealFFT;
+  private readonly ops: RealGridOperators;
   private readonly grid: Grid;
   private readonly cutoff: number;
   private readonly spec: Float64Array;
-  private readonly work: Float64Array;
   private readonly sq: Float64Array;
+  private readonly sqSpec: Float64Array;
   constructor(grid: Grid) {
     this.grid = grid;
-    this.fft = new RealFFT(grid.n);
+    this.ops = new RealGridOperators(grid);
     this.cutoff = Math.floor(grid.n / 3);
     this.spec = new Float64Array(grid.n + 2);
-    this.work = new Float64Array(grid.n + 2);
     this.sq = new Float64Array(grid.n);
+    this.sqSpec = new Float64Array(grid.n + 2);
   }
   columns(u: Float64Array, b1: Float64Array, b2: Float64Array): void {
     const n = this.grid.n;
-    const s = this.spec, w = this.work, kh = this.grid.kHalf;
-    this.fft.forward(u, s);
-    // B₂ = −u_ξ: −ik û; ¼u_ξξξ: ¼(ik)³û = −¼ik³û
-    for (let m = 0; m <= n / 2; m++) {
-      const k = m === n / 2 ? 0 : kh[m];
-      const re = s[2 * m], im = s[2 * m + 1];
-      w[2 * m] = k * im; // −ik(re + i im) = k im − i k re
-      w[2 * m + 1] = -k * re;
-    }
-    this.fft.inverse(w, b2);
+    const kh = this.grid.kHalf;
+    // B₂ = −Du (negation is exact, so this equals transforming −ikû)
+    this.ops.d1(u, b2);
+    for (let j = 0; j < n; j++) b2[j] = -b2[j];
+    const s = this.spec, sq = this.sqSpec;
+    this.ops.fft.forward(u, s);
     for (let j = 0; j < n; j++) this.sq[j] = u[j] * u[j];
-    const sq = this.work; // reuse after B₂ is out
-    this.fft.forward(this.sq, sq);
+    this.ops.fft.forward(this.sq, sq);
     for (let m = 0; m <= n / 2; m++) {
       const k = m === n / 2 ? 0 : kh[m];
       // −(3/4) ik F[u²] (dealiased) − ¼ ik³ û
@@ -115,7 +110,7 @@ export class KdvColumns {
       sq[2 * m] = re;
       sq[2 * m + 1] = im;
     }
-    this.fft.inverse(sq, b1);
+    this.ops.fft.inverse(sq, b1);
   }
 }
 

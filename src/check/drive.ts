@@ -16,7 +16,6 @@
  * coefficients a(λ), θ(λ) are interpolated LINEARLY between the frames where they were fitted (second order in the
  * frame spacing; g(ξ, λ) = Σ θ_c(λ) φ_c(ξ, λ) uses the interpolated u for the u-term), and held constant outside.
  */
-import { UserError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { intervalIndex } from '../spectral/ops.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
@@ -25,12 +24,10 @@ import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type Thermal
 import { Propagator, type DrivenHamiltonian, type Scheme } from '../quantum/propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { lambdaDerivatives, STENCIL_WIDTH, type FrameFit } from './admissibility.ts';
-import { DEGENERACY_TOL, evaluateG, legendreTable, type VariationalFit } from './variational.ts';
+import { BLOCK_MARGIN, DEGENERACY_TOL, evaluateG, legendreTable, type VariationalFit } from './variational.ts';
 
 /** default infidelity budget of the time stepping (verify's default) */
 export const DEFAULT_STEP_TOL = 1e-8;
-/** levels computed beyond the propagated ones to complete a degenerate block cut at the top (as verify) */
-const BLOCK_MARGIN = 2;
 
 /** λ-dependent coefficients of A = a k³ + ½{g, k}, g = Σ θ_c φ_c over [u, 1, P₁ … P_K], at knots λ_i */
 export interface CorrectionSchedule {
@@ -70,7 +67,7 @@ export class SequenceInterpolant {
   readonly frames: readonly Float64Array[];
   readonly rates: readonly Float64Array[];
   constructor(lambda: readonly number[], frames: readonly Float64Array[], rates?: readonly Float64Array[]) {
-    if (frames.length < 2 || lambda.length !== frames.length) throw new UserError(`sequence: ${frames.length} frames with ${lambda.length} λ values: need at least 2 and one λ per frame`);
+    if (frames.length < 2 || lambda.length !== frames.length) throw new RangeError(`sequence: ${frames.length} frames with ${lambda.length} λ values: need at least 2 and one λ per frame`);
     this.lambda = lambda;
     this.frames = frames;
     this.rates = rates ?? lambdaDerivatives(lambda, frames, Math.min(STENCIL_WIDTH, frames.length)).rates;
@@ -195,8 +192,8 @@ export interface ComparisonResult {
 export function compareCorrections(opts: CompareOptions): ComparisonResult {
   const { grid, lambda, frames } = opts;
   const M = opts.states;
-  if (!Number.isInteger(M) || M < 1 || M + BLOCK_MARGIN > grid.n) throw new UserError(`variational: states = ${M} is not allowed: must be an integer in 1 … ${grid.n - BLOCK_MARGIN}`);
-  if (!(Number.isFinite(opts.duration) && opts.duration > 0)) throw new UserError(`variational: duration = ${opts.duration} is not allowed: must be a finite number > 0`);
+  if (!Number.isInteger(M) || M < 1 || M + BLOCK_MARGIN > grid.n) throw new RangeError(`variational: states = ${M} is not allowed: must be an integer in 1 … ${grid.n - BLOCK_MARGIN}`);
+  if (!(Number.isFinite(opts.duration) && opts.duration > 0)) throw new RangeError(`variational: duration = ${opts.duration} is not allowed: must be a finite number > 0`);
   const kind = opts.ramp ?? 'sin2';
   const seq = new SequenceInterpolant(lambda, frames, opts.rates);
   const l0 = lambda[0], l1 = lambda[lambda.length - 1];

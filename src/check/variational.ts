@@ -15,7 +15,7 @@
  * k³ = iD³ and ½{φ, k} = −(i/2)(φD + Dφ), so A = iB with B = a D³ − ½ Σ_c θ_c (φ_c D + D φ_c) real antisymmetric.
  * For a real eigenvector ψ_m of H (energy E_m),
  *     G ψ_m = u_λ ψ_m − i(H − E_m) A ψ_m = u_λ ψ_m + (H − E_m) B ψ_m            (all real)
- * and its matrix elements G_nm = (u_λ)_nm + (E_n − E_m) B_nm, B_nm = −i A_nm: the eigenbasis form of the brief,
+ * and its matrix elements G_nm = (u_λ)_nm + (E_n − E_m) B_nm, B_nm = −i A_nm: the eigenbasis form,
  * with ½{φ,k}_nm = −(i/2) Σ_j φ_j (ψ_n,j (Dψ_m)_j − (Dψ_n)_j ψ_m,j) (the tests check both forms agree).
  *
  * Cost. The subspace the user cares about is a set of levels m ∈ S with weights w_m (equal, or Boltzmann at a
@@ -35,9 +35,8 @@
  * weight; the kept columns are solved by Householder QR (ml-matrix QrDecomposition).
  */
 import { Matrix, QrDecomposition } from 'ml-matrix';
-import { UserError } from '../core/errors.ts';
-import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { RealGridOperators } from '../spectral/real-operators.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
 import { lambdaDerivatives, STENCIL_WIDTH } from './admissibility.ts';
 import { boxThreshold } from '../quantum/bound.ts';
@@ -57,7 +56,7 @@ export const DEGENERACY_TOL = 1e-7;
 /** default subspace: bound states (E < −(2π/L)²) plus this many (verify's default) */
 export const EXTRA_STATES = 4;
 /** levels computed beyond the subspace to complete a degenerate block cut at the top */
-const BLOCK_MARGIN = 2;
+export const BLOCK_MARGIN = 2;
 
 export interface VariationalOptions {
   /** size M of the subspace S (lowest M levels); default bound states + EXTRA_STATES */
@@ -140,63 +139,6 @@ export function evaluateG(coefficients: readonly number[], u: Float64Array, lege
   return out;
 }
 
-/**
- * Real operators on the grid: D (Fourier derivative, Nyquist zeroed), D³, H = k² + u (Nyquist kept, as
- * quantum/eigen.ts). Buffers are allocated once; methods allocate nothing.
- */
-export class RealGridOperators {
-  readonly grid: Grid;
-  private readonly fft: RealFFT;
-  private readonly spec: Float64Array;
-  private readonly tmp: Float64Array;
-  constructor(grid: Grid) {
-    this.grid = grid;
-    this.fft = new RealFFT(grid.n);
-    this.spec = new Float64Array(grid.n + 2);
-    this.tmp = new Float64Array(grid.n);
-  }
-  /** out = D^order f for order 1 or 3 (symbol (ik)^order, Nyquist zeroed), or out = k² f for order 2 */
-  private spectral(f: Float64Array, out: Float64Array, order: 1 | 2 | 3): void {
-    const n = this.grid.n;
-    const s = this.spec, kh = this.grid.kHalf;
-    this.fft.forward(f, s);
-    for (let m = 0; m <= n / 2; m++) {
-      const re = s[2 * m], im = s[2 * m + 1];
-      if (order === 2) {
-        const k2 = kh[m] * kh[m];
-        s[2 * m] = k2 * re;
-        s[2 * m + 1] = k2 * im;
-        continue;
-      }
-      const k = m === n / 2 ? 0 : kh[m];
-      // (ik)(re + i im) = −k im + i k re;  (ik)³ = −ik³: k³ im − i k³ re
-      const c = order === 1 ? k : -k * k * k;
-      s[2 * m] = -c * im;
-      s[2 * m + 1] = c * re;
-    }
-    this.fft.inverse(s, out);
-  }
-  d1(f: Float64Array, out: Float64Array): void {
-    this.spectral(f, out, 1);
-  }
-  d3(f: Float64Array, out: Float64Array): void {
-    this.spectral(f, out, 3);
-  }
-  /** out = (H − e) f, H = k² + u */
-  shiftedH(u: Float64Array, e: number, f: Float64Array, out: Float64Array): void {
-    this.spectral(f, out, 2);
-    for (let j = 0; j < f.length; j++) out[j] += (u[j] - e) * f[j];
-  }
-  /** out = B_φ f = −½(φ Df + D(φ f)) (the real antisymmetric form of ½{φ, k} = iB_φ) */
-  anticommutator(phi: Float64Array, f: Float64Array, out: Float64Array): void {
-    const t = this.tmp;
-    for (let j = 0; j < f.length; j++) t[j] = phi[j] * f[j];
-    this.d1(t, out);
-    this.d1(f, t);
-    for (let j = 0; j < f.length; j++) out[j] = -0.5 * (out[j] + phi[j] * t[j]);
-  }
-}
-
 function dot(a: Float64Array, b: Float64Array): number {
   let s = 0;
   for (let j = 0; j < a.length; j++) s += a[j] * b[j];
@@ -216,7 +158,7 @@ function projectOut(f: Float64Array, block: readonly Float64Array[]): void {
 /** subspace weights: equal (1/M), or Boltzmann e^{−(E_m − E_0)/T} normalised on the M levels */
 export function subspaceWeights(energies: readonly number[], temperature?: number): number[] {
   if (temperature === undefined) return energies.map(() => 1 / energies.length);
-  if (!(Number.isFinite(temperature) && temperature > 0)) throw new UserError(`variational: temperature = ${temperature} is not allowed: must be a finite number > 0 (E₀)`);
+  if (!(Number.isFinite(temperature) && temperature > 0)) throw new RangeError(`variational: temperature = ${temperature} is not allowed: must be a finite number > 0 (E₀)`);
   const raw = energies.map((e) => Math.exp(-(e - energies[0]) / temperature));
   const z = raw.reduce((p, q) => p + q, 0);
   return raw.map((w) => w / z);
@@ -233,7 +175,7 @@ export interface SubspaceBasis {
 /** lowest M levels of k² + u with their degenerate blocks (M + BLOCK_MARGIN levels are computed) */
 export function subspaceOf(grid: Grid, u: Float64Array, states: number, method?: EigenMethod): SubspaceBasis {
   if (!Number.isInteger(states) || states < 1 || states + BLOCK_MARGIN > grid.n) {
-    throw new UserError(`variational: states = ${states} is not allowed: must be an integer in 1 … ${grid.n - BLOCK_MARGIN}`);
+    throw new RangeError(`variational: states = ${states} is not allowed: must be an integer in 1 … ${grid.n - BLOCK_MARGIN}`);
   }
   const eig = lowestEigenpairs(grid, u, states + BLOCK_MARGIN, { method });
   const groups = groupDegenerate(eig.energies, DEGENERACY_TOL);
@@ -260,7 +202,7 @@ interface GaugeSystem {
 function gaugeSystem(grid: Grid, u: Float64Array, uLambda: Float64Array, sub: SubspaceBasis, weights: readonly number[], legendre: readonly Float64Array[]): GaugeSystem {
   const n = grid.n;
   const M = sub.vectors.length;
-  if (weights.length !== M) throw new Error(`variational: ${weights.length} weights for ${M} states`);
+  if (weights.length !== M) throw new RangeError(`variational: ${weights.length} weights for ${M} states`);
   const ops = new RealGridOperators(grid);
   const ones = new Float64Array(n).fill(1);
   const phis: Float64Array[] = [u, ones, ...legendre];
@@ -409,8 +351,8 @@ export function defaultStates(grid: Grid, u0: Float64Array, method?: EigenMethod
  */
 export function variationalFit(grid: Grid, lambda: readonly number[], frames: readonly Float64Array[], opts: VariationalOptions = {}, rates?: readonly Float64Array[]): VariationalFit {
   const K = opts.legendre ?? LEGENDRE_TERMS;
-  if (!Number.isInteger(K) || K < 1) throw new UserError(`variational: legendre = ${K} is not allowed: must be an integer ≥ 1`);
-  if (frames.length < 2) throw new UserError(`variational: ${frames.length} frame(s) given, at least 2 are needed for ∂_λV`);
+  if (!Number.isInteger(K) || K < 1) throw new RangeError(`variational: legendre = ${K} is not allowed: must be an integer ≥ 1`);
+  if (frames.length < 2) throw new RangeError(`variational: ${frames.length} frame(s) given, at least 2 are needed for ∂_λV`);
   const states = opts.states ?? defaultStates(grid, frames[0], opts.eigenMethod);
   const r = rates ?? lambdaDerivatives(lambda, frames, Math.min(STENCIL_WIDTH, frames.length)).rates;
   const legendre = legendreTable(grid, K);

@@ -4,12 +4,9 @@
  * inserted as markup after a check that they are plain SVG (no script, no foreignObject, no external refs).
  */
 import { UserError } from '../core/errors.ts';
+import type { SummaryRow } from '../io/formats/read.ts';
 
-export interface SummaryRow {
-  key: string;
-  value: string | number;
-  unit?: string;
-}
+export type { SummaryRow };
 
 export interface ReportFigure {
   id: string;
@@ -79,10 +76,10 @@ dl.provenance dd { margin: 0; font-family: monospace; }
 
 /** Strip an XML declaration if present and check the figure is inert SVG markup. */
 function checkSvg(id: string, svg: string): string {
-  if (typeof svg !== 'string') throw new UserError(`figures[${JSON.stringify(id)}].svg must be a string`);
+  if (typeof svg !== 'string') throw new RangeError(`figures[${JSON.stringify(id)}].svg must be a string`);
   const body = svg.replace(/^\s*<\?xml[^>]*\?>\s*/, '').trim();
   if (!body.startsWith('<svg') || !body.endsWith('</svg>')) {
-    throw new UserError(`figures[${JSON.stringify(id)}].svg must be one <svg>…</svg> element, got ${JSON.stringify(body.slice(0, 40))}`);
+    throw new RangeError(`figures[${JSON.stringify(id)}].svg must be one <svg>…</svg> element, got ${JSON.stringify(body.slice(0, 40))}`);
   }
   for (const re of FORBIDDEN_SVG) {
     if (re.test(body)) throw new UserError(`figures[${JSON.stringify(id)}].svg contains forbidden markup matching ${re}; only inert SVG is allowed`);
@@ -92,21 +89,22 @@ function checkSvg(id: string, svg: string): string {
 
 /**
  * Render the report page. Sections: title, summary table, warnings (if any), figures (numbered, with
- * captions), configuration (verbatim, escaped) and provenance.
+ * captions), configuration (verbatim, escaped) and provenance. Malformed input is a caller's mistake
+ * (RangeError); active SVG content and figure ids outside the allowed pattern are refused with a UserError.
  */
 export function renderReport(r: ReportInput): string {
-  if (typeof r.title !== 'string') throw new UserError(`report.title must be a string, got ${JSON.stringify(r.title)}`);
+  if (typeof r.title !== 'string') throw new RangeError(`report.title must be a string, got ${JSON.stringify(r.title)}`);
   const ids = new Set<string>();
   for (const f of r.figures) {
     if (typeof f.id !== 'string' || !FIGURE_ID.test(f.id)) {
       throw new UserError(`figure id ${JSON.stringify(f.id)} is not allowed; use a letter followed by letters, digits, '-' or '_'`);
     }
-    if (ids.has(f.id)) throw new UserError(`figure id ${JSON.stringify(f.id)} is used twice; ids must be unique`);
+    if (ids.has(f.id)) throw new RangeError(`figure id ${JSON.stringify(f.id)} is used twice; ids must be unique`);
     ids.add(f.id);
   }
   const p = r.provenance;
   if (!Number.isFinite(p.runSeconds) || p.runSeconds < 0) {
-    throw new UserError(`provenance.runSeconds must be a finite number ≥ 0, got ${p.runSeconds}`);
+    throw new RangeError(`provenance.runSeconds must be a finite number ≥ 0, got ${p.runSeconds}`);
   }
   const out: string[] = [];
   out.push('<!DOCTYPE html>');

@@ -52,10 +52,10 @@ function chunk(type: string, data: Uint8Array): Uint8Array {
  */
 export function encodePngRgba(width: number, height: number, rgba: Uint8Array): Uint8Array {
   if (!Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) {
-    throw new Error(`encodePngRgba: bad size ${width}×${height}`);
+    throw new RangeError(`encodePngRgba: bad size ${width}×${height}`);
   }
   if (rgba.length !== width * height * 4) {
-    throw new Error(`encodePngRgba: expected ${width * height * 4} bytes, got ${rgba.length}`);
+    throw new RangeError(`encodePngRgba: expected ${width * height * 4} bytes, got ${rgba.length}`);
   }
   const ihdr = new Uint8Array(13);
   const hv = new DataView(ihdr.buffer);

@@ -77,7 +77,7 @@ export type RGB = readonly [number, number, number]; // 0..255 each
 
 export function hexToRgb(hex: string): RGB {
   const m = /^#?([0-9a-fA-F]{6})$/.exec(hex);
-  if (!m) throw new Error(`hexToRgb: not a #rrggbb colour: ${hex}`);
+  if (!m) throw new RangeError(`hexToRgb: not a #rrggbb colour: ${hex}`);
   const v = parseInt(m[1], 16);
   return [(v >> 16) & 255, (v >> 8) & 255, v & 255];
 }
@@ -134,7 +134,7 @@ const VIRIDIS_RGB: readonly RGB[] = VIRIDIS_CONTROL_HEX.map(hexToRgb);
  * between the control points above. Non-finite t is an error: callers handle missing data themselves.
  */
 export function viridisRgb(t: number): [number, number, number] {
-  if (!Number.isFinite(t)) throw new Error(`viridis: t must be finite, got ${t}`);
+  if (!Number.isFinite(t)) throw new RangeError(`viridis: t must be finite, got ${t}`);
   const s = Math.min(1, Math.max(0, t)) * VIRIDIS_TABLE_LAST;
   let k = 0;
   while (k < VIRIDIS_CONTROL_INDEX.length - 2 && VIRIDIS_CONTROL_INDEX[k + 1] < s) k++;

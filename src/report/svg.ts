@@ -1,18 +1,10 @@
 /**
  * Internal SVG building blocks shared by the figure primitives: document set-up on d3-node's jsdom, safe number
- * formatting (never "NaN"/"Infinity"), axes with d3 scales, legends, text and serialisation to a standalone
- * SVG string.
+ * formatting (never "NaN"/"Infinity"), axes with d3 scales, text and serialisation to a standalone SVG string.
  */
 import { D3Node } from 'd3-node';
 import type { ContinuousScale, D3Module, D3Selection } from 'd3-node';
-import {
-  FONT_FAMILY,
-  FONT_PT,
-  STROKE,
-  estimateTextWidthPx,
-  pxToMm,
-  ptToPx,
-} from './style.ts';
+import { FONT_FAMILY, FONT_PT, STROKE, estimateTextWidthPx, pxToMm, ptToPx } from './style.ts';
 
 export const SVG_NS = 'http://www.w3.org/2000/svg';
 export const XLINK_NS = 'http://www.w3.org/1999/xlink';
@@ -29,7 +21,7 @@ const ID_PLACEHOLDER = '__ISOTRAP_ID__';
 
 /** Format a pixel coordinate; throws on non-finite values so that NaN/Infinity can never reach the SVG. */
 export function px(v: number): string {
-  if (!Number.isFinite(v)) throw new Error(`internal: non-finite coordinate ${v}`);
+  if (!Number.isFinite(v)) throw new RangeError(`non-finite coordinate ${v}`);
   const r = Number(v.toFixed(PX_DECIMALS));
   return String(Object.is(r, -0) ? 0 : r);
 }
@@ -214,6 +206,19 @@ export function tickLabelWidth(label: string): number {
 export type AxisSide = 'bottom' | 'left' | 'right';
 
 /**
+ * One <g class="tick"> per tick at a finite position (data-value, data-pos), handed to `draw` with the tick's
+ * pixel position and mark length (minor ticks are 0.6 as long).
+ */
+function eachTick(g: D3Selection, scale: ContinuousScale, ticks: Tick[], draw: (tg: D3Selection, t: Tick, p: number, len: number) => void): void {
+  for (const t of ticks) {
+    const p = scale(t.value);
+    if (!Number.isFinite(p)) continue;
+    const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
+    draw(tg, t, p, t.major ? TICK_LEN : TICK_LEN * 0.6);
+  }
+}
+
+/**
  * Draw an axis line with ticks and labels along one side of `plot`. Each tick is a <g class="tick"> with
  * data-value (the data coordinate) and data-pos (the pixel coordinate along the axis), so tests can recover
  * the mapping. Returns the extent (px) the tick labels occupy away from the axis.
@@ -239,17 +244,13 @@ export function drawAxis(
       .attr('d', `M${px(Math.min(r0, r1))},${px(y)}H${px(Math.max(r0, r1))}`)
       .attr('stroke', '#000000')
       .attr('stroke-width', px(STROKE.axis));
-    for (const t of ticks) {
-      const p = scale(t.value);
-      if (!Number.isFinite(p)) continue;
-      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
-      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+    eachTick(g, scale, ticks, (tg, t, p, len) => {
       tg.append('path').attr('d', `M${px(p)},${px(y)}v${px(len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
       if (t.label) {
         const tt = addText(tg, '', p, y + TICK_LEN + TICK_GAP + ptToPx(FONT_PT.tick) * 0.8, FONT_PT.tick, { anchor: 'middle' });
         writeTickLabel(tt, t.label);
       }
-    }
+    });
     addText(g, label, (Math.min(r0, r1) + Math.max(r0, r1)) / 2, y + labelOffset, FONT_PT.label, { anchor: 'middle', cls: 'axis-label' });
   } else {
     const x = side === 'left' ? x0 : x0 + plot.width;
@@ -259,11 +260,7 @@ export function drawAxis(
       .attr('d', `M${px(x)},${px(Math.min(r0, r1))}V${px(Math.max(r0, r1))}`)
       .attr('stroke', '#000000')
       .attr('stroke-width', px(STROKE.axis));
-    for (const t of ticks) {
-      const p = scale(t.value);
-      if (!Number.isFinite(p)) continue;
-      const tg = g.append('g').attr('class', t.major ? 'tick' : 'tick minor').attr('data-value', dataNum(t.value)).attr('data-pos', px(p));
-      const len = t.major ? TICK_LEN : TICK_LEN * 0.6;
+    eachTick(g, scale, ticks, (tg, t, p, len) => {
       tg.append('path').attr('d', `M${px(x)},${px(p)}h${px(dir * len)}`).attr('stroke', '#000000').attr('stroke-width', px(STROKE.axis));
       if (t.label) {
         const tt = addText(tg, '', x + dir * (TICK_LEN + TICK_GAP), p + ptToPx(FONT_PT.tick) * 0.35, FONT_PT.tick, {
@@ -271,7 +268,7 @@ export function drawAxis(
         });
         writeTickLabel(tt, t.label);
       }
-    }
+    });
     const cy = (Math.min(r0, r1) + Math.max(r0, r1)) / 2;
     // rotated by −90°, glyphs extend towards −x from the baseline: on the right side shift by one em
     const lx = side === 'left' ? x - labelOffset : x + labelOffset + ptToPx(FONT_PT.label) * 0.75;
@@ -297,261 +294,4 @@ export function sideAxisWidth(ticks: Tick[]): number {
 export function sideLabelOffset(ticks: Tick[]): number {
   const w = ticks.reduce((m, t) => Math.max(m, t.label ? tickLabelWidth(t.label) : 0), 0);
   return TICK_LEN + TICK_GAP + w + 4 + ptToPx(FONT_PT.label) * 0.3;
-}
-
-// ---------------------------------------------------------------------------------------------------------
-// Legend
-
-export interface LegendEntry {
-  name: string;
-  color: string;
-  dash: string;
-  kind: 'line' | 'box';
-  marker?: boolean;
-  halo?: boolean;
-}
-
-const LEGEND_SAMPLE = 18; // px length of the line sample
-const LEGEND_PAD = 3; // px padding inside the legend box
-const LEGEND_GAP = 4; // px between sample and text, and between columns
-
-export function legendRowHeight(): number {
-  return ptToPx(FONT_PT.legend) * 1.35;
-}
-
-export function legendEntryWidth(e: LegendEntry): number {
-  return LEGEND_SAMPLE + LEGEND_GAP + estimateTextWidthPx(e.name, FONT_PT.legend);
-}
-
-/** Size of a one-column legend box. */
-export function legendBoxSize(entries: LegendEntry[]): { w: number; h: number } {
-  const w = entries.reduce((m, e) => Math.max(m, legendEntryWidth(e)), 0) + 2 * LEGEND_PAD;
-  const h = entries.length * legendRowHeight() + 2 * LEGEND_PAD;
-  return { w, h };
-}
-
-/** Layout for a legend placed outside the plot in rows of equal-width columns that fit `availWidth`. */
-export function legendGridSize(entries: LegendEntry[], availWidth: number): { w: number; h: number; cols: number; colW: number } {
-  const colW = entries.reduce((m, e) => Math.max(m, legendEntryWidth(e)), 0) + LEGEND_GAP * 2;
-  const cols = Math.max(1, Math.min(entries.length, Math.floor((availWidth - 2 * LEGEND_PAD) / colW)));
-  const rows = Math.ceil(entries.length / cols);
-  return { w: cols * colW + 2 * LEGEND_PAD, h: rows * legendRowHeight() + 2 * LEGEND_PAD, cols, colW };
-}
-
-/**
- * Draw a legend at (x, y) (top-left of the box), `cols` columns of width `colW`. The group carries
- * data-x/y/width/height (its box in px) and data-placement.
- */
-export function drawLegend(
-  parent: D3Selection,
-  entries: LegendEntry[],
-  x: number,
-  y: number,
-  box: { w: number; h: number },
-  cols: number,
-  colW: number,
-  placement: string,
-  framed: boolean,
-): void {
-  const g = parent
-    .append('g')
-    .attr('class', 'legend')
-    .attr('data-placement', placement)
-    .attr('data-x', px(x))
-    .attr('data-y', px(y))
-    .attr('data-width', px(box.w))
-    .attr('data-height', px(box.h));
-  if (framed) {
-    g.append('rect')
-      .attr('x', px(x))
-      .attr('y', px(y))
-      .attr('width', px(box.w))
-      .attr('height', px(box.h))
-      .attr('fill', '#ffffff')
-      .attr('fill-opacity', '0.85')
-      .attr('stroke', '#bbbbbb')
-      .attr('stroke-width', px(STROKE.grid));
-  }
-  const rh = legendRowHeight();
-  entries.forEach((e, i) => {
-    const c = i % cols;
-    const r = Math.floor(i / cols);
-    const ex = x + LEGEND_PAD + c * colW;
-    const cy = y + LEGEND_PAD + r * rh + rh / 2;
-    const eg = g.append('g').attr('class', 'legend-entry').attr('data-series', e.name);
-    if (e.kind === 'line') {
-      if (e.halo) {
-        eg.append('path')
-          .attr('d', `M${px(ex)},${px(cy)}h${px(LEGEND_SAMPLE)}`)
-          .attr('stroke', '#ffffff')
-          .attr('stroke-width', px(STROKE.halo));
-      }
-      const p = eg
-        .append('path')
-        .attr('d', `M${px(ex)},${px(cy)}h${px(LEGEND_SAMPLE)}`)
-        .attr('stroke', e.color)
-        .attr('stroke-width', px(STROKE.data));
-      if (e.dash) p.attr('stroke-dasharray', e.dash);
-      if (e.marker) {
-        eg.append('circle').attr('cx', px(ex + LEGEND_SAMPLE / 2)).attr('cy', px(cy)).attr('r', '1.8').attr('fill', e.color);
-      }
-    } else {
-      eg.append('rect')
-        .attr('x', px(ex + 4))
-        .attr('y', px(cy - rh * 0.32))
-        .attr('width', px(LEGEND_SAMPLE - 8))
-        .attr('height', px(rh * 0.64))
-        .attr('fill', e.color)
-        .attr('stroke', '#000000')
-        .attr('stroke-width', px(STROKE.grid));
-    }
-    addText(eg, e.name, ex + LEGEND_SAMPLE + LEGEND_GAP, cy + ptToPx(FONT_PT.legend) * 0.35, FONT_PT.legend);
-  });
-}
-
-// ---------------------------------------------------------------------------------------------------------
-// Paths
-
-export interface PathResult {
-  d: string;
-  segments: number;
-  points: number;
-  /** Pixel segments (x0,y0,x1,y1 interleaved) for overlap tests during layout; isolated points repeat. */
-  pixelSegments: number[];
-  extremes: { xmin: number; xmax: number; ymin: number; ymax: number };
-  decimated: boolean;
-}
-
-/**
- * Build an SVG path from data, breaking it into separate subpaths (new "M") at every point that cannot be
- * plotted (non-finite x or y, or y ≤ 0 on a log axis). When x is non-decreasing and there are more than
- * `maxPerPx` points per pixel column, keeps per pixel column the first, minimum, maximum and last point in
- * order (min/max decimation), which preserves every extreme exactly.
- */
-export function buildPath(
-  x: ArrayLike<number>,
-  y: ArrayLike<number>,
-  sx: ContinuousScale,
-  sy: ContinuousScale,
-  plottable: (xv: number, yv: number) => boolean,
-  widthPx: number,
-  maxPerPx = 4,
-): PathResult {
-  const n = Math.min(x.length, y.length);
-  let monotone = true;
-  let prev = -Infinity;
-  let finiteCount = 0;
-  const ext = { xmin: Infinity, xmax: -Infinity, ymin: Infinity, ymax: -Infinity };
-  for (let i = 0; i < n; i++) {
-    const xv = x[i];
-    const yv = y[i];
-    if (!plottable(xv, yv)) continue;
-    finiteCount++;
-    if (xv < prev) monotone = false;
-    prev = xv;
-    if (xv < ext.xmin) ext.xmin = xv;
-    if (xv > ext.xmax) ext.xmax = xv;
-    if (yv < ext.ymin) ext.ymin = yv;
-    if (yv > ext.ymax) ext.ymax = yv;
-  }
-  const decimate = monotone && finiteCount > maxPerPx * widthPx;
-  const parts: string[] = [];
-  const segs: number[] = [];
-  let segments = 0;
-  let points = 0;
-  let open = false;
-  let lastX = 0;
-  let lastY = 0;
-  const emit = (X: number, Y: number): void => {
-    if (!open) {
-      parts.push(`M${px(X)},${px(Y)}`);
-      segments++;
-      open = true;
-      segs.push(X, Y, X, Y);
-    } else {
-      parts.push(`L${px(X)},${px(Y)}`);
-      segs.push(lastX, lastY, X, Y);
-    }
-    lastX = X;
-    lastY = Y;
-    points++;
-  };
-  if (!decimate) {
-    for (let i = 0; i < n; i++) {
-      const xv = x[i];
-      const yv = y[i];
-      if (!plottable(xv, yv)) {
-        open = false;
-        continue;
-      }
-      emit(sx(xv), sy(yv));
-    }
-  } else {
-    // Bucket by integer pixel column; within a run of plottable points flush at column change or break.
-    let col = NaN;
-    let iFirst = -1;
-    let iMin = -1;
-    let iMax = -1;
-    let iLast = -1;
-    const flush = (): void => {
-      if (iFirst < 0) return;
-      const idx = [iFirst, iMin, iMax, iLast].sort((a, b) => a - b);
-      let last = -1;
-      for (const k of idx) {
-        if (k === last) continue;
-        last = k;
-        emit(sx(x[k]), sy(y[k]));
-      }
-      iFirst = iMin = iMax = iLast = -1;
-    };
-    for (let i = 0; i < n; i++) {
-      const xv = x[i];
-      const yv = y[i];
-      if (!plottable(xv, yv)) {
-        flush();
-        open = false;
-        col = NaN;
-        continue;
-      }
-      const c = Math.floor(sx(xv));
-      if (c !== col) {
-        flush();
-        col = c;
-      }
-      if (iFirst < 0) {
-        iFirst = iMin = iMax = i;
-      } else {
-        if (yv < y[iMin]) iMin = i;
-        if (yv > y[iMax]) iMax = i;
-      }
-      iLast = i;
-    }
-    flush();
-  }
-  return { d: parts.join(''), segments, points, pixelSegments: segs, extremes: ext, decimated: decimate };
-}
-
-/** True if segment (x0,y0)-(x1,y1) intersects the axis-aligned rectangle (Liang–Barsky clipping test). */
-export function segmentHitsRect(x0: number, y0: number, x1: number, y1: number, r: { x: number; y: number; w: number; h: number }): boolean {
-  let t0 = 0;
-  let t1 = 1;
-  const dx = x1 - x0;
-  const dy = y1 - y0;
-  const p = [-dx, dx, -dy, dy];
-  const q = [x0 - r.x, r.x + r.w - x0, y0 - r.y, r.y + r.h - y0];
-  for (let i = 0; i < 4; i++) {
-    if (p[i] === 0) {
-      if (q[i] < 0) return false;
-    } else {
-      const t = q[i] / p[i];
-      if (p[i] < 0) {
-        if (t > t1) return false;
-        if (t > t0) t0 = t;
-      } else {
-        if (t < t0) return false;
-        if (t < t1) t1 = t;
-      }
-    }
-  }
-  return true;
 }

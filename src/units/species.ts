@@ -39,7 +39,9 @@ export const SPECIES_NAMES = Object.keys(SPECIES) as SpeciesName[];
 
 /** every name accepted where a species is asked for: the table plus 'custom' (mass supplied in u) */
 export type SpeciesChoice = SpeciesName | 'custom';
-export const SPECIES_CHOICES = [...SPECIES_NAMES, 'custom'] as unknown as readonly [SpeciesChoice, ...SpeciesChoice[]];
+const [FIRST_SPECIES, ...OTHER_SPECIES] = SPECIES_NAMES;
+/** the tabulated species, then 'custom': a non-empty tuple, as enum schemas need */
+export const SPECIES_CHOICES: readonly [SpeciesChoice, ...SpeciesChoice[]] = [FIRST_SPECIES, ...OTHER_SPECIES, 'custom'];
 
 export function isSpeciesName(name: string): name is SpeciesName {
   return Object.prototype.hasOwnProperty.call(SPECIES, name);

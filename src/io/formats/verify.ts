@@ -1,0 +1,90 @@
+/**
+ * verify.json, written by `isotrap verify` (jobs/verify.ts): fidelities and excess energies of the tracked states
+ * with and without the cubic counterdiabatic correction, ensemble summaries, the correction's size and the
+ * layout of traces.npy. Units as named in `units`.
+ */
+import { z } from 'zod';
+import { RAMP_KINDS } from '../../protocol/ramp.ts';
+import type { VerifyResult } from '../../quantum/verify.ts';
+import { num, nums, readFormat, str, summaryRowSchema, type SummaryRow } from './read.ts';
+
+export const VERIFY_FORMAT = 'isotrap-verify/1';
+
+export interface VerifyFile {
+  format: 'isotrap-verify/1';
+  units: { energy: string; time: string; length: string; temperature: string };
+  protocol: { duration: number; ramp: string; lambda_end: number; duration_natural: number };
+  eigen: VerifyResult['eigen'];
+  bound_states: number;
+  isospectral_drift: number;
+  states: {
+    index: number;
+    energy: number;
+    energy_start: number;
+    energy_end: number;
+    degeneracy: number;
+    fidelity_cd: number;
+    fidelity_bare: number;
+    excess_cd: number;
+    excess_bare: number;
+  }[];
+  thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; mean_excess_cd: number; mean_excess_bare: number; tail_weight: number; definition: string };
+  fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number; fermi_level_cuts_group: boolean };
+  cd_strength: {
+    unit: string;
+    occupied: number;
+    max_total: number;
+    max_cubic: number;
+    max_potential: number;
+    at_time: number;
+    definition: string;
+    samples: { time: number[]; cubic: number[]; potential: number[]; total: number[]; definition: string };
+  };
+  classical: null | { lambda_break: number; lambda_reached: number; time_reached: number; fidelity: number[]; note: string };
+  propagation: Record<string, { steps: number; rejected: number; matvecs: number; scheme: string; norm_drift: number; seconds: number; estimated_amplitude_error: number }>;
+  traces: { file: string; times: number[]; rows: { drive: string; state: number }[] };
+  accepted: boolean;
+  acceptance: string;
+  seconds: number;
+  warnings: string[];
+  summary_rows: SummaryRow[];
+}
+
+const verifySchema: z.ZodType<VerifyFile> = z.object({
+  format: z.literal(VERIFY_FORMAT),
+  units: z.object({ energy: str, time: str, length: str, temperature: str }),
+  protocol: z.object({ duration: num, ramp: z.enum(RAMP_KINDS), lambda_end: num, duration_natural: num }),
+  eigen: z.object({ method: str, detail: str, maxResidual: num, residualTol: num, wallMs: num }),
+  bound_states: num,
+  isospectral_drift: num,
+  states: z.array(
+    z.object({ index: num, energy: num, energy_start: num, energy_end: num, degeneracy: num, fidelity_cd: num, fidelity_bare: num, excess_cd: num, excess_bare: num }),
+  ),
+  thermal: z
+    .object({ temperature: num, unit: str, fidelity_cd: num, fidelity_bare: num, mean_excess_cd: num, mean_excess_bare: num, tail_weight: num, definition: str })
+    .nullable(),
+  fermions: z.object({ count: num, fidelity_cd: num, fidelity_bare: num, fermi_level_cuts_group: z.boolean() }).nullable(),
+  cd_strength: z.object({
+    unit: str,
+    occupied: num,
+    max_total: num,
+    max_cubic: num,
+    max_potential: num,
+    at_time: num,
+    definition: str,
+    samples: z.object({ time: nums, cubic: nums, potential: nums, total: nums, definition: str }),
+  }),
+  classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
+  propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),
+  traces: z.object({ file: str, times: nums, rows: z.array(z.object({ drive: str, state: num })) }),
+  accepted: z.boolean(),
+  acceptance: str,
+  seconds: num,
+  warnings: z.array(str),
+  summary_rows: z.array(summaryRowSchema),
+});
+
+/** Read and validate verify.json (UserError naming the file and the key otherwise). */
+export function readVerifyFile(path: string): VerifyFile {
+  return readFormat(path, verifySchema, VERIFY_FORMAT, 'verify');
+}

@@ -1,0 +1,88 @@
+/**
+ * Figures of a verification (verify.json + traces.npy): infidelity against time with and without the cubic
+ * correction, excess energies per state, ensemble infidelities and the size of the correction against time.
+ */
+import type { VerifyFile } from '../../io/formats/verify.ts';
+import { barChart } from '../bar-chart.ts';
+import type { ReportFigure } from '../html.ts';
+import { lineChart } from '../line-chart.ts';
+import type { FrameArray } from './design.ts';
+
+/** states shown in the fidelity figure (legibility: 2 drives × 4 states = 8 series, one palette) */
+export const FIDELITY_FIGURE_STATES = 4;
+/** infidelities are floored here on the log axis: round-off of a unit vector after many FFTs */
+export const INFIDELITY_FLOOR = 1e-16;
+
+/** infidelity traces of the lowest FIDELITY_FIGURE_STATES states (both drives; traces.npy holds them all) */
+function fidelityFigure(v: VerifyFile, traces: FrameArray): ReportFigure {
+  const [nR, nT] = traces.shape;
+  const series = v.traces.rows
+    .slice(0, nR)
+    .map((r, i) => ({ r, i }))
+    .filter(({ r }) => r.state < FIDELITY_FIGURE_STATES)
+    .map(({ r, i }) => ({
+      name: `${r.drive === 'cd' ? 'with correction' : 'bare'}, n=${r.state}`,
+      x: v.traces.times,
+      y: Array.from(traces.data.subarray(i * nT, (i + 1) * nT), (f) => Math.max(1 - f, INFIDELITY_FLOOR)),
+      dashed: r.drive !== 'cd',
+    }));
+  return {
+    id: 'fidelity',
+    caption: `Infidelity 1 − F(t) of the lowest ${FIDELITY_FIGURE_STATES} tracked eigenstates: with the cubic counterdiabatic correction (solid) and with the bare drive (dashed). F is the weight in the instantaneous (degenerate) eigenspace; values are floored at ${INFIDELITY_FLOOR}.`,
+    svg: lineChart({ xLabel: `time t (${v.units.time})`, yLabel: 'infidelity 1 − F', series, logY: true, width: 'double' }),
+  };
+}
+
+/** thermal-ensemble and Fermi-sea infidelities (null when verify computed neither) */
+function ensemblesFigure(v: VerifyFile): ReportFigure | null {
+  const ens: { label: string; values: { name: string; value: number }[] }[] = [];
+  if (v.thermal) ens.push({ label: `thermal ${v.thermal.temperature} ${v.thermal.unit}`, values: [{ name: 'cd', value: 1 - v.thermal.fidelity_cd }, { name: 'bare', value: 1 - v.thermal.fidelity_bare }] });
+  if (v.fermions) ens.push({ label: `Fermi sea N=${v.fermions.count}`, values: [{ name: 'cd', value: 1 - v.fermions.fidelity_cd }, { name: 'bare', value: 1 - v.fermions.fidelity_bare }] });
+  if (ens.length === 0) return null;
+  return {
+    id: 'ensembles',
+    caption: 'Infidelity of the thermal ensemble and of the filled Fermi sea after the ramp, with and without the correction.',
+    svg: barChart({ xLabel: 'ensemble', yLabel: 'infidelity 1 − F', groups: ens, logY: true, width: 'single' }),
+  };
+}
+
+/** |λ̇|·‖A‖ against time, split into its p³ and potential parts (null without samples) */
+function correctionFigure(v: VerifyFile): ReportFigure | null {
+  const s = v.cd_strength.samples;
+  if (!(s.time.length > 1)) return null;
+  return {
+    id: 'correction',
+    caption: `Size of the counterdiabatic correction |λ̇|·‖A‖ on the occupied low-energy subspace against time, split into the p³ part and the potential-weighted momentum part (${v.cd_strength.unit}).`,
+    svg: lineChart({
+      xLabel: `time t (${v.units.time})`,
+      yLabel: `correction strength (${v.cd_strength.unit})`,
+      series: [
+        { name: 'p³ part', x: s.time, y: s.cubic },
+        { name: '{V, p} part', x: s.time, y: s.potential, dashed: true },
+        { name: 'total', x: s.time, y: s.total },
+      ],
+      width: 'single',
+    }),
+  };
+}
+
+export function verifyFigures(v: VerifyFile, traces: FrameArray | null): ReportFigure[] {
+  const figures: ReportFigure[] = [];
+  if (traces && v.traces.rows.length > 0) figures.push(fidelityFigure(v, traces));
+  figures.push({
+    id: 'excess',
+    caption: `Excess energy ⟨H_final⟩ − E_final of each state after the ramp, with and without the correction (${v.units.energy}).`,
+    svg: barChart({
+      xLabel: 'state n',
+      yLabel: `excess energy (${v.units.energy})`,
+      groups: v.states.map((s) => ({ label: `n=${s.index}`, values: [{ name: 'cd', value: Math.abs(s.excess_cd) }, { name: 'bare', value: Math.abs(s.excess_bare) }] })),
+      logY: true,
+      width: 'single',
+    }),
+  });
+  const ens = ensemblesFigure(v);
+  if (ens) figures.push(ens);
+  const corr = correctionFigure(v);
+  if (corr) figures.push(corr);
+  return figures;
+}
