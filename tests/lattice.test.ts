@@ -12,7 +12,8 @@ import {
   latticeCubic,
   type LatticeTerms,
 } from '../src/lattice/operators.ts';
-import { complexOf, LatticePropagator, overlap2 } from '../src/lattice/propagate.ts';
+import { complexFromReal as complexOf, overlap2 } from '../src/linalg/complex.ts';
+import { LatticePropagator } from '../src/lattice/propagate.ts';
 import { chainSites, LatticeSequence, TrigSampler } from '../src/lattice/sequence.ts';
 import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';

@@ -19,7 +19,8 @@
 import type { Grid } from '../spectral/grid.ts';
 import { intervalIndex } from '../spectral/ops.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
-import { complexFromReal, SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts';
+import { complexFromReal } from '../linalg/complex.ts';
+import { SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type ThermalSummary } from '../quantum/observables.ts';
 import { Propagator, type DrivenHamiltonian, type Scheme } from '../quantum/propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
@@ -103,20 +104,6 @@ export function correctionDrive(grid: Grid, seq: SequenceInterpolant, schedule: 
     const ci = schedule.coefficients[i], cj = schedule.coefficients[j];
     for (let c = 0; c < theta.length; c++) theta[c] = (1 - t) * ci[c] + t * cj[c];
   };
-  // ∫ a dλ of the piecewise-linear a(λ): cumulative values at the knots
-  const cum: number[] = [0];
-  if (schedule) for (let i = 1; i < schedule.lambda.length; i++) cum.push(cum[i - 1] + 0.5 * (schedule.a[i] + schedule.a[i - 1]) * (schedule.lambda[i] - schedule.lambda[i - 1]));
-  const aIntegral = (lambda: number): number => {
-    if (!schedule) return 0;
-    const kn = schedule.lambda;
-    const last = kn.length - 1;
-    if (lambda <= kn[0]) return schedule.a[0] * (lambda - kn[0]);
-    if (lambda >= kn[last]) return cum[last] + schedule.a[last] * (lambda - kn[last]);
-    const { i } = locate(kn, lambda);
-    const h = kn[i + 1] - kn[i];
-    const d = lambda - kn[i];
-    return cum[i] + schedule.a[i] * d + (0.5 * (schedule.a[i + 1] - schedule.a[i]) * d * d) / h;
-  };
   return {
     grid,
     terms(s: number, out: OperatorTerms): void {
@@ -126,7 +113,6 @@ export function correctionDrive(grid: Grid, seq: SequenceInterpolant, schedule: 
       out.c1 = 0;
       out.c2 = 1;
       out.v = u;
-      out.kCut = Infinity;
       if (!schedule || rate === 0) {
         out.c3 = 0;
         out.w = null;
@@ -138,11 +124,6 @@ export function correctionDrive(grid: Grid, seq: SequenceInterpolant, schedule: 
       out.c3 = rate * aNow;
       out.w = g;
       out.b = 0.5 * rate;
-    },
-    kineticIntegral(sa: number, sb: number, out: Float64Array): void {
-      out[0] = 0;
-      out[1] = sb - sa;
-      out[2] = aIntegral(lambda0 + ramp.value(sb)) - aIntegral(lambda0 + ramp.value(sa));
     },
   };
 }

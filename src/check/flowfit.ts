@@ -36,7 +36,8 @@
  * independently, in any order or in worker threads.
  */
 import { NumericalError } from '../core/errors.ts';
-import { integrateFlow, naturalFlowEquation, type DenseFlow } from '../flow/kdv.ts';
+import type { DenseFlow } from '../flow/dense.ts';
+import { integrateFlow, naturalFlowEquation } from '../flow/kdv.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample } from '../spectral/ops.ts';

@@ -3,7 +3,7 @@
  * exact classical sequence sampled on a grid, a check of the pseudo-spectral Hopf run against it, and the
  * classical phase-space check of the cubic CD Hamiltonian (cd.ts) along both sequences.
  */
-import type { DenseFlow } from '../flow/kdv.ts';
+import type { DenseFlow } from '../flow/dense.ts';
 import type { Ramp } from '../protocol/ramp.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { CURVATURE_SAFETY, phaseSpaceCheck, suggestSteps, wellShape, type ShellStart, type TrajectoryReport } from './cd.ts';

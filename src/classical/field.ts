@@ -10,7 +10,7 @@
  *
  * Natural units throughout (physics.md §3).
  */
-import type { DenseFlow } from '../flow/kdv.ts';
+import type { DenseFlow } from '../flow/dense.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 

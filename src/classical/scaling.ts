@@ -12,7 +12,8 @@
  * ordinary least squares in log–log with the usual standard error of the slope (e.g. Press et al., Numerical
  * Recipes, 3rd ed. 2007, §15.2, with σ estimated from the residuals).
  */
-import { integrateFlow, type DenseFlow, type FlowEquation } from '../flow/kdv.ts';
+import type { DenseFlow } from '../flow/dense.ts';
+import { integrateFlow, type FlowEquation } from '../flow/kdv.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample } from '../spectral/ops.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';

@@ -20,7 +20,6 @@ import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DenseFlow } from './dense.ts';
 
-export { DenseFlow } from './dense.ts';
 
 /** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): four rungs per octave keeps the cache small and h/2 on it */
 export const LADDER_DIVISIONS = 4;

@@ -1,6 +1,6 @@
 /**
  * `check`: is a sequence from elsewhere admissible for exact cubic counterdiabatic driving (physics.md §2)?
- * Reads the sequence (check/sequence.ts), fits â, ĉ of (★) per frame (check/admissibility.ts), checks the
+ * Reads the sequence (io/external-sequence.ts), fits â, ĉ of (★) per frame (check/admissibility.ts), checks the
  * bound-state spectrum along the sequence, and integrates the repaired (admissible) sequence from the first
  * frame (check/repair.ts). Lab outputs: a = âℓ³/ħ² as a p³ coefficient (µm³/ħ² and SI s²/(kg²·m)), c = ĉℓ as
  * a velocity in length unit per unit λ. Exit codes for the CLI: 0 admissible, 1 not, 2 bad input (UserError).
@@ -11,12 +11,15 @@ import { encodeNpy } from '../io/npy.ts';
 import { UserError } from '../core/errors.ts';
 import { HBAR } from '../units/constants.ts';
 import { fitFrames, spectrumCheck, STENCIL_WIDTH, type FrameFit, type SpectrumCheck } from '../check/admissibility.ts';
-import { readSequence, type Sequence, type SequenceUnitsInput } from '../check/sequence.ts';
+import { readSequence, type Sequence, type SequenceUnitsInput } from '../io/external-sequence.ts';
+import { validateVariationalInput } from '../io/check-options.ts';
 import { repairSequence, REPAIR_TOLERANCE, type Repair, type RepairMode } from '../check/repair.ts';
 import { toJson } from './design.ts';
 import { variationalFit, type VariationalFit } from '../check/variational.ts';
 import { compareCorrections, cubicSchedule, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
 import type { RampKind } from '../protocol/ramp.ts';
+import type { CheckReport, FrameReport, VariationalReport } from '../io/formats/check.ts';
+export type { CheckReport, FrameReport, VariationalReport };
 
 /** opt-in: variational correction per frame and a side-by-side Schrödinger comparison (check/variational.ts, drive.ts) */
 export interface VariationalCheckOptions {
@@ -32,21 +35,6 @@ export interface VariationalCheckOptions {
   legendre?: number;
   /** infidelity budget of the time stepping (default 1e-8) */
   tol?: number;
-}
-
-export interface VariationalReport {
-  method: string;
-  basis: string[];
-  states: number;
-  temperature: number | null;
-  frames: { index: number; lambda: number; a_hat: number; coefficients: number[]; residual: number; g_max_support: number; g_max_box: number }[];
-  comparison: {
-    ramp: string;
-    duration: number;
-    interpolation: string;
-    states: { index: number; energy_start: number; energy_end: number }[];
-    drives: { label: string; fidelity: number[]; excess_energy: number[]; min_fidelity: number; thermal_fidelity: number | null; thermal_excess: number | null; steps: number }[];
-  };
 }
 
 /** default tolerance on the relative residual and the relative bound-state drift */
@@ -70,63 +58,6 @@ export interface CheckOptions {
   repair?: RepairMode;
   /** opt-in variational correction and comparison (adds `variational` to the report) */
   variational?: VariationalCheckOptions;
-}
-
-export interface FrameReport {
-  index: number;
-  lambda: number;
-  residual: number;
-  /** fitted a as a p³ coefficient: µm³/ħ² (lab) or ℓ³/ħ² (natural) */
-  a: number;
-  /** a in SI, s²/(kg²·m); null in natural units */
-  a_si: number | null;
-  /** c, length unit per unit λ */
-  c: number;
-  a_hat: number;
-  c_hat: number;
-  admissible: boolean;
-  /** max |E_n − median_n| over the compared levels, energy unit (null: spectrum not computed for this frame) */
-  spectral_drift: number | null;
-  /** the same relative to the ground-state depth |median_0| */
-  spectral_drift_relative: number | null;
-  bound_states: number | null;
-  stencil: [number, number];
-  lambda_resolution: number;
-  degenerate: boolean;
-  static: boolean;
-  reasons: string[];
-}
-
-export interface CheckReport {
-  format: 'isotrap-check/1';
-  input: string;
-  sidecar: string | null;
-  admissible: boolean;
-  tolerance: number;
-  frames: FrameReport[];
-  /** largest spread (max − min) of a bound-state energy along the sequence, energy unit */
-  spectral_drift: number;
-  spectral_drift_relative: number;
-  isospectral: boolean | null;
-  failures: string[];
-  units: {
-    length: string;
-    energy: string;
-    lambda: string;
-    a: string;
-    a_si: string | null;
-    c: string;
-    species: string | null;
-    mass_u: number | null;
-    length_unit_um: number | null;
-  };
-  fit: { a_median: number; c_median: number; a_hat_median: number; c_hat_median: number; stencil_width: number; method: string };
-  spectrum: { frames: number[]; lambda: number[]; energies: number[][]; reference: number[]; threshold: number; levels: number };
-  repaired: { mode: RepairMode; a: number[]; c: number[]; max_distance: number; relative_l2: number; frame_relative: number[]; tolerance: number; steps: number; files: string[] };
-  grid: { points: number; length: number; dx: number; x0: number };
-  warnings: string[];
-  /** present only when requested */
-  variational?: VariationalReport;
 }
 
 export interface CheckResult {
@@ -288,6 +219,7 @@ function variationalStep(seq: Sequence, fits: FrameFit[], vo: VariationalCheckOp
   const { grid, lambda, frames, system } = seq;
   if (!(Number.isFinite(vo.duration) && vo.duration > 0)) throw new UserError(`variational.duration = ${vo.duration} is not allowed: must be a finite number > 0 (${system.labels.time})`);
   const temp = vo.temperature !== undefined ? system.temperatureToNatural(vo.temperature) : undefined;
+  validateVariationalInput({ states: vo.states, temperature: temp, legendre: vo.legendre }, grid.n);
   const vfit = variationalFit(grid, lambda, frames, { states: vo.states, temperature: temp, legendre: vo.legendre });
   const comparison = compareCorrections({
     grid, lambda, frames, states: vfit.states, temperature: temp, duration: system.timeToNatural(vo.duration), ramp: vo.ramp, tol: vo.tol,

@@ -51,8 +51,10 @@ import { gridBreaking } from '../flow/breaking.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { driveWithCorrection } from '../quantum/correction.ts';
 import { scalesText, toJson } from './design.ts';
-import { compareFigures, writeFigures, type CompareFileLike } from './report.ts';
+import { compareFigures, writeFigures } from './report.ts';
 import { makeContext, type JobContext } from './context.ts';
+import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
+export type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson };
 
 /** a decade of δ below the config's own, five points evenly spaced in log δ */
 export const DEFAULT_SWEEP = [0.1, 0.1778, 0.3162, 0.5623, 1] as const;
@@ -114,107 +116,6 @@ export function loadCompareConfig(path: string): CompareConfig {
 
 // ---------------------------------------------------------------------------------------------------------
 // result
-
-/** per-drive quantum fidelities: filled by the Schrödinger side (src/quantum), not by runCompare */
-export interface DriveFidelity {
-  /** 'classical+cubic': Hopf sequence + cubic CD term; 'quantum+cubic': KdV sequence + the same term */
-  drive: 'classical+cubic' | 'quantum+cubic';
-  states: { index: number; energy: number; fidelity: number; excess_energy: number }[];
-}
-
-export interface QuantumConsequence {
-  status: 'pending' | 'done';
-  note: string;
-  drives: DriveFidelity[];
-}
-
-export interface TrajectoryJson {
-  shell_energy: number;
-  shell_fraction: number;
-  x0: number;
-  /** k₀ = p₀/ħ, per length unit */
-  k0: number;
-  classical: DriftJson;
-  quantum: DriftJson;
-}
-
-export interface DriftJson {
-  /** max_s |H₀ − H₀(0)| (energy unit) and its final value */
-  energy_drift: number;
-  energy_drift_final: number;
-  /** actions of the instantaneous orbit (units of ħ) and the largest relative change */
-  action_start: number | null;
-  action_end: number | null;
-  action_drift: number | null;
-}
-
-export interface CompareSummary {
-  format: 'isotrap-compare/1';
-  name: string;
-  species: string | null;
-  units: { length: string; energy: string; time: string; lambda: string; action: string };
-  scales: { E0: string; t0: string; ell: string };
-  depth: number;
-  width: number;
-  delta2: number;
-  lambda_end: number;
-  /** first breaking of the classical sequence from characteristics, 1/max(6∂ξu₀) (refined between points) */
-  breaking_lambda: number;
-  breaking: {
-    lambda_characteristics: number;
-    lambda_characteristics_grid: number;
-    position: number;
-    /** the classical sequence (characteristics) is used up to here: CLASSICAL_END_FRACTION λ_b or λ_end */
-    lambda_classical_end: number;
-    /** the pseudo-spectral Hopf run: last λ it resolved, its own breaking extrapolation and why it stopped */
-    lambda_spectral_reached: number;
-    lambda_spectral_extrapolated: number | null;
-    spectral_reason: string | null;
-  };
-  /** λ range on which both sequences exist */
-  lambda_common: number;
-  distance: { lambda: number[]; max: number[]; l2: number[]; relative_to: string; threshold: number; lambda_1pct: number | null };
-  /** pseudo-spectral Hopf run against characteristics: max error relative to max|u₀| */
-  characteristics_check: { lambda: number[]; max_error: number[] };
-  sequences: { x: number[]; lambda: number[]; quantum: number[][]; classical: (number[] | null)[] };
-  scaling: {
-    exponent: number;
-    uncertainty: number;
-    exponent_l2: number;
-    uncertainty_l2: number;
-    prefactor: number;
-    lambda_scaled: number;
-    lambda_fraction: number;
-    breaking_scaled: number;
-    /** T* in the natural (config) λ of this trap */
-    lambda_natural: number;
-    points: { delta: number; delta2: number; distance_max: number; distance_l2: number; lambda_1pct_scaled: number | null }[];
-    tails: { classical: number; quantum: number };
-    phase_space: null | {
-      duration_scaled: number;
-      trajectories: number;
-      points: { delta: number; energy_drift_mean: number; energy_drift_max: number; action_drift_mean: number; action_drift_max: number }[];
-      energy_exponent: number;
-      energy_uncertainty: number;
-      action_exponent: number;
-      action_uncertainty: number;
-    };
-  };
-  classical_phase_space: {
-    method: string;
-    hamiltonian: string;
-    duration: number;
-    ramp: RampKind;
-    lambda_end: number;
-    steps: { classical: number; quantum: number };
-    trajectories: TrajectoryJson[];
-    max: { classical_energy_drift: number; quantum_energy_drift: number; classical_action_drift: number | null; quantum_action_drift: number | null };
-  };
-  /** per-drive fidelities and excess energies from the Schrödinger propagator (`quantumDrives`); 'pending' before */
-  quantum: QuantumConsequence;
-  integrator: { quantum_steps: number; classical_steps: number; tolerance: number; seconds: number };
-  warnings: string[];
-}
 
 export interface CompareResult {
   ctx: JobContext;
@@ -518,20 +419,7 @@ export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions
   return quantumDrives(config, runCompare(config, opts));
 }
 
-/**
- * The parts of the summary the compare figures read. An action drift that could not be measured (null: the orbit
- * did not close) is drawn as a zero bar.
- */
-export function compareFigureData(s: CompareSummary): CompareFileLike {
-  const trajectories = s.classical_phase_space.trajectories.map((t) => ({
-    shell_energy: t.shell_energy,
-    classical: { action_drift: t.classical.action_drift ?? 0 },
-    quantum: { action_drift: t.quantum.action_drift ?? 0 },
-  }));
-  return { units: s.units, delta2: s.delta2, breaking_lambda: s.breaking_lambda, distance: s.distance, sequences: s.sequences, scaling: s.scaling, classical_phase_space: { trajectories } };
-}
-
 /** Write the compare figures (jobs/report.ts) into dir; returns the paths written. */
 export function writeCompareFigures(summary: CompareSummary, dir: string, force: boolean): string[] {
-  return writeFigures(compareFigures(compareFigureData(summary)), dir, force);
+  return writeFigures(compareFigures(summary), dir, force);
 }

@@ -16,25 +16,14 @@ import type { Grid } from '../spectral/grid.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
 import { makeContext, type JobContext } from './context.ts';
+import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
+export type { DesignSummary, SolitonPrediction };
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
  * relative errors of about that size from the grid (common practice for this kind of indicator) */
 export const TAIL_WARNING = 1e-7;
 
 export const DESIGN_FILES = ['potential.npy', 'potential.csv', 'sequence.json'] as const;
-
-export interface SolitonPrediction {
-  /** κ in natural units (1/ℓ) */
-  kappa: number;
-  /** κ in 1/(user length) */
-  kappa_user: number;
-  /** bound-state energy −κ² of the initial potential, user energy unit */
-  energy: number;
-  /** soliton depth 2κ², user energy unit */
-  depth: number;
-  /** soliton speed 4κ², user length per unit λ */
-  speed: number;
-}
 
 export interface BoundStates {
   energies: number[];
@@ -86,28 +75,6 @@ export interface DesignResult {
   breakingPredicted: number | null;
   warnings: string[];
   summary: DesignSummary;
-}
-
-export interface DesignSummary {
-  name: string;
-  dispersion: 'quantum' | 'classical';
-  frames: number;
-  points: number;
-  lambda_end: number;
-  lambda_reached: number;
-  complete: boolean;
-  max_invariant_drift: number;
-  /** largest bound-state energy drift along the sequence, user energy unit */
-  spectral_drift: number;
-  predicted_solitons: { kappa: number; depth: number; speed: number }[];
-  wells_found: { position: number; depth: number }[];
-  units: { length: string; energy: string; lambda: string; speed: string; kappa: string };
-  scales: { E0: string; t0: string; ell: string };
-  delta2: number;
-  delta2_meaning: string;
-  breaking: null | { lambda_reached: number; lambda_extrapolated: number; lambda_characteristics: number; reason: string };
-  integrator: { method: string; steps: number; rejected: number; seconds: number; tolerance: number; tail: number };
-  warnings: string[];
 }
 
 /**

@@ -52,6 +52,8 @@ import { ATOMIC_MASS_CONSTANT, PLANCK_H } from '../units/constants.ts';
 import { compareConfigSchema } from './compare.ts';
 import { runDesign, toJson, type DesignResult } from './design.ts';
 import { boxThreshold } from '../quantum/bound.ts';
+import type { LatticeStudyRow, LatticeSummary, LatticeTables } from '../io/formats/lattice.ts';
+export type { LatticeStudyRow, LatticeSummary, LatticeTables };
 
 /** default sites per soliton width of the convergence study (infidelity ∝ (sites)^−4: 3 → 8 spans ~2 decades) */
 export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
@@ -256,102 +258,6 @@ export interface ContinuumInput {
   duration: number;
   lambdaEnd: number;
   states: number;
-}
-
-export interface LatticeTables {
-  /** site positions (user length unit) */
-  sites: Float64Array;
-  /** sample times (ms lab, t₀ natural) */
-  times: Float64Array;
-  /** [samples × M] on-site energies, [samples × (M−1)] NN and [samples × (M−2)] NNN amplitudes (h·Hz lab, E₀
-   * natural) and phases (rad) of H_jj′ = A e^{iφ}, j′ > j */
-  onsite: Float64Array;
-  nnAmplitude: Float64Array;
-  nnPhase: Float64Array;
-  nnnAmplitude: Float64Array;
-  nnnPhase: Float64Array;
-}
-
-export interface LatticeStudyRow {
-  sites_per_width: number;
-  spacing: number;
-  tunnelling: number;
-  sites: number;
-  infidelity_cd_max: number;
-  infidelity_cd: number[];
-  fidelity_bare: number[];
-  /** lattice minus continuum fidelities (when the caller supplied continuum values), else null */
-  difference_cd: number[] | null;
-  difference_bare: number[] | null;
-  seconds: number;
-}
-
-export interface LatticeSummary {
-  name: string;
-  format: 'isotrap-lattice/1';
-  units: {
-    length: string;
-    energy: string;
-    time: string;
-    phase: 'rad';
-    mass: 'u';
-    note: string;
-  };
-  /** the unit of every numeric field, by dotted path ("[]" marks list entries) */
-  field_units: Record<string, string>;
-  lattice: {
-    spacing: number;
-    spacing_natural_l: number;
-    tunnelling: number;
-    tunnelling_source: string;
-    band_width_4J: number;
-    sites: number;
-    depth: LatticeParameters['depth'];
-  };
-  mass: { atomic_u: number | null; effective_u: number | null; ratio_effective_to_atomic: number | null };
-  scales: { E0_hz: number | null; t0_ms: number | null; ell_um: number | null; J_over_E0: number };
-  delta2: { with_effective_mass: number; with_atomic_mass: number | null; meaning: string };
-  soliton_width: { value: number; natural_l: number; sites_per_width: number; definition: string };
-  couplings: {
-    largest_peierls_nn: number;
-    largest_peierls_nnn: number;
-    largest_cd_coupling: number;
-    fraction_of_band_width: number;
-    largest_nn_amplitude: number;
-    onsite_range: [number, number];
-    hermiticity_defect_max: number;
-    convention: string;
-  };
-  verification: {
-    states: number;
-    energies_start: number[];
-    energies_end: number[];
-    continuum_energies_start: number[];
-    isospectral_drift_max: number;
-    fidelity_cd: number[];
-    fidelity_bare: number[];
-    /** continuum fidelities from opts.continuum (null: not supplied) */
-    continuum_fidelity_cd: number[] | null;
-    continuum_fidelity_bare: number[] | null;
-    infidelity_cd_max: number;
-    meets_target: boolean;
-    steps_cd: number;
-    steps_bare: number;
-    seconds: number;
-    method: string;
-  };
-  study: {
-    target_infidelity: number;
-    rows: LatticeStudyRow[];
-    observed_order: number | null;
-    recommended: null | { sites_per_width: number; spacing: number; tunnelling: number; basis: string };
-    /** alternative at the configured d: widen the trap by this factor (KdV scaling u → ε²u(εξ, ε³τ), ε = 1/factor:
-     * depths ÷ factor², λ_end × factor³, duration × factor²); null when the configured lattice already suffices */
-    widen_trap_by: number | null;
-    note: string;
-  };
-  protocol: { duration: number; ramp: string; lambda_end: number };
-  warnings: string[];
 }
 
 export interface LatticeResult {

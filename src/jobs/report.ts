@@ -20,7 +20,6 @@ import type { LatticeResult } from './lattice.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
 /** the compare.json content the compare figures read */
-export type CompareFileLike = CompareSummary;
 
 /** each figure as DIR/<id>.svg (atomically), after the caller prepared the folder */
 function writeSvgs(figures: ReportFigure[], dir: string): string[] {

@@ -13,9 +13,11 @@ import { driveClassicalSequence } from '../classical/corrected.ts';
 import { makeRamp } from '../protocol/ramp.ts';
 import { correctionSizes, CORRECTION_SIZE_DEFINITION } from '../quantum/correction.ts';
 import type { UnitSystem } from '../units/scales.ts';
-import { verifySequence, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
+import { StateCountError, verifySequence, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
+import type { VerifyFile } from '../io/formats/verify.ts';
+export type { VerifyFile };
 
 export const VERIFY_FILES = ['verify.json', 'traces.npy'] as const;
 /** a design verifies when every tracked state keeps fidelity ≥ 1 − this with the correction (common practice:
@@ -30,46 +32,6 @@ export interface VerifyJobOptions {
   onProgress?: (fraction: number, stage: string) => void;
   /** fidelity traces (default TRACE_SAMPLES; 0 for none) */
   traceSamples?: number;
-}
-
-export interface VerifyFile {
-  format: 'isotrap-verify/1';
-  units: { energy: string; time: string; length: string; temperature: string };
-  protocol: { duration: number; ramp: string; lambda_end: number; duration_natural: number };
-  eigen: VerifyResult['eigen'];
-  bound_states: number;
-  isospectral_drift: number;
-  states: {
-    index: number;
-    energy: number;
-    energy_start: number;
-    energy_end: number;
-    degeneracy: number;
-    fidelity_cd: number;
-    fidelity_bare: number;
-    excess_cd: number;
-    excess_bare: number;
-  }[];
-  thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; mean_excess_cd: number; mean_excess_bare: number; tail_weight: number; definition: string };
-  fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number; fermi_level_cuts_group: boolean };
-  cd_strength: {
-    unit: string;
-    occupied: number;
-    max_total: number;
-    max_cubic: number;
-    max_potential: number;
-    at_time: number;
-    definition: string;
-    samples: { time: number[]; cubic: number[]; potential: number[]; total: number[]; definition: string };
-  };
-  classical: null | { lambda_break: number; lambda_reached: number; time_reached: number; fidelity: number[]; note: string };
-  propagation: Record<string, { steps: number; rejected: number; matvecs: number; scheme: string; norm_drift: number; seconds: number; estimated_amplitude_error: number }>;
-  traces: { file: string; times: number[]; rows: { drive: string; state: number }[] };
-  accepted: boolean;
-  acceptance: string;
-  seconds: number;
-  warnings: string[];
-  summary_rows: SummaryRow[];
 }
 
 export interface VerifyJobResult {
@@ -106,6 +68,16 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
     lambdaEnd: config.flow.lambda_end,
     temperature: v.temperature !== undefined && v.temperature > 0 ? units.temperatureToNatural(v.temperature) : undefined,
   };
+}
+
+/** a state count the Schrödinger proof cannot use becomes an input error naming the config key */
+function withStateCountKeys<T>(config: Config, run: () => T): T {
+  try {
+    return run();
+  } catch (err) {
+    if (err instanceof StateCountError) throw new UserError(`${config.meta.source}: verify.${err.option} = ${err.value} is not allowed: ${err.message}`);
+    throw err;
+  }
 }
 
 const CLASSICAL_NOTE =
@@ -270,7 +242,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
   const input = verifyInput(config, design);
   const { units, grid } = design.ctx;
   const dense = design.run.dense;
-  const natural = verifySequence({
+  const natural = withStateCountKeys(config, () => verifySequence({
     grid,
     potential: (l, out) => dense.at(Math.min(Math.max(l, 0), input.lambdaEnd), out),
     lambdaEnd: input.lambdaEnd,
@@ -283,7 +255,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     drives: ['cd', 'bare'],
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
     onProgress: opts.onProgress,
-  });
+  }));
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
   const samples = correctionSamples(design, input);
   const traces = traceTable(natural, [driveOf(natural, 'cd'), driveOf(natural, 'bare')], (s) => units.timeFromNatural(s));

@@ -60,7 +60,6 @@ export class LatticePropagator {
   private readonly krylov: KrylovExp;
   private readonly op: (x: Float64Array, y: Float64Array) => void;
   private readonly tmpA: Float64Array;
-  private readonly tmpB: Float64Array;
 
   constructor(drive: LatticeDrive) {
     this.drive = drive;
@@ -73,7 +72,6 @@ export class LatticePropagator {
     this.krylov = new KrylovExp(2 * M, KRYLOV_DIM);
     this.op = (x, y) => applyTerms(this.ex, x, y);
     this.tmpA = new Float64Array(2 * M);
-    this.tmpB = new Float64Array(2 * M);
   }
 
   /** H_σ(s) terms into out */
@@ -147,4 +145,3 @@ export class LatticePropagator {
 }
 
 /** the complex-vector helpers live in linalg/complex.ts (`complexOf` is the real-to-complex copy) */
-export { overlap2, complexFromReal as complexOf } from '../linalg/complex.ts';

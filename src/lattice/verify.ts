@@ -8,7 +8,8 @@ import { makeRng } from '../core/rng.ts';
 import { tridiagonalLowest } from '../linalg/tridiagonal-lowest.ts';
 import type { Ramp } from '../protocol/ramp.ts';
 import { applyTerms, type LatticeTerms } from './operators.ts';
-import { complexOf, LatticePropagator, overlap2 } from './propagate.ts';
+import { complexFromReal as complexOf, overlap2 } from '../linalg/complex.ts';
+import { LatticePropagator } from './propagate.ts';
 import type { LatticeSequence } from './sequence.ts';
 
 /** start of the random vectors of the Hermiticity check (any fixed value: the check is reproducible) */

@@ -27,8 +27,6 @@ export interface OperatorTerms {
   v: Float64Array | null;
   w: Float64Array | null;
   b: number;
-  /** not read by this module (optional so that producers which set it still type-check) */
-  kCut?: number;
 }
 
 export function emptyTerms(): OperatorTerms {
@@ -165,4 +163,3 @@ export class SpectralOperator {
 }
 
 /** the real-to-complex copy lives in linalg/complex.ts; re-exported for callers of this module */
-export { complexFromReal } from '../linalg/complex.ts';

@@ -14,8 +14,6 @@ import type { OperatorTerms, SpectralOperator } from './hamiltonian.ts';
 export interface DrivenHamiltonian {
   readonly grid: Grid;
   terms(s: number, out: OperatorTerms): void;
-  /** out[0..2] = ∫_{sa}^{sb} (c₁, c₂, c₃) ds; optional, not read by the core schemes */
-  kineticIntegral?(sa: number, sb: number, out: Float64Array): void;
 }
 
 /** what a scheme instance may use: the grid, the matrix-free operator and a Krylov exponential */

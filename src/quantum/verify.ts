@@ -94,6 +94,18 @@ export interface VerifyResult {
   warnings: string[];
 }
 
+/** a state-count option (`states`, `fermions`) outside what the grid or the propagated set allows */
+export class StateCountError extends RangeError {
+  readonly option: 'states' | 'fermions';
+  readonly value: number;
+  constructor(option: 'states' | 'fermions', value: number, message: string) {
+    super(message);
+    this.name = 'StateCountError';
+    this.option = option;
+    this.value = value;
+  }
+}
+
 function eigenWithBound(grid: Grid, u: Float64Array, method: EigenMethod | undefined): { res: EigenResult; bound: number } {
   const eb = boxThreshold(grid.length);
   let count = Math.min(grid.n, 16);
@@ -125,7 +137,7 @@ function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, deg
   const t0 = performance.now();
   const first = eigenWithBound(grid, u0, opts.eigenMethod);
   const m = opts.states ?? Math.min(grid.n, first.bound + EXTRA_STATES);
-  if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new RangeError(`verify: states ${m} must be an integer in 1 … ${grid.n}`);
+  if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new StateCountError('states', m, `must be an integer in 1 … ${grid.n} (the grid points)`);
   const extra = Math.min(grid.n, m + 2);
   const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method: opts.eigenMethod });
   const e1 = lowestEigenpairs(grid, u1, extra, { method: opts.eigenMethod });
@@ -232,7 +244,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   const { m } = spectra;
   const occupied = opts.fermions ?? Math.max(1, spectra.bound);
   if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
-    throw new RangeError(`verify: fermions ${opts.fermions} must be an integer in 1 … ${m} (the propagated states)`);
+    throw new StateCountError('fermions', opts.fermions, `must be an integer in 1 … ${m} (the propagated states)`);
   }
   const ctx: DriveContext = {
     opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),

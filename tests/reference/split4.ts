@@ -20,7 +20,7 @@ export interface KineticIntegrable extends DrivenHamiltonian {
 }
 
 function isKineticIntegrable(H: DrivenHamiltonian): H is KineticIntegrable {
-  return typeof H.kineticIntegral === 'function';
+  return typeof (H as Partial<KineticIntegrable>).kineticIntegral === 'function';
 }
 
 class Split4Cache {
