@@ -5,20 +5,12 @@
  */
 import { z } from 'zod';
 import { num, numOrNull, nums, readFormat, str } from './read.ts';
+import type { DepthTunnelling } from '../../lattice/params.ts';
 
 export const LATTICE_FORMAT = 'isotrap-lattice/1';
 
-/** depth data of the lattice when depth_recoil was given (LatticeParameters['depth'] of jobs/lattice.ts) */
-export type LatticeDepth = null | {
-  s: number;
-  recoil_hz: number;
-  estimate_hz: number;
-  band_hz: number;
-  relative_difference: number;
-  band_mass_ratio: number;
-  band_bottom_recoil: number;
-  band_top_recoil: number;
-};
+/** depth data of the lattice when depth_recoil was given */
+export type LatticeDepth = null | DepthTunnelling;
 
 export interface LatticeTables {
   /** site positions (user length unit) */
