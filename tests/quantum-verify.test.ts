@@ -11,7 +11,7 @@ describe('verifySequence on a single soliton (u = −2κ²sech²(κ(ξ − 4κ²
     };
     const res = verifySequence({ grid: g, potential: pot, lambdaEnd: 0.4, ramp: 'sin2', duration: 1, tol: 1e-9, drives: ['cd', 'bare', 'flipped'], temperature: 0.05, fermions: 1, traceSamples: 3 });
     expect(res.boundStates).toBe(1); // one soliton, one bound state at −κ² (physics.md §4)
-    expect(res.states.length).toBe(5); // bound + 4 (the brief's default)
+    expect(res.states.length).toBe(5); // bound + 4 (the documented default of verify.states)
     expect(Math.abs(res.states[0].energyEnd + 1)).toBeLessThan(1e-9); // E = −κ²
     const [cd, bare, flipped] = res.drives;
     for (const f of cd.fidelity) expect(f).toBeGreaterThan(1 - 1e-8);

@@ -1,11 +1,10 @@
 /**
- * Small linear-algebra kernels of the lattice module (the tridiagonal QL solver is linalg/tridiag.ts):
+ * Lowest eigenpairs of a large real symmetric tridiagonal matrix (the tight-binding lattice Hamiltonians); the
+ * full QL solver is linalg/tridiag.ts.
  *
- *  - `TridiagonalLowest`: lowest eigenpairs of a large real symmetric tridiagonal matrix by Sturm-sequence
+ *  - `tridiagonalLowest`: lowest eigenpairs of a large real symmetric tridiagonal matrix by Sturm-sequence
  *    bisection and inverse iteration (Wilkinson, The Algebraic Eigenvalue Problem, 1965, ch. 5 §37–§48;
  *    Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.4.1).
- *
- * Krylov exponentials of the lattice Hamiltonians use the shared integrate/krylov.ts (KrylovExp).
  */
 import { tridiagEigen } from './tridiag.ts';
 
