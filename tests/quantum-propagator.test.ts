@@ -10,6 +10,7 @@ import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
 import { makeRng } from '../src/core/rng.ts';
 import { eigenspaceFidelity, groupOf, fermionFidelity } from '../src/quantum/observables.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
+import { NumericalError } from '../src/core/errors.ts';
 
 /**
  * Exact exp(−iMt)ψ for the dense Hermitian matrix M of an operator, through the real symmetric embedding
@@ -177,5 +178,27 @@ describe('harmonic trap with changing ω and the exact CD term −(ω̇/4ω)(xp 
     expect(Math.abs(fm - fBare[0])).toBeLessThan(1e-12);
     const f2 = fermionFidelity(withCd.states, e1.vectors, e1.energies, 4, 1e-8).manyBodyFidelity;
     expect(f2).toBeGreaterThan(1 - 1e-7); // product of transported states → 1 up to the stepping tolerance
+  });
+});
+
+describe('global error control: converged to its budget or refused', () => {
+  // single soliton (physics.md §4) on a small grid; the budget is met for a reachable tolerance and refused with a
+  // NumericalError (never a silent result) when the largest level is reached first
+  const kappa = 1;
+  const g = makeGrid(30, 64);
+  const pot = (tau: number, out: Float64Array): void => {
+    for (let j = 0; j < g.n; j++) out[j] = -2 * kappa * kappa / Math.cosh(kappa * (g.x[j] - 4 * kappa * kappa * tau)) ** 2;
+  };
+  const ramp = makeRamp('sin2', 1, 0.2);
+  const u0 = new Float64Array(g.n);
+  pot(0, u0);
+  const init = lowestEigenpairs(g, u0, 1).vectors.map(complexFromReal);
+  it('meets a reachable budget and reports an estimate within it', () => {
+    const r = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-8, errorControl: 'global' });
+    expect(r.stats.estimatedAmplitudeError).toBeLessThanOrEqual(Math.sqrt(1e-8));
+  });
+  it('refuses with a NumericalError when the level cap comes first', () => {
+    expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(NumericalError);
+    expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(/did not reach its time-stepping budget/);
   });
 });

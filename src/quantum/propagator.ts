@@ -16,6 +16,7 @@
  * case (N = 512, etd4) tol = 1e-6 gave a true worst infidelity 1.6e-11 and tol = 1e-8 gave 1e-14.
  * Error control 'global': see `PropagateOptions.errorControl`.
  */
+import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { errorExponent, stepFactor } from '../integrate/controller.ts';
 import { KrylovExp } from '../integrate/krylov.ts';
@@ -99,6 +100,9 @@ export interface PropagateOptions {
   errorControl?: 'local' | 'global';
   /** first level of the global control (default 64 steps) */
   initialSteps?: number;
+  /** largest level of the global control (default 65,536 steps): when it is reached before the estimate meets the
+   *  budget, the propagation fails with a NumericalError instead of returning an unconverged result */
+  maxSteps?: number;
 }
 
 export interface PropagationStats {
@@ -191,6 +195,7 @@ export class Propagator {
     const delta = Math.sqrt(tol);
     let n = opts.initialSteps ?? GLOBAL_INITIAL_STEPS;
     if (!Number.isInteger(n) || n < 1) throw new RangeError(`propagator: initialSteps ${n} must be a positive integer`);
+    const maxSteps = opts.maxSteps ?? GLOBAL_MAX_STEPS;
     const levels: number[] = [];
     let prev: PropagationResult | null = null;
     let prevDiff = Infinity;
@@ -216,6 +221,7 @@ export class Propagator {
       if (prev) {
         let d = 0;
         for (let i = 0; i < res.states.length; i++) d = Math.max(d, perpendicularDifference(prev.states[i], res.states[i]) / norm2(initial[i]));
+        if (!Number.isFinite(d)) throw new NumericalError(`Schrödinger propagation produced non-finite states at ${n} steps`);
         if (d === 0) {
           estimate = 0;
           accept = true;
@@ -234,7 +240,14 @@ export class Propagator {
         prevDiff = d;
       }
       prev = res;
-      if (accept || n >= GLOBAL_MAX_STEPS) {
+      if (!accept && n >= maxSteps) {
+        throw new NumericalError(
+          `Schrödinger propagation did not reach its time-stepping budget: after ${levels.join('/')} steps the estimated ` +
+            `amplitude error is ${Number.isFinite(estimate) ? estimate.toExponential(2) : 'not yet estimable'} against √tol = ${delta.toExponential(2)} ` +
+            `(infidelity budget ${tol}); the largest level is ${maxSteps} steps`,
+        );
+      }
+      if (accept) {
         for (const c of cap) opts.onSample?.(c.s, c.states);
         opts.onProgress?.(1);
         const st = res.stats;
