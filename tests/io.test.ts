@@ -1,4 +1,5 @@
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -137,6 +138,10 @@ describe('NPY decode', () => {
       /cut\.npy: file is truncated: shape \(3,\) of '<f8' needs 24 data bytes, found 19/,
     );
     expect(userErrorOf(() => decodeNpy(full.subarray(0, 60), 'cut2.npy'))).toMatch(/cut2\.npy: file is truncated/);
+    // a header dict that names a key twice: numpy's literal_eval keeps the last value, a first-match parser the
+    // first; the file is ambiguous and is refused (numpy.lib.format: the header is one dict of three keys)
+    const dup = handNpy(1, "{'descr': '<f4', 'fortran_order': False, 'shape': (1,), 'descr': '<f8', }", new Uint8Array(8));
+    expect(userErrorOf(() => decodeNpy(dup, 'dup.npy'))).toMatch(/dup\.npy: NPY header names 'descr' 2 times/);
   });
   it('rejects NaN/Inf naming the flat index and, for 2-D, row and column', () => {
     // element [1, 2] of a C-ordered (2, 3) array has flat index 1·3 + 2 = 5 (NumPy C order, row-major)
@@ -177,6 +182,12 @@ describe('CSV', () => {
     expect(userErrorOf(() => readNumericCsv('1,2\n3;4\n', 's.csv'))).toMatch(/s\.csv: row 2 has 1 columns, expected 2 .*separator must be a comma/);
     // all problems of the file are listed, not only the first
     expect(userErrorOf(() => readNumericCsv('1,2\n3,x\ny,4\n', 'm.csv')).split('\n')).toHaveLength(2);
+  });
+  it('refuses a first row that is neither a header nor data', () => {
+    // a header holds names only (the reader's documented convention); binary bytes are not a header
+    expect(userErrorOf(() => readNumericCsv('x,2.5\n1,2\n', 'mix.csv'))).toBe('mix.csv: row 1 mixes numbers (column 2) and text: a header row holds only names, a data row only numbers');
+    expect(userErrorOf(() => readNumericCsv('\u0000\u0001PK,\u0003\n1,2\n', 'bin.csv'))).toMatch(/bin\.csv: row 1, column 1 is neither a number nor header text/);
+    expect(userErrorOf(() => readNumericCsv('x,\ufffd\ufffd\n1,2\n', 'enc.csv'))).toMatch(/enc\.csv: row 1, column 2 is neither a number nor header text/);
   });
   it('writeCsv round trips doubles exactly', () => {
     // ECMAScript Number::toString gives the shortest decimal that reads back to the same double (ECMA-262 §6.1.6.1.20)
@@ -220,6 +231,21 @@ describe('files', () => {
     expect(readFileSync(join(dir, 'notes.txt'), 'utf8')).toBe('keep me');
     writeFileSync(join(work, 'plainfile'), '');
     expect(userErrorOf(() => prepareOutputDir(join(work, 'plainfile'), { force: true, produces: [] }))).toMatch(/is not a folder/);
+  });
+  it('I/O failures and an empty folder name are input errors naming the path; temporaries of dead writers go', () => {
+    writeFileSync(join(work, 'afile'), '');
+    // a path through a regular file fails with ENOTDIR (POSIX), whoever runs the test
+    expect(userErrorOf(() => writeFileAtomic(join(work, 'afile', 'x.json'), '{}'))).toMatch(/^cannot write .*afile\/x\.json \(ENOTDIR/);
+    expect(userErrorOf(() => prepareOutputDir(join(work, 'afile', 'sub'), { force: false, produces: [] }))).toMatch(/^cannot create output folder .*afile\/sub \(ENOTDIR/);
+    expect(userErrorOf(() => prepareOutputDir('', { force: false, produces: [] }))).toMatch(/output folder "" is not allowed/);
+    const dir = join(work, 'stale');
+    mkdirSync(dir);
+    const dead = spawnSync(process.execPath, ['-e', '0']).pid; // a process that has exited
+    const live = process.pid;
+    writeFileSync(join(dir, `.potential.npy.${dead}.0123456789ab.tmp`), 'half');
+    writeFileSync(join(dir, `.verify.json.${live}.0123456789ab.tmp`), 'being written');
+    prepareOutputDir(dir, { force: true, produces: [] });
+    expect(readdirSync(dir)).toEqual([`.verify.json.${live}.0123456789ab.tmp`]);
   });
 });
 

@@ -27,6 +27,24 @@ function looksNumeric(cell: string): boolean {
   return cell === '' || NUMBER_RE.test(cell) || NONFINITE_RE.test(cell);
 }
 
+/** printable header text: letters, digits, punctuation and spaces, no control characters (common practice) */
+const HEADER_CELL_RE = /^[^\u0000-\u001f\u007f-\u009f\ufffd]*$/;
+
+/**
+ * The first row as a header: every cell must be printable text and not a number (a row that mixes numbers and
+ * text is neither a header nor data, and a row of binary bytes is not a header).
+ */
+function headerCells(cells: readonly string[], line: number, fileName: string): string[] {
+  const unquoted = cells.map((c) => c.replace(/^"(.*)"$/, '$1'));
+  const bad = unquoted.findIndex((c) => !HEADER_CELL_RE.test(c));
+  if (bad >= 0) throw new UserError(`${fileName}: row ${line}, column ${bad + 1} is neither a number nor header text (it holds control or undecodable characters): is this a text CSV file?`);
+  const numeric = cells.map((c, i) => (c !== '' && looksNumeric(c) ? i + 1 : 0)).filter((i) => i > 0);
+  if (numeric.length > 0) {
+    throw new UserError(`${fileName}: row ${line} mixes numbers (column ${numeric.join(', ')}) and text: a header row holds only names, a data row only numbers`);
+  }
+  return unquoted;
+}
+
 /** shortest round-trip text of a double; keeps the sign of -0 (String(-0) is "0") */
 function formatNumber(x: number): string {
   return Object.is(x, -0) ? '-0' : String(x);
@@ -46,7 +64,7 @@ export function readNumericCsv(text: string, fileName: string): NumericCsv {
   let header: string[] | null = null;
   let first = 0;
   if (!rows[0].cells.every(looksNumeric)) {
-    header = rows[0].cells.map((c) => c.replace(/^"(.*)"$/, '$1'));
+    header = headerCells(rows[0].cells, rows[0].line, fileName);
     first = 1;
   }
   if (first >= rows.length) throw new UserError(`${fileName}: the file has a header row (line ${rows[0].line}) but no data rows`);

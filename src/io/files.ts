@@ -2,9 +2,51 @@
  * File output helpers: atomic writes and output-folder preparation that never deletes anything.
  */
 import { randomBytes } from 'node:crypto';
-import { existsSync, mkdirSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { UserError } from '../core/errors.ts';
+
+/** temporary files of writeFileAtomic: `.<name>.<pid>.<12 hex>.tmp` */
+const TEMPORARY_RE = /^\..+\.(\d+)\.[0-9a-f]{12}\.tmp$/;
+
+/** an I/O failure (permissions, a full disk, a path through a file) is the user's to fix: say which path and why */
+function ioError(action: string, path: string, err: unknown): UserError {
+  const e = err as NodeJS.ErrnoException;
+  const why = e.code ? `${e.code}: ${e.message.replace(/^[A-Z]+: /, '').replace(/, \w+ '.*'$/, '')}` : String(e.message ?? err);
+  return new UserError(`cannot ${action} ${path} (${why})`);
+}
+
+/** true when a process with this id is alive (signal 0 tests existence without sending anything) */
+function processAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (err) {
+    return (err as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+/** remove temporaries left in `dir` by writers that were killed mid-write (their process is gone) */
+export function removeStaleTemporaries(dir: string): string[] {
+  const removed: string[] = [];
+  let names: string[];
+  try {
+    names = readdirSync(dir);
+  } catch {
+    return removed;
+  }
+  for (const name of names) {
+    const m = TEMPORARY_RE.exec(name);
+    if (!m || processAlive(Number(m[1]))) continue;
+    try {
+      unlinkSync(join(dir, name));
+      removed.push(name);
+    } catch {
+      // another process removed it first
+    }
+  }
+  return removed;
+}
 
 /**
  * Write `data` to `path` atomically: the bytes go to a temporary file in the same directory (same file system,
@@ -23,7 +65,7 @@ export function writeFileAtomic(path: string, data: string | Uint8Array): void {
     } catch {
       // the temporary file was never created or is already gone
     }
-    throw err;
+    throw ioError('write', path, err);
   }
 }
 
@@ -37,9 +79,10 @@ export interface PrepareOutputOptions {
 /**
  * Create `dir` (recursively) for a run's outputs. If any file in `produces` already exists and `force` is not
  * set, throws a UserError naming that file and telling the user to pass --force. Existing files are never
- * deleted here; with --force they are simply overwritten later by the writer. Returns the resolved directory.
+ * deleted here (except temporaries of killed writers, see removeStaleTemporaries); with --force they are simply overwritten later by the writer. Returns the resolved directory.
  */
 export function prepareOutputDir(dir: string, options: PrepareOutputOptions): string {
+  if (dir.trim() === '') throw new UserError('output folder "" is not allowed: name a folder (e.g. --out outputs/my-run)');
   const abs = resolve(dir);
   if (existsSync(abs) && !statSync(abs).isDirectory()) {
     throw new UserError(`output folder ${dir} exists but is not a folder: remove it or choose another name`);
@@ -57,7 +100,8 @@ export function prepareOutputDir(dir: string, options: PrepareOutputOptions): st
   try {
     mkdirSync(abs, { recursive: true });
   } catch (err) {
-    throw new UserError(`cannot create output folder ${dir}: ${(err as Error).message}`);
+    throw ioError('create output folder', dir, err);
   }
+  removeStaleTemporaries(abs);
   return abs;
 }

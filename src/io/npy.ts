@@ -99,6 +99,10 @@ export function decodeNpy(bytes: Uint8Array, fileName: string): NpyArray {
   let header = '';
   for (let i = headerStart; i < dataStart; i++) header += String.fromCharCode(bytes[i]);
 
+  for (const key of ['descr', 'fortran_order', 'shape']) {
+    const count = header.split(`'${key}'`).length - 1;
+    if (count > 1) fail(`NPY header names '${key}' ${count} times; a valid header names it once: ${JSON.stringify(header.trim())}`);
+  }
   const descrMatch = /'descr'\s*:\s*'([^']*)'/.exec(header);
   if (!descrMatch) {
     if (/'descr'\s*:\s*\[/.test(header)) fail(`structured dtypes are not supported: allowed dtypes are ${SUPPORTED_DTYPES.join(', ')}`);
