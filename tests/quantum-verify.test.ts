@@ -28,5 +28,16 @@ describe('verifySequence on a single soliton (u = −2κ²sech²(κ(ξ − 4κ²
     for (const e of cd.excessEnergy) expect(Math.abs(e)).toBeLessThan(1e-7);
     expect(bare.excessEnergy[0]).toBeGreaterThan(1e-3);
     expect(res.cdStrength && res.cdStrength.full > 0).toBe(true);
+    expect(res.warnings.some((w) => /fermions/.test(w))).toBe(false); // one fermion, one bound state
+  });
+  it('says when fermions beyond the bound states sit in box states', () => {
+    // one soliton binds exactly one state (physics.md §4), so two of three fermions are in box states
+    const g = makeGrid(30, 128);
+    const pot = (tau: number, out: Float64Array): void => {
+      for (let j = 0; j < g.n; j++) out[j] = -2 / Math.cosh(g.x[j] - 4 * tau) ** 2;
+    };
+    const res = verifySequence({ grid: g, potential: pot, lambdaEnd: 0.1, ramp: 'sin2', duration: 1, tol: 1e-6, drives: ['cd'], fermions: 3 });
+    expect(res.boundStates).toBe(1);
+    expect(res.warnings.filter((w) => /3 fermions fill the lowest levels but the trap binds only 1 .*2 of them sit in box states/.test(w))).toHaveLength(1);
   });
 });

@@ -246,6 +246,13 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
     throw new StateCountError('fermions', opts.fermions, `must be an integer in 1 … ${m} (the propagated states)`);
   }
+  if (opts.fermions !== undefined && opts.fermions > spectra.bound) {
+    const box = opts.fermions - spectra.bound;
+    warnings.push(
+      `${opts.fermions} fermions fill the lowest levels but the trap binds only ${spectra.bound} (E < −(2π/L)²): ` +
+        `${box} of them sit in box states of the periodic grid, so the Fermi-sea fidelity describes the box as well as the trap`,
+    );
+  }
   const ctx: DriveContext = {
     opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
     scratch: new Float64Array(2 * grid.n), occupied, degTol, traceBases: new Map(), warnings, progress, u1,
