@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { NumericalError } from '../src/core/errors.ts';
 import { integrateFlow, naturalFlowEquation } from '../src/flow/kdv.ts';
 import { invariantDrift, invariants } from '../src/flow/invariants.ts';
 import { nSolitonPotential, oneSoliton, solitonAsymptotes, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
@@ -109,5 +110,20 @@ describe('Zabusky–Kruskal and Hopf breaking', () => {
     expect(run.lambdas).toEqual([0.2]); // frames before breaking are kept
     expect(run.breaking!.lambdaReached).toBeLessThan(1 / Math.PI);
     expect(run.breaking!.lambdaExtrapolated).toBeCloseTo(1 / Math.PI, 3);
+  });
+});
+
+describe('bounded memory', () => {
+  it('fails with a NumericalError stating the cost when the dense output passes its budget', () => {
+    // one soliton u = −2 sech²(ξ − 4τ) (physics.md §4) on a small grid; the budget allows 10 dense points
+    const g = makeGrid(40, 128);
+    const u0 = Float64Array.from(g.x, (x) => -2 / Math.cosh(x) ** 2);
+    const perPoint = 2 * 2 * (Math.floor(128 / 3) + 1) * 8;
+    const run = () => integrateFlow(g, naturalFlowEquation('quantum'), u0, { tolerance: 1e-10, frames: [1], maxDenseBytes: 10 * perPoint });
+    expect(run).toThrow(NumericalError);
+    expect(run).toThrow(/the flow needs more memory than its budget: 10 steps to λ = .* of 1/);
+    // the default budget is ample for the same flow
+    const ok = integrateFlow(g, naturalFlowEquation('quantum'), u0, { tolerance: 1e-10, frames: [1] });
+    expect(ok.dense.bytes).toBe(ok.dense.lambdas.length * perPoint);
   });
 });

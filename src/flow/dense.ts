@@ -19,6 +19,10 @@ export class DenseFlow {
     this.fft = fft;
     this.spec = new Float64Array(points + 2);
   }
+  /** bytes one stored point takes: value and rate, `active` complex modes each */
+  static bytesPerPoint(active: number): number {
+    return 2 * 2 * active * Float64Array.BYTES_PER_ELEMENT;
+  }
   /** store copies of the first `active` modes of a half spectrum and its λ-derivative */
   push(lambda: number, v: Float64Array, vt: Float64Array, active: number): void {
     this.lambdas.push(lambda);

@@ -31,6 +31,9 @@ const RICHARDSON = 15;
 const COEFFICIENT_CACHE_SIZE = 256;
 /** default cap on step attempts (a runaway guard far above any design run) */
 const MAX_STEPS_DEFAULT = 2_000_000;
+/** memory the dense output may hold by default: 1 GiB keeps a design well inside a 2-core, few-GB machine while the
+ *  largest sane designs (N = 8192, 10⁴ steps: 0.9 GB) fit (common practice) */
+export const DENSE_BYTES_DEFAULT = 2 ** 30;
 /** a dispersionless flow is declared broken when the top of the retained band reaches this amplitude relative
  * to the largest mode: the truncated Fourier series no longer represents the steepening front (common practice) */
 export const BREAKING_TAIL = 1e-6;
@@ -50,6 +53,9 @@ export interface FlowOptions {
   /** ascending λ values at which frames are stored; the last one is the flow's end */
   frames: readonly number[];
   maxSteps?: number;
+  /** largest memory of the dense output in bytes (default DENSE_BYTES_DEFAULT); beyond it the flow fails with a
+   *  NumericalError that states the cost instead of growing without bound */
+  maxDenseBytes?: number;
   /** detect the gradient catastrophe (default: when β = 0) */
   detectBreaking?: boolean;
   onProgress?: (lambda: number, lambdaEnd: number) => void;
@@ -288,12 +294,23 @@ class FlowRecorder {
   readonly frames: Float64Array[] = [];
   readonly dense: DenseFlow;
   private readonly dv: Float64Array;
-  constructor(private readonly op: FlowOperator, private readonly active: number) {
+  private readonly maxPoints: number;
+  constructor(private readonly op: FlowOperator, private readonly active: number, private readonly maxBytes: number, private readonly tEnd: number) {
     this.dense = new DenseFlow(op.grid.n, new RealFFT(op.grid.n));
     this.dv = new Float64Array(2 * op.modes);
+    this.maxPoints = Math.floor(maxBytes / DenseFlow.bytesPerPoint(active));
   }
-  /** dense point (λ, û, ∂_λû) */
+  /** dense point (λ, û, ∂_λû); fails once the record would pass its memory budget */
   store(t: number, v: Float64Array, nv: Float64Array): void {
+    if (this.dense.lambdas.length >= this.maxPoints) {
+      const perPoint = DenseFlow.bytesPerPoint(this.active);
+      const projected = (this.dense.lambdas.length * perPoint * this.tEnd) / Math.max(t, Number.MIN_VALUE);
+      throw new NumericalError(
+        `the flow needs more memory than its budget: ${this.dense.lambdas.length} steps to λ = ${t.toPrecision(4)} of ${this.tEnd} ` +
+          `hold ${(this.maxBytes / 2 ** 20).toFixed(0)} MiB of dense output (about ${(projected / 2 ** 30).toPrecision(3)} GiB to the end); ` +
+          `a deeper or narrower trap, a longer flow or more grid points need more steps`,
+      );
+    }
     this.op.timeDerivative(v, nv, this.dv);
     this.dense.push(t, v, this.dv, this.active);
   }
@@ -325,7 +342,7 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
   if (scale === 0) scale = 1;
   const { v, discardedTail } = retainedSpectrum(op, u0);
   const active = op.cutoff + 1;
-  const recorder = new FlowRecorder(op, active);
+  const recorder = new FlowRecorder(op, active, opts.maxDenseBytes ?? DENSE_BYTES_DEFAULT, tEnd);
   const loop = runFlowLoop(op, v, frames, scale, recorder, opts);
   const ls = loop.stats;
   const stats: FlowStats = {
