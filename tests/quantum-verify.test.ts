@@ -30,6 +30,23 @@ describe('verifySequence on a single soliton (u = −2κ²sech²(κ(ξ − 4κ²
     expect(res.cdStrength && res.cdStrength.full > 0).toBe(true);
     expect(res.warnings.some((w) => /fermions/.test(w))).toBe(false); // one fermion, one bound state
   });
+  it('the coupling out of the occupied state equals the closed form of a translating soliton', () => {
+    // one soliton u = −2 sech²(ξ − 4τ) (physics.md §4): its bound state φ₀ = sech(ξ − 4τ)/√2 translates, so
+    // (1 − P)Aφ₀ = (1 − P) i∂_τφ₀ = −4i φ₀′ (adiabatic gauge potential, physics.md §1) and, with ∫φ₀′² = 1/3,
+    // |λ̇|‖(1 − P)AP‖ = 4|λ̇|/√3 (closed form from ∫ sech² tanh² dξ = 2/3)
+    const g = makeGrid(40, 256);
+    const pot = (tau: number, out: Float64Array): void => {
+      for (let j = 0; j < g.n; j++) out[j] = -2 / Math.cosh(g.x[j] - 4 * tau) ** 2;
+    };
+    const res = verifySequence({ grid: g, potential: pot, lambdaEnd: 0.2, ramp: 'sin2', duration: 1, tol: 1e-9, drives: ['cd'], states: 3, strengthSamples: 5 });
+    const c = res.cdStrength!.coupling;
+    expect(c.time).toHaveLength(5);
+    const rate = (s: number): number => 0.2 * (1 - Math.cos(2 * Math.PI * s)); // sin2 ramp λ̇, T = 1 (protocol/ramp.ts)
+    for (let i = 0; i < c.time.length; i++) {
+      expect(Math.abs(c.leakage[i] - (4 / Math.sqrt(3)) * rate(c.time[i]))).toBeLessThan(1e-6);
+      expect(c.window[i]).toBeLessThanOrEqual(c.leakage[i] * (1 + 1e-12)); // one element of a column ≤ the column's norm
+    }
+  });
   it('says when fermions beyond the bound states sit in box states', () => {
     // one soliton binds exactly one state (physics.md §4), so two of three fermions are in box states
     const g = makeGrid(30, 128);

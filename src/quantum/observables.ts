@@ -181,6 +181,24 @@ export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: 
   };
 }
 
+/**
+ * Largest |eigenvalue| of the Hermitian n×n matrix M = (re + i·im) (row-major; its Hermitian part is taken to remove
+ * round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]] (each eigenvalue twice).
+ */
+function hermitianSpectralRadius(re: Float64Array, im: Float64Array, n: number): number {
+  const big = new Matrix(2 * n, 2 * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    const r = 0.5 * (re[i * n + j] + re[j * n + i]);
+    const m = 0.5 * (im[i * n + j] - im[j * n + i]);
+    big.set(i, j, r);
+    big.set(i + n, j + n, r);
+    big.set(i, j + n, -m);
+    big.set(i + n, j, m);
+  }
+  const evd = new EigenvalueDecomposition(big, { assumeSymmetric: true });
+  return Math.max(...evd.realEigenvalues.map(Math.abs));
+}
+
 /** ‖P O P‖₂ for orthonormal complex states φ (P their projector); scratch length 2N */
 export function projectedNorm(op: SpectralOperator, terms: OperatorTerms, states: readonly Float64Array[], scratch: Float64Array): number {
   const n = states.length;
@@ -193,17 +211,48 @@ export function projectedNorm(op: SpectralOperator, terms: OperatorTerms, states
       mim[i * n + j] = dotIm(states[i], scratch);
     }
   }
-  const big = new Matrix(2 * n, 2 * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-    // Hermitian part (removes round-off asymmetry)
-    const r = 0.5 * (mre[i * n + j] + mre[j * n + i]);
-    const m = 0.5 * (mim[i * n + j] - mim[j * n + i]);
-    big.set(i, j, r);
-    big.set(i + n, j + n, r);
-    big.set(i, j + n, -m);
-    big.set(i + n, j, m);
-  }
-  const evd = new EigenvalueDecomposition(big, { assumeSymmetric: true });
-  return Math.max(...evd.realEigenvalues.map(Math.abs));
+  return hermitianSpectralRadius(mre, mim, n);
 }
 
+export interface OccupiedCoupling {
+  /** ‖(1 − P) O P‖₂: how strongly O drives the occupied states out of their subspace (P: the occupied projector) */
+  leakage: number;
+  /** max |⟨φ_m|O|φ_n⟩| over occupied n and tracked m ≠ n: the largest single transition element in the window */
+  window: number;
+}
+
+/**
+ * Coupling of an operator O out of the occupied subspace. With orthonormal tracked states φ_0 … φ_{M−1}, the first
+ * `occupied` of them spanning P: r_n = (1 − P) O φ_n, ‖(1 − P) O P‖₂² = λ_max(G), G_nk = ⟨r_n|r_k⟩ (the squared
+ * singular values of (1 − P)OP are the eigenvalues of its Gram matrix; Golub & Van Loan, Matrix Computations,
+ * 4th ed. 2013, §2.4). For the counterdiabatic generator this is the rate at which the bare drive would leak
+ * population out of the occupied states (adiabatic perturbation theory: ⟨m|A|n⟩ = i⟨m|∂_λ n⟩). Scratch: 2N.
+ */
+export function occupiedCoupling(op: SpectralOperator, terms: OperatorTerms, tracked: readonly Float64Array[], occupied: number, scratch: Float64Array): OccupiedCoupling {
+  const residuals: Float64Array[] = [];
+  let window = 0;
+  for (let n = 0; n < occupied; n++) {
+    op.apply(terms, tracked[n], scratch);
+    const r = Float64Array.from(scratch);
+    for (let m = 0; m < tracked.length; m++) {
+      const cr = dotRe(tracked[m], scratch);
+      const ci = dotIm(tracked[m], scratch);
+      if (m !== n) window = Math.max(window, Math.hypot(cr, ci));
+      if (m < occupied) {
+        const phi = tracked[m];
+        for (let j = 0; j < r.length; j += 2) {
+          r[j] -= phi[j] * cr - phi[j + 1] * ci;
+          r[j + 1] -= phi[j] * ci + phi[j + 1] * cr;
+        }
+      }
+    }
+    residuals.push(r);
+  }
+  const gre = new Float64Array(occupied * occupied);
+  const gim = new Float64Array(occupied * occupied);
+  for (let i = 0; i < occupied; i++) for (let j = 0; j < occupied; j++) {
+    gre[i * occupied + j] = dotRe(residuals[i], residuals[j]);
+    gim[i * occupied + j] = dotIm(residuals[i], residuals[j]);
+  }
+  return { leakage: Math.sqrt(hermitianSpectralRadius(gre, gim, occupied)), window };
+}

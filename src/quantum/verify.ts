@@ -10,7 +10,7 @@ import type { Grid } from '../spectral/grid.ts';
 import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
-import { eigenspaceFidelity, excessEnergy, fermionFidelity, groupOf, projectedNorm, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
+import { eigenspaceFidelity, excessEnergy, fermionFidelity, groupOf, occupiedCoupling, projectedNorm, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
@@ -77,6 +77,13 @@ export interface CdStrength {
   cubic: number;
   potential: number;
   atTime: number;
+  /**
+   * The size a lab needs, at every strength sample time s: |λ̇|‖(1 − P)AP‖₂ (the coupling the correction supplies
+   * out of the occupied subspace; `leakageCubic`/`leakagePotential`: the same measure of the p³ and of the
+   * potential-weighted part alone, which partly cancel, so they may exceed the whole) and the largest single
+   * transition element |λ̇⟨m|A|n⟩| between an occupied n and a tracked m ≠ n (E₀); see observables.occupiedCoupling
+   */
+  coupling: { time: number[]; leakage: number[]; leakageCubic: number[]; leakagePotential: number[]; window: number[] };
 }
 
 export interface VerifyResult {
@@ -184,6 +191,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
   const uS = new Float64Array(grid.n);
   let best = { full: 0, cubic: 0, potential: 0, atTime: 0 };
+  const coupling: CdStrength['coupling'] = { time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
   const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
     scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global',
     onProgress: (f) => ctx.progress((di + f) / driveCount, drive),
@@ -197,6 +205,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
         if (full >= best.full) {
           best = { full, cubic: rate * projectedNorm(ctx.op, laxTerms(uS, 'cubic'), occ, ctx.scratch), potential: rate * projectedNorm(ctx.op, laxTerms(uS, 'potential'), occ, ctx.scratch), atTime: s };
         }
+        recordCoupling(coupling, ctx, s, rate, uS, sts);
       }
     },
   });
@@ -209,8 +218,18 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
   return {
     result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace },
-    strength: nStrength > 0 ? { occupied: ctx.occupied, ...best } : null,
+    strength: nStrength > 0 ? { occupied: ctx.occupied, ...best, coupling } : null,
   };
+}
+
+/** one sample of the correction's coupling out of the occupied subspace (CdStrength.coupling) */
+function recordCoupling(c: CdStrength['coupling'], ctx: DriveContext, s: number, rate: number, uS: Float64Array, sts: readonly Float64Array[]): void {
+  const full = occupiedCoupling(ctx.op, laxTerms(uS, 'full'), sts, ctx.occupied, ctx.scratch);
+  c.time.push(s);
+  c.leakage.push(rate * full.leakage);
+  c.window.push(rate * full.window);
+  c.leakageCubic.push(rate * occupiedCoupling(ctx.op, laxTerms(uS, 'cubic'), sts, ctx.occupied, ctx.scratch).leakage);
+  c.leakagePotential.push(rate * occupiedCoupling(ctx.op, laxTerms(uS, 'potential'), sts, ctx.occupied, ctx.scratch).leakage);
 }
 
 /** fidelities of the states in the instantaneous eigenspaces of H(s) */
