@@ -71,15 +71,65 @@ export interface ThermalSummary {
   tailWeight: number;
   tailWarning: string | null;
   meanExcessEnergy: number;
-  /** F_th = Σ_n p_n F_n */
+  /** Boltzmann mean of the state fidelities, Σ_n p_n F_n */
   ensembleFidelity: number;
   definition: string;
+  /** Uhlmann fidelity of the evolved ensemble and the final Gibbs state (set by the verifier; see uhlmannFidelity) */
+  uhlmannFidelity?: number;
+}
+
+/** Boltzmann factors exp(−(E_n − E_0)/T) relative to the lowest given level */
+function boltzmannFactors(energies: readonly number[], temperature: number): number[] {
+  const e0 = energies[0];
+  return energies.map((e) => Math.exp(-(e - e0) / temperature));
+}
+
+/** Boltzmann weights p_n ∝ exp(−(E_n − E_0)/T), renormalised on the given levels */
+export function boltzmannWeights(energies: readonly number[], temperature: number): number[] {
+  const raw = boltzmannFactors(energies, temperature);
+  const z = raw.reduce((a, b) => a + b, 0);
+  return raw.map((w) => w / z);
+}
+
+/**
+ * Uhlmann fidelity F(ρ, σ) = (tr √(√σ ρ √σ))² (Uhlmann, Rep. Math. Phys. 9, 273, 1976; Jozsa, J. Mod. Opt. 41, 2315,
+ * 1994; Nielsen & Chuang, Quantum Computation and Quantum Information, 2000, §9.2.2, who call its square root F) of
+ * the evolved ensemble ρ = Σ_n p_n |ψ_n⟩⟨ψ_n| and the target σ = Σ_m q_m |v_m⟩⟨v_m| (orthonormal real v_m). With
+ * C_mn = ⟨v_m|ψ_n⟩ and B = diag(√q) C diag(√p), √σρ√σ = BB†, so tr √(√σρ√σ) is the sum of the singular values of
+ * B, the square roots of the eigenvalues of B†B. For pure states it is |⟨ψ|v⟩|², the state fidelity used elsewhere.
+ */
+export function uhlmannFidelity(evolved: readonly Float64Array[], p: readonly number[], targets: readonly Float64Array[], q: readonly number[]): number {
+  const n = p.length;
+  const m = q.length;
+  const bre = new Float64Array(m * n);
+  const bim = new Float64Array(m * n);
+  for (let a = 0; a < m; a++) for (let b = 0; b < n; b++) {
+    const [cr, ci] = overlapReal(targets[a], evolved[b]);
+    const f = Math.sqrt(q[a] * p[b]);
+    bre[a * n + b] = f * cr;
+    bim[a * n + b] = f * ci;
+  }
+  // G = B†B (n×n Hermitian)
+  const gre = new Float64Array(n * n);
+  const gim = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    let r = 0, s = 0;
+    for (let a = 0; a < m; a++) {
+      const xr = bre[a * n + i], xi = -bim[a * n + i], yr = bre[a * n + j], yi = bim[a * n + j];
+      r += xr * yr - xi * yi;
+      s += xr * yi + xi * yr;
+    }
+    gre[i * n + j] = r;
+    gim[i * n + j] = s;
+  }
+  const trace = hermitianEigenvalues(gre, gim, n).reduce((acc, e) => acc + Math.sqrt(Math.max(0, e)), 0);
+  return trace * trace;
 }
 
 export function thermalSummary(energies: readonly number[], fidelities: readonly number[], excess: readonly number[], temperature: number, boxLength: number): ThermalSummary {
   if (!(temperature > 0) || !Number.isFinite(temperature)) throw new RangeError(`thermal: temperature ${temperature} must be a positive finite number (energy units E₀)`);
   const e0 = energies[0];
-  const raw = energies.map((e) => Math.exp(-(e - e0) / temperature));
+  const raw = boltzmannFactors(energies, temperature);
   const zComputed = raw.reduce((a, b) => a + b, 0);
   const eTop = energies[energies.length - 1];
   let tail = 0;
@@ -104,7 +154,7 @@ export function thermalSummary(energies: readonly number[], fidelities: readonly
     temperature, weights, tailWeight,
     tailWarning: tailWeight > THERMAL_TAIL_WARN ? `thermal: estimated weight ${tailWeight.toExponential(2)} of levels above the ${energies.length} computed ones exceeds ${THERMAL_TAIL_WARN}; compute more states` : null,
     meanExcessEnergy: meanExcess, ensembleFidelity: fid,
-    definition: 'F_th = Σ_n p_n F_n over the computed levels, p_n ∝ exp(−(E_n − E_0)/T) renormalised on them',
+    definition: 'Boltzmann mean of the state fidelities Σ_n p_n F_n over the computed levels, p_n ∝ exp(−(E_n − E_0)/T) renormalised on them',
   };
 }
 
@@ -182,10 +232,21 @@ export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: 
 }
 
 /**
- * Largest |eigenvalue| of the Hermitian n×n matrix M = (re + i·im) (row-major; its Hermitian part is taken to remove
- * round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]] (each eigenvalue twice).
+ * Eigenvalues (ascending) of the Hermitian n×n matrix M = (re + i·im) (row-major; its Hermitian part is taken to
+ * remove round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]], which has each
+ * eigenvalue of M twice (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.1).
  */
+function hermitianEigenvalues(re: Float64Array, im: Float64Array, n: number): number[] {
+  const all = [...hermitianEmbedding(re, im, n).realEigenvalues].sort((a, b) => a - b);
+  return all.filter((_, i) => i % 2 === 0);
+}
+
+/** largest |eigenvalue| of the Hermitian matrix (re + i·im) */
 function hermitianSpectralRadius(re: Float64Array, im: Float64Array, n: number): number {
+  return Math.max(...hermitianEmbedding(re, im, n).realEigenvalues.map(Math.abs));
+}
+
+function hermitianEmbedding(re: Float64Array, im: Float64Array, n: number): EigenvalueDecomposition {
   const big = new Matrix(2 * n, 2 * n);
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
     const r = 0.5 * (re[i * n + j] + re[j * n + i]);
@@ -195,8 +256,7 @@ function hermitianSpectralRadius(re: Float64Array, im: Float64Array, n: number):
     big.set(i, j + n, -m);
     big.set(i + n, j, m);
   }
-  const evd = new EigenvalueDecomposition(big, { assumeSymmetric: true });
-  return Math.max(...evd.realEigenvalues.map(Math.abs));
+  return new EigenvalueDecomposition(big, { assumeSymmetric: true });
 }
 
 /** ‖P O P‖₂ for orthonormal complex states φ (P their projector); scratch length 2N */

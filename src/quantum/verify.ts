@@ -10,7 +10,7 @@ import type { Grid } from '../spectral/grid.ts';
 import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
-import { eigenspaceFidelity, excessEnergy, fermionFidelity, groupOf, occupiedCoupling, projectedNorm, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
+import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, projectedNorm, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
@@ -213,6 +213,11 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   const fid = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
   const exc = res.states.map((p, i) => excessEnergy(ctx.op, ctx.u1, p, e1.energies[i], ctx.scratch));
   const thermal = opts.temperature !== undefined ? thermalSummary(e0.energies.slice(0, m), fid, exc, opts.temperature, grid.length) : null;
+  if (thermal) {
+    // the final Gibbs state on the same tracked levels at the same temperature
+    const q = boltzmannWeights(e1.energies.slice(0, m), thermal.temperature);
+    thermal.uhlmannFidelity = uhlmannFidelity(res.states, thermal.weights, e1.vectors.slice(0, m), q);
+  }
   if (thermal?.tailWarning) warnings.push(`${drive}: ${thermal.tailWarning}`);
   const fermions = opts.fermions !== undefined ? fermionFidelity(res.states, e1.vectors, e1.energies, opts.fermions, ctx.degTol) : null;
   if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
