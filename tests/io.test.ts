@@ -8,21 +8,11 @@ import { UserError } from '../src/core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../src/io/files.ts';
 import { decodeNpy, encodeNpy } from '../src/io/npy.ts';
 import { readSamplesFile } from '../src/io/samples.ts';
+import { userErrorOf } from './user-error.ts';
 
 const work = mkdtempSync(join(tmpdir(), 'isotrap-io-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
-/** run `fn`, expect a UserError, return its message */
-function userErrorOf(fn: () => unknown): string {
-  try {
-    fn();
-  } catch (e) {
-    expect(e).toBeInstanceOf(UserError);
-    expect((e as UserError).exitCode).toBe(2);
-    return (e as UserError).message;
-  }
-  throw new Error('expected a UserError, none was thrown');
-}
 
 const fromB64 = (s: string): Uint8Array => new Uint8Array(Buffer.from(s, 'base64'));
 const latin1 = (b: Uint8Array, from: number, to: number): string => Buffer.from(b.subarray(from, to)).toString('latin1');

@@ -17,7 +17,7 @@ function ioError(action: string, path: string, err: unknown): UserError {
 }
 
 /** true when a process with this id is alive (signal 0 tests existence without sending anything) */
-function processAlive(pid: number): boolean {
+export function processAlive(pid: number): boolean {
   try {
     process.kill(pid, 0);
     return true;
