@@ -4,7 +4,6 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { readNumericCsv, writeCsv } from '../src/io/csv.ts';
-import { UserError } from '../src/core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../src/io/files.ts';
 import { decodeNpy, encodeNpy } from '../src/io/npy.ts';
 import { readSamplesFile } from '../src/io/samples.ts';
