@@ -17,6 +17,10 @@ describe('verifySequence on a single soliton (u = −2κ²sech²(κ(ξ − 4κ²
     for (const f of cd.fidelity) expect(f).toBeGreaterThan(1 - 1e-8);
     expect(flipped.fidelity[0]).toBeLessThan(bare.fidelity[0] + 1e-12); // wrong sign is no better than no correction (physics.md §3)
     expect(cd.trace?.fidelity.length).toBe(3);
+    // the trace runs from s = 0 to s = T and ends at the reported final fidelities (same eigenspaces)
+    expect(cd.trace?.times).toEqual([0, 0.5, 1]);
+    expect(bare.trace?.fidelity[2]).toEqual(bare.fidelity);
+    for (const f of bare.trace?.fidelity[0] ?? []) expect(f).toBeGreaterThan(1 - 1e-12); // initial eigenstates
     for (const row of cd.trace?.fidelity ?? []) for (const f of row) expect(f).toBeGreaterThan(1 - 1e-8); // transported at every instant
     // thermal: weights sum to 1 over the computed states (definition), F_th = Σ p_n F_n
     const th = cd.thermal!;

@@ -43,7 +43,8 @@ export interface VerifyOptions {
   errorControl?: 'local' | 'global';
   eigenMethod?: EigenMethod;
   degeneracyTol?: number;
-  /** number of fidelity-trace samples per drive (0 = none; each costs one eigen-solve) */
+  /** number of fidelity-trace samples per drive, equally spaced from s = 0 to s = T inclusive, so the trace starts
+   *  at the initial states and ends at the reported final fidelities (0 = none; each interior one costs an eigen-solve) */
   traceSamples?: number;
   strengthSamples?: number;
   onProgress?: (fraction: number, stage: string) => void;
@@ -185,7 +186,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   const sigma = DRIVE_SIGMA[drive];
   const nTrace = opts.traceSamples ?? 0;
   const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
-  const traceTimes = Array.from({ length: nTrace }, (_, i) => (opts.duration * (i + 1)) / (nTrace + 1));
+  const traceTimes = Array.from({ length: nTrace }, (_, i) => (nTrace === 1 ? opts.duration : (opts.duration * i) / (nTrace - 1)));
   const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
   const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
@@ -279,7 +280,9 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   }
   const ctx: DriveContext = {
     opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
-    scratch: new Float64Array(2 * grid.n), occupied, degTol, traceBases: new Map(), warnings, progress, u1,
+    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, progress, u1,
+    // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
+    traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),
   };
   const tProp = performance.now();
   const results: DriveResult[] = [];
