@@ -4,7 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { readNumericCsv, writeCsv } from '../src/io/csv.ts';
-import { prepareOutputDir, writeFileAtomic } from '../src/io/files.ts';
+import { prepareOutputDir, readBoundedFile, writeFileAtomic } from '../src/io/files.ts';
 import { decodeNpy, encodeNpy } from '../src/io/npy.ts';
 import { readSamplesFile } from '../src/io/samples.ts';
 import { userErrorOf } from './user-error.ts';
@@ -273,10 +273,22 @@ describe('samples files', () => {
   it('rejects missing files, wrong shapes and extensions', () => {
     const missing = join(work, 'nope.csv');
     expect(userErrorOf(() => readSamplesFile(missing))).toBe(`samples file ${missing} does not exist`);
+    // a device that never ends (/dev/zero, POSIX) and a folder are refused before anything is read
+    expect(userErrorOf(() => readSamplesFile('/dev/zero'))).toBe('samples file /dev/zero is not a regular file');
+    expect(userErrorOf(() => readSamplesFile(work))).toBe(`samples file ${work} is not a regular file`);
     expect(userErrorOf(() => readSamplesFile(write('three.csv', '1,2,3\n4,5,6\n')))).toMatch(/has 3 columns, expected 2 \(x, V\)/);
     expect(userErrorOf(() => readSamplesFile(write('s3.npy', encodeNpy(new Float64Array(6), [2, 3]))))).toMatch(
       /array shape \(2, 3\) is not allowed: must be 1-D \(M,\) or \(M, 2\)/,
     );
     expect(userErrorOf(() => readSamplesFile(write('s.txt', '1,2\n')))).toMatch(/extension "\.txt": allowed are \.csv and \.npy/);
+  });
+});
+
+describe('bounded input', () => {
+  it('refuses a file over the size limit before reading it', () => {
+    const p = join(work, 'big.csv');
+    writeFileSync(p, 'x'.repeat(2048));
+    expect(userErrorOf(() => readBoundedFile(p, 1024, 'sequence file'))).toBe(`sequence file ${p} has 2.00 KiB; at most 1.00 KiB are read`);
+    expect(readBoundedFile(p, 4096, 'sequence file').length).toBe(2048);
   });
 });

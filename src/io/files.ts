@@ -2,7 +2,7 @@
  * File output helpers: atomic writes and output-folder preparation that never deletes anything.
  */
 import { randomBytes } from 'node:crypto';
-import { existsSync, mkdirSync, readdirSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { UserError } from '../core/errors.ts';
 
@@ -14,6 +14,34 @@ function ioError(action: string, path: string, err: unknown): UserError {
   const e = err as NodeJS.ErrnoException;
   const why = e.code ? `${e.code}: ${e.message.replace(/^[A-Z]+: /, '').replace(/, \w+ '.*'$/, '')}` : String(e.message ?? err);
   return new UserError(`cannot ${action} ${path} (${why})`);
+}
+
+/** bytes in the largest binary unit that keeps the number ≥ 1 (B, KiB, MiB, GiB) */
+export function formatBytes(bytes: number): string {
+  const units = ['B', 'KiB', 'MiB', 'GiB'];
+  let v = bytes;
+  let i = 0;
+  while (v >= 1024 && i < units.length - 1) {
+    v /= 1024;
+    i++;
+  }
+  return `${i === 0 ? v : v.toPrecision(3)} ${units[i]}`;
+}
+
+/**
+ * Read an input file of at most `maxBytes`, checked before reading: a missing path, a folder, a device (such as
+ * /dev/zero, which never ends) or an oversized file is an input error naming `what` and the limit.
+ */
+export function readBoundedFile(path: string, maxBytes: number, what: string): Buffer {
+  if (!existsSync(path)) throw new UserError(`${what} ${path} does not exist`);
+  const st = statSync(path);
+  if (!st.isFile()) throw new UserError(`${what} ${path} is not a regular file`);
+  if (st.size > maxBytes) throw new UserError(`${what} ${path} has ${formatBytes(st.size)}; at most ${formatBytes(maxBytes)} are read`);
+  try {
+    return readFileSync(path);
+  } catch (err) {
+    throw ioError('read', path, err);
+  }
 }
 
 /** true when a process with this id is alive (signal 0 tests existence without sending anything) */

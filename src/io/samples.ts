@@ -6,16 +6,18 @@
  *   .npy: shape [M, 2] (columns x, V)                        → {x, values}
  * When x is present it must be strictly increasing and uniformly spaced.
  */
-import { existsSync, readFileSync, statSync } from 'node:fs';
 import { extname } from 'node:path';
 import { readNumericCsv } from './csv.ts';
 import { UserError } from '../core/errors.ts';
 import { decodeNpy } from './npy.ts';
+import { readBoundedFile } from './files.ts';
 
 /** relative tolerance on the sample spacing: far above float64 round-off of printed x values, far below any real non-uniformity */
 export const UNIFORM_SPACING_RTOL = 1e-9;
 /** fewest samples that define a spacing and a meaningful resampling */
 const MIN_SAMPLES = 2;
+/** largest samples file read: 64 MiB holds millions of samples, far beyond any grid (common practice) */
+export const MAX_SAMPLES_BYTES = 64 * 2 ** 20;
 
 export interface Samples {
   /** sample positions (file's units), or null for a bare 1-D .npy array */
@@ -48,12 +50,11 @@ export function checkUniform(x: Float64Array, fileName: string, rowName: (i: num
 
 /** Read a .csv or .npy file of potential samples (see module doc). */
 export function readSamplesFile(path: string): Samples {
-  if (!existsSync(path)) throw new UserError(`samples file ${path} does not exist`);
-  if (!statSync(path).isFile()) throw new UserError(`samples file ${path} is not a regular file`);
+  const bytes = readBoundedFile(path, MAX_SAMPLES_BYTES, 'samples file');
   const ext = extname(path).toLowerCase();
   let result: Samples;
   if (ext === '.csv') {
-    const csv = readNumericCsv(readFileSync(path, 'utf8'), path);
+    const csv = readNumericCsv(bytes.toString('utf8'), path);
     if (csv.columns.length !== 2) {
       throw new UserError(`${path}: has ${csv.columns.length} columns, expected 2 (x, V)`);
     }
@@ -62,8 +63,7 @@ export function readSamplesFile(path: string): Samples {
     checkUniform(x, path, (i) => `row ${csv.lines[i]}`);
     result = { x, values };
   } else if (ext === '.npy') {
-    const buf = readFileSync(path);
-    const arr = decodeNpy(new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength), path);
+    const arr = decodeNpy(new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), path);
     if (arr.shape.length === 1) {
       if (arr.shape[0] < MIN_SAMPLES) throw new UserError(`${path}: has ${arr.shape[0]} samples, at least ${MIN_SAMPLES} are needed`);
       result = { x: null, values: arr.data };
