@@ -30,6 +30,23 @@ export interface SolitonSpec {
   center: number;
 }
 
+/** a KdV soliton in natural units: inverse width κ, depth 2κ² and speed 4κ² (ℓ per unit τ) */
+export interface SolitonShape {
+  kappa: number;
+  depth: number;
+  speed: number;
+}
+
+/**
+ * The soliton a bound state of H(0) = k² + u₀ becomes (physics.md §4; Gardner, Greene, Kruskal & Miura, Phys. Rev.
+ * Lett. 19, 1095, 1967): the eigenvalue E = −κ² is conserved by the flow and emerges as the soliton
+ * u = −2κ² sech²(κ(ξ − 4κ²τ − ξ₀)), of depth 2κ² moving at speed 4κ² (natural units).
+ */
+export function solitonFromBoundState(energy: number): SolitonShape {
+  const kappa = Math.sqrt(-energy);
+  return { kappa, depth: 2 * kappa * kappa, speed: 4 * kappa * kappa };
+}
+
 /**
  * Kay–Moses N-soliton potential at one τ on the given points. ln det(I + A) is differentiated analytically:
  * ∂² ln det M = tr(M⁻¹M″) − tr(M⁻¹M′M⁻¹M′). To avoid overflow, M = I + DBD (D = diag d_i,
