@@ -399,9 +399,22 @@ export function parseConfigWith<S extends z.ZodType<ConfigData>>(
   return Object.assign(data, { meta: { source: sourceName, baseDir: resolve(baseDir) } });
 }
 
+/**
+ * Parse YAML text against `schema` (configSchema or an extension of it); `sourceName` names the text in messages
+ * and relative paths resolve against `baseDir`.
+ */
+export function parseConfigTextWith<S extends z.ZodType<ConfigData>>(schema: S, text: string, sourceName: string, baseDir: string): z.output<S> & { readonly meta: ConfigMeta } {
+  return parseConfigWith(schema, parseYaml(text, sourceName), sourceName, baseDir);
+}
+
+/** Read and validate a config file against `schema`; relative paths inside it resolve against the file's folder. */
+export function loadConfigWith<S extends z.ZodType<ConfigData>>(schema: S, path: string): z.output<S> & { readonly meta: ConfigMeta } {
+  return parseConfigTextWith(schema, readConfigText(path), path, dirname(resolve(path)));
+}
+
 /** Parse YAML text (named `sourceName` in messages; relative paths resolve against `baseDir`). */
 export function parseConfig(text: string, sourceName: string, baseDir: string): Config {
-  return parseConfigWith(configSchema, parseYaml(text, sourceName), sourceName, baseDir);
+  return parseConfigTextWith(configSchema, text, sourceName, baseDir);
 }
 
 /** Read a config file's text; a missing or unreadable file is a UserError naming the path. */
@@ -416,5 +429,5 @@ export function readConfigText(path: string): string {
 
 /** Read and validate a config file; relative paths inside it resolve against the file's folder. */
 export function loadConfig(path: string): Config {
-  return parseConfig(readConfigText(path), path, dirname(resolve(path)));
+  return loadConfigWith(configSchema, path);
 }

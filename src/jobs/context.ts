@@ -11,11 +11,6 @@ import { nSolitonPotential } from '../flow/solitons.ts';
 import { sech2Trap, wellScale, wellsTrap } from '../flow/traps.ts';
 import { dispersionNumber, type UnitSystem } from '../units/scales.ts';
 
-/** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
-export const EDGE_DECAY = 1e-6;
-/** sample x positions must match the config's box to this fraction of a grid step */
-export const SAMPLE_GRID_MATCH = 1e-6;
-
 export interface JobContext {
   config: Config;
   units: UnitSystem;
@@ -32,6 +27,11 @@ export interface JobContext {
   speciesLabel: string | null;
   warnings: string[];
 }
+
+/** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
+export const EDGE_DECAY = 1e-6;
+/** sample x positions must match the config's box to this fraction of a grid step */
+export const SAMPLE_GRID_MATCH = 1e-6;
 
 /** u(ξ, 0) from the config's `initial` section, in natural units (shapes: flow/traps.ts, flow/solitons.ts) */
 export function initialPotential(config: Config, units: UnitSystem, grid: Grid): Float64Array {
