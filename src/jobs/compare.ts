@@ -37,7 +37,7 @@ import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { driveWithCorrection } from '../quantum/correction.ts';
 import { scalesText, toJson } from './design.ts';
 import { compareFigures, writeFigures } from './report.ts';
-import { makeContext, type JobContext } from './context.ts';
+import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
 export type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson };
 
@@ -116,7 +116,7 @@ function bothSequences(config: CompareConfig, ctx: JobContext, warnings: string[
   const flowCfg = config.flow;
   const drift = units.lengthToNatural(flowCfg.drift);
   const lambdaEnd = flowCfg.lambda_end;
-  const frames = Array.from({ length: flowCfg.frames }, (_, i) => (lambdaEnd * i) / (flowCfg.frames - 1));
+  const frames = frameLambdas(flowCfg);
   const breaking = hopfBreaking(grid, u0);
   const breakingGrid = gridBreaking(grid, u0);
   progress('quantum sequence', 0);

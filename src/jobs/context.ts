@@ -77,6 +77,11 @@ export function initialPotential(config: Config, units: UnitSystem, grid: Grid):
   }
 }
 
+/** the λ of the stored frames: flow.frames points evenly spaced on [0, flow.lambda_end] */
+export function frameLambdas(flow: Config['flow']): number[] {
+  return Array.from({ length: flow.frames }, (_, i) => (flow.lambda_end * i) / (flow.frames - 1));
+}
+
 export function makeContext(config: Config): JobContext {
   const units = unitSystemOf(config.units);
   const grid = makeGrid(units.lengthToNatural(config.grid.length), config.grid.points);

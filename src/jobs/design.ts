@@ -15,7 +15,7 @@ import { boundStates, spectrumTrack, type BoundStates, type SpectrumTrack } from
 import { solitonFromBoundState } from '../flow/solitons.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
-import { makeContext, type JobContext } from './context.ts';
+import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 export type { DesignSummary, SolitonPrediction };
 
@@ -77,7 +77,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const { grid, units, u0 } = ctx;
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
-  const frames = Array.from({ length: flowCfg.frames }, (_, i) => (flowCfg.lambda_end * i) / (flowCfg.frames - 1));
+  const frames = frameLambdas(flowCfg);
   const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress });
   const warnings = [...ctx.warnings];
 

@@ -26,7 +26,7 @@ import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { MAX_SITE_PRODUCTS, predictedWork, siteCountProblem } from '../lattice/cost.ts';
-import { depthTunnelling, dispersionForMass, effectiveMassU, naturalTunnelling, type DepthTunnelling } from '../lattice/params.ts';
+import { depthTunnelling, dispersionForMass, effectiveMassU, naturalBandWidth, naturalTunnelling, spacingFromWavelengthUm, type DepthTunnelling } from '../lattice/params.ts';
 import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
 import { latticeStudy, observedOrder, recommendLattice, solitonWidth } from '../lattice/study.ts';
 import { controlTables } from '../lattice/tables.ts';
@@ -92,7 +92,7 @@ export function latticeParameters(config: LatticeConfig): LatticeParameters {
     const h = l.spacing as number;
     return { system: 'natural', spacing: h, h, tunnelling: naturalTunnelling(h), tunnellingSource: 'implied', depth: null, massStarU: null, massU: null, warnings };
   }
-  const dUm = l.spacing_um ?? (l.wavelength_nm as number) / 2000;
+  const dUm = l.spacing_um ?? spacingFromWavelengthUm(l.wavelength_nm as number);
   const dM = dUm * 1e-6;
   let jHz: number;
   let source: LatticeParameters['tunnellingSource'] = 'given';
@@ -296,7 +296,7 @@ function tablesStep(setup: LatticeSetup, seq: LatticeSequence, sites: Float64Arr
     onMin = Math.min(onMin, e);
     onMax = Math.max(onMax, e);
   }
-  const cdFraction = Math.max(t.maxNn, t.maxNnn) / bandWidth(h);
+  const cdFraction = Math.max(t.maxNn, t.maxNnn) / naturalBandWidth(h);
   if (cdFraction > 1) {
     setup.warnings.push(
       `the largest CD coupling is ${cdFraction.toFixed(2)} × the band width 4J: the Peierls couplings grow like λ̇/d³ against J ∝ 1/d², ` +
@@ -326,11 +326,6 @@ function tablesStep(setup: LatticeSetup, seq: LatticeSequence, sites: Float64Arr
       'nn: A e^{iφ} = −J + i b_j, b_j = λ̇·(4/d³ + 3(u_j+u_{j+1})/(2d)) in natural units; nnn: i q, q = −2λ̇/d³ (physics.md §3, §6)',
   };
   return { tables, couplings };
-}
-
-/** the band width 4J = 4/h² of the lowest band (E₀) */
-function bandWidth(h: number): number {
-  return 4 / (h * h);
 }
 
 /** number of propagated states: lattice.states, verify.states, or the bound states of the lattice H(0) (at most DEFAULT_MAX_STATES) */
@@ -434,7 +429,7 @@ function descriptionSections(setup: LatticeSetup, M: number): Pick<LatticeSummar
       spacing_natural_l: h,
       tunnelling: hz(naturalTunnelling(h)),
       tunnelling_source: params.tunnellingSource,
-      band_width_4J: hz(bandWidth(h)),
+      band_width_4J: hz(naturalBandWidth(h)),
       sites: M,
       depth: params.depth,
     },
