@@ -21,27 +21,21 @@
  */
 import { z } from 'zod';
 import { MAX_DEPTH_RECOIL } from '../lattice/bands.ts';
-import { loadConfigWith, parseConfigTextWith, strictSection, type ConfigMeta } from './config.ts';
+import { intBetween, loadConfigWith, numberWhere, parseConfigTextWith, positive, strictSection, type ConfigMeta } from './config.ts';
 import { compareConfigSchema } from './config-compare.ts';
 
 /** default sites per soliton width of the convergence study (infidelity ∝ (sites)^−4: 3 → 8 spans ~2 decades) */
 export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
 export const DEFAULT_TARGET_INFIDELITY = 1e-4;
 
-const pos = (what: string) =>
-  z.number({ error: `must be a number > 0 (${what})` }).refine((v) => Number.isFinite(v) && v > 0, { error: `must be a number > 0 (${what})` });
-const intRange = (lo: number, hi: number) => {
-  const rule = `must be an integer from ${lo} to ${hi}`;
-  return z.number({ error: rule }).refine((v) => Number.isInteger(v) && v >= lo && v <= hi, { error: rule });
-};
 const sitesRule = 'must be a list of distinct numbers ≥ 1 (sites per width of the narrowest soliton); [] skips the study';
 
 export const latticeSectionSchema = strictSection(
   {
-    spacing_um: pos('lattice spacing d in µm; lab units').optional(),
-    wavelength_nm: pos('wavelength of the lattice light in nm, d = λ/2; lab units').optional(),
-    spacing: pos('lattice spacing d in ℓ; natural units').optional(),
-    tunnelling_hz: pos('tunnelling J in h·Hz; lab units').optional(),
+    spacing_um: positive('lattice spacing d in µm; lab units').optional(),
+    wavelength_nm: positive('wavelength of the lattice light in nm, d = λ/2; lab units').optional(),
+    spacing: positive('lattice spacing d in ℓ; natural units').optional(),
+    tunnelling_hz: positive('tunnelling J in h·Hz; lab units').optional(),
     depth_recoil: z
       .number({ error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units)` })
       .refine((v) => v > 0 && v <= MAX_DEPTH_RECOIL, { error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units; deeper bands are narrower than double-precision round-off)` })
@@ -51,16 +45,10 @@ export const latticeSectionSchema = strictSection(
       .array(z.number({ error: sitesRule }).refine((v) => Number.isFinite(v) && v >= 1, { error: sitesRule }), { error: sitesRule })
       .refine((v) => new Set(v).size === v.length, { error: sitesRule })
       .default([...DEFAULT_SITES_PER_WIDTH]),
-    target_infidelity: z
-      .number({ error: 'must be a number in (0, 0.5)' })
-      .refine((v) => v > 0 && v < 0.5, { error: 'must be a number in (0, 0.5)' })
-      .default(DEFAULT_TARGET_INFIDELITY),
-    samples: intRange(2, 2001).default(21),
-    states: intRange(1, 50).optional(),
-    tolerance: z
-      .number({ error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
-      .refine((v) => v > 0 && v <= 1e-2, { error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
-      .default(1e-4),
+    target_infidelity: numberWhere('must be a number in (0, 0.5)', (v) => v > 0 && v < 0.5).default(DEFAULT_TARGET_INFIDELITY),
+    samples: intBetween(2, 2001).default(21),
+    states: intBetween(1, 50).optional(),
+    tolerance: numberWhere('must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)', (v) => v > 0 && v <= 1e-2).default(1e-4),
   },
   'lattice',
 );

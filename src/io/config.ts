@@ -10,8 +10,8 @@
  * (source: the name used in messages, baseDir: the folder relative paths were resolved against).
  * For `initial.kind: samples`, `initial.file` is returned resolved to an absolute path.
  *
- * The schema pieces are exported so that later sections (compare, lattice, check, …) can be added with
- * `configSchema.extend({...})` and validated with `parseConfigWith`.
+ * The schema pieces are exported so that further sections can be added with `configSchema.extend({...})`
+ * (io/config-compare.ts, io/config-lattice.ts) and read with `parseConfigTextWith` / `loadConfigWith`.
  */
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
@@ -47,16 +47,18 @@ export function strictSection<S extends z.core.$ZodLooseShape>(shape: S, where: 
 }
 
 /** finite number satisfying `ok`; `allowed` describes the rule */
-function numberWhere(allowed: string, ok: (v: number) => boolean = () => true) {
+export function numberWhere(allowed: string, ok: (v: number) => boolean = () => true) {
   return z.number({ error: allowed }).refine(ok, { error: allowed });
 }
 
-function intBetween(lo: number, hi: number) {
+/** integer in [lo, hi] */
+export function intBetween(lo: number, hi: number) {
   const allowed = `must be an integer from ${lo} to ${hi}`;
   return numberWhere(allowed, (v) => Number.isInteger(v) && v >= lo && v <= hi);
 }
 
-function positive(what: string) {
+/** number > 0; `what` names the quantity and its unit */
+export function positive(what: string) {
   return numberWhere(`must be a number > 0 (${what})`, (v) => v > 0);
 }
 
