@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { parseCompareConfig, quantumDrives, runCompare } from '../src/jobs/compare.ts';
+import { parseCompareConfig } from '../src/io/config-compare.ts';
+import { quantumDrives, runCompare } from '../src/jobs/compare.ts';
 
 // physics.md §2: the cubic correction is exact only along a KdV-admissible (quantum) sequence; along the Hopf
 // (classical, ħ → 0) sequence of the same start it is not, and at δ² = 1/6 the difference is large.

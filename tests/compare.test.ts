@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { driftSweep, fitPowerLaw, scaledProblem, scalingStudy } from '../src/classical/scaling.ts';
 import { UserError } from '../src/core/errors.ts';
-import { parseCompareConfig, runCompare, withQuantumDrives } from '../src/jobs/compare.ts';
+import { parseCompareConfig } from '../src/io/config-compare.ts';
+import { runCompare, withQuantumDrives } from '../src/jobs/compare.ts';
 import { toJson } from '../src/jobs/design.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 

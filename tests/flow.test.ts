@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { NumericalError } from '../src/core/errors.ts';
 import { integrateFlow, naturalFlowEquation } from '../src/flow/kdv.ts';
 import { invariantDrift, invariants } from '../src/flow/invariants.ts';
-import { nSolitonPotential, oneSoliton, solitonAsymptotes, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
+import { nSolitonPotential, oneSoliton, solitonAsymptotes, solitonFromBoundState, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { findWells } from '../src/flow/wells.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 
@@ -125,5 +125,12 @@ describe('bounded memory', () => {
     // the default budget is ample for the same flow
     const ok = integrateFlow(g, naturalFlowEquation('quantum'), u0, { tolerance: 1e-10, frames: [1] });
     expect(ok.dense.bytes).toBe(ok.dense.lambdas.length * perPoint);
+  });
+});
+
+describe('solitons predicted from bound states (src/flow/solitons.ts)', () => {
+  it('E = −4 and E = −1 of −6 sech²ξ become κ = 2 (depth 8, speed 16) and κ = 1 (depth 2, speed 4) (physics.md §4; Drazin & Johnson 1989)', () => {
+    expect(solitonFromBoundState(-4)).toEqual({ kappa: 2, depth: 8, speed: 16 });
+    expect(solitonFromBoundState(-1)).toEqual({ kappa: 1, depth: 2, speed: 4 });
   });
 });

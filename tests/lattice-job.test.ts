@@ -4,9 +4,10 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { decodeNpy } from '../src/io/npy.ts';
 import { UserError } from '../src/core/errors.ts';
-import type { CompareConfig } from '../src/jobs/compare.ts';
+import type { CompareConfig } from '../src/io/config-compare.ts';
+import { parseLatticeConfig } from '../src/io/config-lattice.ts';
 import { makeContext } from '../src/jobs/context.ts';
-import { effectiveMassConfig, latticeParameters, LATTICE_FILES, parseLatticeConfig, runLattice, writeLatticeOutputs } from '../src/jobs/lattice.ts';
+import { effectiveMassConfig, latticeParameters, LATTICE_FILES, runLattice, writeLatticeOutputs } from '../src/jobs/lattice.ts';
 import { lowestBand } from '../src/lattice/bands.ts';
 import { HBAR, PLANCK_H, ATOMIC_MASS_CONSTANT } from '../src/units/constants.ts';
 
@@ -43,7 +44,7 @@ function message(fn: () => unknown): string {
   throw new Error('expected a UserError');
 }
 
-describe('lattice config section (src/jobs/lattice.ts)', () => {
+describe('lattice config section (src/io/config-lattice.ts)', () => {
   it('names the key, the value and what is allowed', () => {
     // house rules: every user mistake names key, value and the rule (common practice)
     expect(message(() => parseLatticeConfig(labText('{ tunnelling_hz: 50 }'), 'x.yaml', '.'))).toMatch(/lattice\.spacing_um .*exactly one of lattice\.spacing_um/);

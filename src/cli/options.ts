@@ -30,4 +30,4 @@ export function numberOption(name: string, v: string | undefined): number | unde
 }
 
 // every command reads the same scenario file, so all of them validate against the full schema (compare, lattice)
-export { loadLatticeConfig as loadScenario } from '../jobs/lattice.ts';
+export { loadLatticeConfig as loadScenario } from '../io/config-lattice.ts';

@@ -8,6 +8,7 @@
  *   We write c_i² = 2κ_i e^{2κ_i x_i}: x_i is where soliton i would sit at τ = 0 if it were alone.
  * - The closed-form two-soliton from u(ξ, 0) = −6 sech²ξ (Drazin & Johnson, Solitons: an Introduction, 1989).
  */
+import { solveDenseInPlace } from '../linalg/dense-solve.ts';
 
 export function oneSoliton(kappa: number, center: number, xi: number, tau: number): number {
   const s = 1 / Math.cosh(kappa * (xi - 4 * kappa * kappa * tau - center));
@@ -29,6 +30,23 @@ export interface SolitonSpec {
   center: number;
 }
 
+/** a KdV soliton in natural units: inverse width κ, depth 2κ² and speed 4κ² (ℓ per unit τ) */
+export interface SolitonShape {
+  kappa: number;
+  depth: number;
+  speed: number;
+}
+
+/**
+ * The soliton a bound state of H(0) = k² + u₀ becomes (physics.md §4; Gardner, Greene, Kruskal & Miura, Phys. Rev.
+ * Lett. 19, 1095, 1967): the eigenvalue E = −κ² is conserved by the flow and emerges as the soliton
+ * u = −2κ² sech²(κ(ξ − 4κ²τ − ξ₀)), of depth 2κ² moving at speed 4κ² (natural units).
+ */
+export function solitonFromBoundState(energy: number): SolitonShape {
+  const kappa = Math.sqrt(-energy);
+  return { kappa, depth: 2 * kappa * kappa, speed: 4 * kappa * kappa };
+}
+
 /**
  * Kay–Moses N-soliton potential at one τ on the given points. ln det(I + A) is differentiated analytically:
  * ∂² ln det M = tr(M⁻¹M″) − tr(M⁻¹M′M⁻¹M′). To avoid overflow, M = I + DBD (D = diag d_i,
@@ -40,9 +58,9 @@ export function nSolitonPotential(solitons: readonly SolitonSpec[], x: ArrayLike
   const out = new Float64Array(x.length);
   const kap = solitons.map((s) => s.kappa);
   const logc = solitons.map((s) => 0.5 * Math.log(2 * s.kappa) + s.kappa * s.center);
-  const M = new Float64Array(n * n);
-  const M1 = new Float64Array(n * n);
-  const M2 = new Float64Array(n * n);
+  const M = new Float64Array(n * n); // M, overwritten by its triangular factor
+  const X1 = new Float64Array(n * n); // M′, then M⁻¹M′
+  const X2 = new Float64Array(n * n); // M″, then M⁻¹M″
   const g = new Float64Array(n);
   const dg = new Float64Array(n); // g'/g
   const sd = new Float64Array(n); // s⁻² diagonal
@@ -74,50 +92,12 @@ export function nSolitonPotential(solitons: readonly SolitonSpec[], x: ArrayLike
           m2 += dsd[i] * dsd[i] * sd[i];
         }
         M[i * n + j] = m0;
-        M1[i * n + j] = m1;
-        M2[i * n + j] = m2;
+        X1[i * n + j] = m1;
+        X2[i * n + j] = m2;
       }
     }
-    // solve M X = [M1 | M2] by Gaussian elimination with partial pivoting (n is small)
-    const X1 = Float64Array.from(M1);
-    const X2 = Float64Array.from(M2);
-    const A = Float64Array.from(M);
-    for (let col = 0; col < n; col++) {
-      let piv = col;
-      for (let r = col + 1; r < n; r++) if (Math.abs(A[r * n + col]) > Math.abs(A[piv * n + col])) piv = r;
-      if (piv !== col) {
-        for (const arr of [A, X1, X2]) {
-          for (let c = 0; c < n; c++) {
-            const t = arr[col * n + c];
-            arr[col * n + c] = arr[piv * n + c];
-            arr[piv * n + c] = t;
-          }
-        }
-      }
-      const d = A[col * n + col];
-      for (let r = col + 1; r < n; r++) {
-        const f = A[r * n + col] / d;
-        if (f === 0) continue;
-        for (let c = 0; c < n; c++) {
-          A[r * n + c] -= f * A[col * n + c];
-          X1[r * n + c] -= f * X1[col * n + c];
-          X2[r * n + c] -= f * X2[col * n + c];
-        }
-      }
-    }
-    for (let col = n - 1; col >= 0; col--) {
-      const d = A[col * n + col];
-      for (let c = 0; c < n; c++) {
-        let s1 = X1[col * n + c];
-        let s2 = X2[col * n + c];
-        for (let k = col + 1; k < n; k++) {
-          s1 -= A[col * n + k] * X1[k * n + c];
-          s2 -= A[col * n + k] * X2[k * n + c];
-        }
-        X1[col * n + c] = s1 / d;
-        X2[col * n + c] = s2 / d;
-      }
-    }
+    // M X = [M′ | M″] (n is small: dense Gaussian elimination with partial pivoting)
+    solveDenseInPlace(M, n, [X1, X2], n);
     // tr(M⁻¹M″) − tr((M⁻¹M′)²)
     let tr2 = 0;
     let tr11 = 0;

@@ -10,8 +10,8 @@
  * (source: the name used in messages, baseDir: the folder relative paths were resolved against).
  * For `initial.kind: samples`, `initial.file` is returned resolved to an absolute path.
  *
- * The schema pieces are exported so that later sections (compare, lattice, check, …) can be added with
- * `configSchema.extend({...})` and validated with `parseConfigWith`.
+ * The schema pieces are exported so that further sections can be added with `configSchema.extend({...})`
+ * (io/config-compare.ts, io/config-lattice.ts) and read with `parseConfigTextWith` / `loadConfigWith`.
  */
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
@@ -47,16 +47,18 @@ export function strictSection<S extends z.core.$ZodLooseShape>(shape: S, where: 
 }
 
 /** finite number satisfying `ok`; `allowed` describes the rule */
-function numberWhere(allowed: string, ok: (v: number) => boolean = () => true) {
+export function numberWhere(allowed: string, ok: (v: number) => boolean = () => true) {
   return z.number({ error: allowed }).refine(ok, { error: allowed });
 }
 
-function intBetween(lo: number, hi: number) {
+/** integer in [lo, hi] */
+export function intBetween(lo: number, hi: number) {
   const allowed = `must be an integer from ${lo} to ${hi}`;
   return numberWhere(allowed, (v) => Number.isInteger(v) && v >= lo && v <= hi);
 }
 
-function positive(what: string) {
+/** number > 0; `what` names the quantity and its unit */
+export function positive(what: string) {
   return numberWhere(`must be a number > 0 (${what})`, (v) => v > 0);
 }
 
@@ -399,9 +401,22 @@ export function parseConfigWith<S extends z.ZodType<ConfigData>>(
   return Object.assign(data, { meta: { source: sourceName, baseDir: resolve(baseDir) } });
 }
 
+/**
+ * Parse YAML text against `schema` (configSchema or an extension of it); `sourceName` names the text in messages
+ * and relative paths resolve against `baseDir`.
+ */
+export function parseConfigTextWith<S extends z.ZodType<ConfigData>>(schema: S, text: string, sourceName: string, baseDir: string): z.output<S> & { readonly meta: ConfigMeta } {
+  return parseConfigWith(schema, parseYaml(text, sourceName), sourceName, baseDir);
+}
+
+/** Read and validate a config file against `schema`; relative paths inside it resolve against the file's folder. */
+export function loadConfigWith<S extends z.ZodType<ConfigData>>(schema: S, path: string): z.output<S> & { readonly meta: ConfigMeta } {
+  return parseConfigTextWith(schema, readConfigText(path), path, dirname(resolve(path)));
+}
+
 /** Parse YAML text (named `sourceName` in messages; relative paths resolve against `baseDir`). */
 export function parseConfig(text: string, sourceName: string, baseDir: string): Config {
-  return parseConfigWith(configSchema, parseYaml(text, sourceName), sourceName, baseDir);
+  return parseConfigTextWith(configSchema, text, sourceName, baseDir);
 }
 
 /** Read a config file's text; a missing or unreadable file is a UserError naming the path. */
@@ -416,5 +431,5 @@ export function readConfigText(path: string): string {
 
 /** Read and validate a config file; relative paths inside it resolve against the file's folder. */
 export function loadConfig(path: string): Config {
-  return parseConfig(readConfigText(path), path, dirname(resolve(path)));
+  return loadConfigWith(configSchema, path);
 }

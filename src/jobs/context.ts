@@ -6,14 +6,10 @@ import { UserError } from '../core/errors.ts';
 import { unitSystemOf, type Config } from '../io/config.ts';
 import { readSamplesFile } from '../io/samples.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
-import { derivative, resample } from '../spectral/ops.ts';
+import { resample } from '../spectral/ops.ts';
 import { nSolitonPotential } from '../flow/solitons.ts';
+import { sech2Trap, wellScale, wellsTrap } from '../flow/traps.ts';
 import { dispersionNumber, type UnitSystem } from '../units/scales.ts';
-
-/** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
-export const EDGE_DECAY = 1e-6;
-/** sample x positions must match the config's box to this fraction of a grid step */
-export const SAMPLE_GRID_MATCH = 1e-6;
 
 export interface JobContext {
   config: Config;
@@ -32,34 +28,25 @@ export interface JobContext {
   warnings: string[];
 }
 
-const sech2 = (z: number) => {
-  const c = Math.cosh(z);
-  return 1 / (c * c);
-};
+/** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
+export const EDGE_DECAY = 1e-6;
+/** sample x positions must match the config's box to this fraction of a grid step */
+export const SAMPLE_GRID_MATCH = 1e-6;
 
-/** u(ξ, 0) from the config's `initial` section, in natural units */
+/** u(ξ, 0) from the config's `initial` section, in natural units (shapes: flow/traps.ts, flow/solitons.ts) */
 export function initialPotential(config: Config, units: UnitSystem, grid: Grid): Float64Array {
   const init = config.initial;
   const L = units.lengthToNatural;
   const E = units.energyToNatural;
   const x = grid.x;
   switch (init.kind) {
-    case 'sech2': {
-      const d = E(init.depth), w = L(init.width), c = L(init.center);
-      return x.map((xi) => -d * sech2((xi - c) / w));
-    }
-    case 'wells': {
-      const u = new Float64Array(grid.n);
-      for (const well of init.wells) {
-        const d = E(well.depth), w = L(well.width), c = L(well.center);
-        for (let j = 0; j < grid.n; j++) {
-          const z = (x[j] - c) / w;
-          // sech² well of half-width w, or Gaussian with standard deviation w
-          u[j] -= d * (well.shape === 'sech2' ? sech2(z) : Math.exp(-0.5 * z * z));
-        }
-      }
-      return u;
-    }
+    case 'sech2':
+      return sech2Trap(E(init.depth), L(init.width), L(init.center), x);
+    case 'wells':
+      return wellsTrap(
+        init.wells.map((w) => ({ shape: w.shape, depth: E(w.depth), width: L(w.width), center: L(w.center) })),
+        x,
+      );
     case 'solitons': {
       const perLength = L(1); // natural lengths per user length
       return nSolitonPotential(
@@ -90,14 +77,9 @@ export function initialPotential(config: Config, units: UnitSystem, grid: Grid):
   }
 }
 
-/** deepest well: depth and the curvature width w = sqrt(2 d / u″) (exact for d sech²(x/w)) */
-export function wellScale(grid: Grid, u: Float64Array): { depth: number; width: number } {
-  let j0 = 0;
-  for (let j = 1; j < u.length; j++) if (u[j] < u[j0]) j0 = j;
-  const depth = -u[j0];
-  const d2 = derivative(grid, u, 2)[j0];
-  const width = depth > 0 && d2 > 0 ? Math.sqrt((2 * depth) / d2) : NaN;
-  return { depth, width };
+/** the λ of the stored frames: flow.frames points evenly spaced on [0, flow.lambda_end] */
+export function frameLambdas(flow: Config['flow']): number[] {
+  return Array.from({ length: flow.frames }, (_, i) => (flow.lambda_end * i) / (flow.frames - 1));
 }
 
 export function makeContext(config: Config): JobContext {

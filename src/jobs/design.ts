@@ -11,11 +11,11 @@ import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
 import { gridBreaking } from '../flow/breaking.ts';
-import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
-import type { Grid } from '../spectral/grid.ts';
+import { boundStates, spectrumTrack, type BoundStates, type SpectrumTrack } from '../quantum/spectrum-track.ts';
+import { solitonFromBoundState } from '../flow/solitons.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
-import { makeContext, type JobContext } from './context.ts';
+import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 export type { DesignSummary, SolitonPrediction };
 
@@ -24,42 +24,6 @@ export type { DesignSummary, SolitonPrediction };
 export const TAIL_WARNING = 1e-7;
 
 export const DESIGN_FILES = ['potential.npy', 'potential.csv', 'sequence.json'] as const;
-
-export interface BoundStates {
-  energies: number[];
-  threshold: number;
-  method: string;
-}
-
-/** eigenvalues of the bound states along the sequence: flat lines prove isospectrality */
-export interface SpectrumTrack {
-  lambda: number[];
-  /** energies[frame][level], natural units (E₀) */
-  energies: number[][];
-  /** largest |E_n(λ) − E_n(0)| over the tracked levels and frames, E₀ */
-  maxDrift: number;
-}
-
-/** at most this many frames get their spectrum computed (each is a dense diagonalisation) */
-export const SPECTRUM_FRAMES_MAX = 11;
-
-export function spectrumTrack(grid: Grid, lambdas: readonly number[], frames: readonly Float64Array[], levels: number): SpectrumTrack {
-  const count = Math.min(frames.length, SPECTRUM_FRAMES_MAX);
-  const picks = Array.from({ length: count }, (_, i) => Math.round((i * (frames.length - 1)) / Math.max(count - 1, 1)));
-  const lambda: number[] = [];
-  const energies: number[][] = [];
-  for (const p of picks) {
-    const b = boundStates(grid, frames[p]);
-    lambda.push(lambdas[p]);
-    energies.push(b.energies.slice(0, levels));
-  }
-  let maxDrift = 0;
-  for (const row of energies) {
-    for (let n = 0; n < Math.min(row.length, energies[0].length); n++) maxDrift = Math.max(maxDrift, Math.abs(row[n] - energies[0][n]));
-    if (row.length !== energies[0].length) maxDrift = Infinity; // a level appeared or vanished: not isospectral
-  }
-  return { lambda, energies, maxDrift };
-}
 
 export interface DesignResult {
   spectrum: SpectrumTrack;
@@ -77,31 +41,17 @@ export interface DesignResult {
   summary: DesignSummary;
 }
 
-/**
- * Bound states E < −(2π/L)² of H = k² + u: a state whose decay length exceeds L/2π cannot be told from the
- * box's continuum, so the threshold is set by the box (common practice). Eigenvalues only
- * (quantum/bound.ts: dense, on the coarsest grid that resolves u).
- */
-export function boundStates(grid: Grid, u: Float64Array): BoundStates {
-  const threshold = boxThreshold(grid.length);
-  const res = boundEnergies(grid, u, threshold);
-  return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
-}
-
-/**
- * Solitons the start will shed (physics.md §4): each bound state E = −κ² of H(0) becomes a soliton of depth 2κ²
- * moving at speed 4κ² (natural units), here in the config's units.
- */
+/** the solitons the start will shed (flow/solitons.ts), in the config's units */
 function solitonPredictions(energies: readonly number[], units: JobContext['units']): SolitonPrediction[] {
   const perLength = units.lengthToNatural(1);
   return energies.map((e) => {
-    const kappa = Math.sqrt(-e);
+    const { kappa, depth, speed } = solitonFromBoundState(e);
     return {
       kappa,
       kappa_user: kappa * perLength,
       energy: units.energyFromNatural(e),
-      depth: units.energyFromNatural(2 * kappa * kappa),
-      speed: units.lengthFromNatural(4 * kappa * kappa),
+      depth: units.energyFromNatural(depth),
+      speed: units.lengthFromNatural(speed),
     };
   });
 }
@@ -127,7 +77,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const { grid, units, u0 } = ctx;
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
-  const frames = Array.from({ length: flowCfg.frames }, (_, i) => (flowCfg.lambda_end * i) / (flowCfg.frames - 1));
+  const frames = frameLambdas(flowCfg);
   const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress });
   const warnings = [...ctx.warnings];
 

@@ -15,49 +15,29 @@
  *    CD (physics.md §1); a caller can pass `opts.continuum` (e.g. src/quantum's verifySequence on the job's own
  *    m* design) to get lattice-minus-continuum differences for both drives.
  *
- * Config section (in the same file as `compare`):
- *
- *   lattice:
- *     spacing_um: 0.532          # lab: lattice spacing d in µm          } exactly one (lab)
- *     wavelength_nm: 1064        # lab: lattice light, d = λ/2           }
- *     spacing: 0.25              # natural units only: d in ℓ (then J = E₀ℓ²/d² is implied)
- *     tunnelling_hz: 120         # lab: J in h·Hz                        } exactly one (lab)
- *     depth_recoil: 8            # lab: V₀ in E_R (J from the estimate)  }
- *     tunnelling_source: estimate  # with depth_recoil: estimate (Zwerger 2003) or band (Mathieu band width / 4)
- *     sites_per_width: [3, 4, 6, 8]  # convergence study (sites per width 1/κ of the narrowest soliton); [] skips
- *     target_infidelity: 1e-4    # the recommended lattice keeps 1 − F_CD of every state below this
- *     samples: 21                # time samples of the control tables
- *     states: …                  # propagated states (default: the bound states, at most 6)
- *     tolerance: 1e-4            # local error per unit time of the lattice propagation (amplitude; the
- *                                #   fidelities move by ~1e-9 against 1e-5)
- *
- * The cost model that limits the lattices is in lattice/cost.ts.
+ * The config section and its defaults are in io/config-lattice.ts; the cost model that limits the lattices is in
+ * lattice/cost.ts.
  */
-import { dirname, join, resolve } from 'node:path';
-import { z } from 'zod';
-import { parseConfigWith, parseYaml, readConfigText, strictSection, type ConfigMeta, type UnitsConfig } from '../io/config.ts';
+import { join } from 'node:path';
+import type { UnitsConfig } from '../io/config.ts';
+import type { LatticeConfig, LatticeSection } from '../io/config-lattice.ts';
 import { writeCsv } from '../io/csv.ts';
 import { UserError } from '../core/errors.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { MAX_DEPTH_RECOIL } from '../lattice/bands.ts';
 import { MAX_SITE_PRODUCTS, predictedWork, siteCountProblem } from '../lattice/cost.ts';
-import { depthTunnelling, dispersionForMass, effectiveMassU, naturalTunnelling, type DepthTunnelling } from '../lattice/params.ts';
+import { depthTunnelling, dispersionForMass, effectiveMassU, naturalBandWidth, naturalTunnelling, spacingFromWavelengthUm, type DepthTunnelling } from '../lattice/params.ts';
 import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
 import { latticeStudy, observedOrder, recommendLattice, solitonWidth } from '../lattice/study.ts';
 import { controlTables } from '../lattice/tables.ts';
 import { lowestLatticeStates, verifyOnLattice, type LatticeRun } from '../lattice/verify.ts';
 import { makeRamp, type Ramp } from '../protocol/ramp.ts';
 import { ATOMIC_MASS_CONSTANT, PLANCK_H } from '../units/constants.ts';
-import { compareConfigSchema } from './compare.ts';
 import { runDesign, toJson, type DesignResult } from './design.ts';
 import { boxThreshold } from '../quantum/bound.ts';
 import type { LatticeStudyRow, LatticeSummary, LatticeTables } from '../io/formats/lattice.ts';
 export type { LatticeStudyRow, LatticeSummary, LatticeTables };
 
-/** default sites per soliton width of the convergence study (infidelity ∝ (sites)^−4: 3 → 8 spans ~2 decades) */
-export const DEFAULT_SITES_PER_WIDTH = [3, 4, 6, 8] as const;
-export const DEFAULT_TARGET_INFIDELITY = 1e-4;
 /** at most this many propagated states by default (each costs one propagation per drive and lattice) */
 export const DEFAULT_MAX_STATES = 6;
 /** the Zwerger estimate is flagged when it differs from the band-structure J by more than this (common practice) */
@@ -76,79 +56,6 @@ export const LATTICE_FILES = [
   'nnn_amplitude.npy',
   'nnn_phase.npy',
 ] as const;
-
-const pos = (what: string) =>
-  z.number({ error: `must be a number > 0 (${what})` }).refine((v) => Number.isFinite(v) && v > 0, { error: `must be a number > 0 (${what})` });
-const intRange = (lo: number, hi: number) => {
-  const rule = `must be an integer from ${lo} to ${hi}`;
-  return z.number({ error: rule }).refine((v) => Number.isInteger(v) && v >= lo && v <= hi, { error: rule });
-};
-const sitesRule = 'must be a list of distinct numbers ≥ 1 (sites per width of the narrowest soliton); [] skips the study';
-
-export const latticeSectionSchema = strictSection(
-  {
-    spacing_um: pos('lattice spacing d in µm; lab units').optional(),
-    wavelength_nm: pos('wavelength of the lattice light in nm, d = λ/2; lab units').optional(),
-    spacing: pos('lattice spacing d in ℓ; natural units').optional(),
-    tunnelling_hz: pos('tunnelling J in h·Hz; lab units').optional(),
-    depth_recoil: z
-      .number({ error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units)` })
-      .refine((v) => v > 0 && v <= MAX_DEPTH_RECOIL, { error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units; deeper bands are narrower than double-precision round-off)` })
-      .optional(),
-    tunnelling_source: z.enum(['estimate', 'band'], { error: 'must be one of estimate, band' }).optional(),
-    sites_per_width: z
-      .array(z.number({ error: sitesRule }).refine((v) => Number.isFinite(v) && v >= 1, { error: sitesRule }), { error: sitesRule })
-      .refine((v) => new Set(v).size === v.length, { error: sitesRule })
-      .default([...DEFAULT_SITES_PER_WIDTH]),
-    target_infidelity: z
-      .number({ error: 'must be a number in (0, 0.5)' })
-      .refine((v) => v > 0 && v < 0.5, { error: 'must be a number in (0, 0.5)' })
-      .default(DEFAULT_TARGET_INFIDELITY),
-    samples: intRange(2, 2001).default(21),
-    states: intRange(1, 50).optional(),
-    tolerance: z
-      .number({ error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
-      .refine((v) => v > 0 && v <= 1e-2, { error: 'must be a number in (0, 1e-2] (local error per unit time of the lattice propagation)' })
-      .default(1e-4),
-  },
-  'lattice',
-);
-
-export type LatticeSection = z.output<typeof latticeSectionSchema>;
-
-export const latticeConfigSchema = compareConfigSchema.extend({ lattice: latticeSectionSchema.optional() }).superRefine((c, ctx) => {
-  const l = c.lattice;
-  if (!l) return;
-  const lab = c.units.system === 'lab';
-  const issue = (key: string, message: string) => ctx.addIssue({ code: 'custom', path: ['lattice', key], message });
-  if (lab) {
-    if (l.spacing !== undefined) issue('spacing', 'only allowed with units.system: natural; in lab units give spacing_um or wavelength_nm');
-    if ((l.spacing_um === undefined) === (l.wavelength_nm === undefined)) {
-      issue(l.spacing_um === undefined ? 'spacing_um' : 'wavelength_nm', 'give exactly one of lattice.spacing_um (d in µm) and lattice.wavelength_nm (d = λ/2)');
-    }
-    if ((l.tunnelling_hz === undefined) === (l.depth_recoil === undefined)) {
-      issue(l.tunnelling_hz === undefined ? 'tunnelling_hz' : 'depth_recoil', 'give exactly one of lattice.tunnelling_hz (J in h·Hz) and lattice.depth_recoil (V₀ in E_R)');
-    }
-    if (l.tunnelling_source !== undefined && l.depth_recoil === undefined) issue('tunnelling_source', 'only allowed with lattice.depth_recoil');
-  } else {
-    if (l.spacing === undefined) issue('spacing', 'required with units.system: natural: the lattice spacing d in ℓ (J = E₀ℓ²/d² follows from the effective mass)');
-    for (const key of ['spacing_um', 'wavelength_nm', 'tunnelling_hz', 'depth_recoil', 'tunnelling_source'] as const) {
-      if (l[key] !== undefined) issue(key, 'only allowed with units.system: lab (natural units carry no mass or lab lengths)');
-    }
-  }
-});
-
-export type LatticeConfig = z.output<typeof latticeConfigSchema> & { readonly meta: ConfigMeta };
-
-/** Parse YAML text of a config that may hold `compare` and `lattice` sections. */
-export function parseLatticeConfig(text: string, sourceName: string, baseDir: string): LatticeConfig {
-  return parseConfigWith(latticeConfigSchema, parseYaml(text, sourceName), sourceName, baseDir);
-}
-
-/** Read and validate a config file for `lattice`. */
-export function loadLatticeConfig(path: string): LatticeConfig {
-  return parseLatticeConfig(readConfigText(path), path, dirname(resolve(path)));
-}
 
 // ---------------------------------------------------------------------------------------------------------
 // lattice parameters
@@ -185,7 +92,7 @@ export function latticeParameters(config: LatticeConfig): LatticeParameters {
     const h = l.spacing as number;
     return { system: 'natural', spacing: h, h, tunnelling: naturalTunnelling(h), tunnellingSource: 'implied', depth: null, massStarU: null, massU: null, warnings };
   }
-  const dUm = l.spacing_um ?? (l.wavelength_nm as number) / 2000;
+  const dUm = l.spacing_um ?? spacingFromWavelengthUm(l.wavelength_nm as number);
   const dM = dUm * 1e-6;
   let jHz: number;
   let source: LatticeParameters['tunnellingSource'] = 'given';
@@ -389,7 +296,7 @@ function tablesStep(setup: LatticeSetup, seq: LatticeSequence, sites: Float64Arr
     onMin = Math.min(onMin, e);
     onMax = Math.max(onMax, e);
   }
-  const cdFraction = Math.max(t.maxNn, t.maxNnn) / bandWidth(h);
+  const cdFraction = Math.max(t.maxNn, t.maxNnn) / naturalBandWidth(h);
   if (cdFraction > 1) {
     setup.warnings.push(
       `the largest CD coupling is ${cdFraction.toFixed(2)} × the band width 4J: the Peierls couplings grow like λ̇/d³ against J ∝ 1/d², ` +
@@ -419,11 +326,6 @@ function tablesStep(setup: LatticeSetup, seq: LatticeSequence, sites: Float64Arr
       'nn: A e^{iφ} = −J + i b_j, b_j = λ̇·(4/d³ + 3(u_j+u_{j+1})/(2d)) in natural units; nnn: i q, q = −2λ̇/d³ (physics.md §3, §6)',
   };
   return { tables, couplings };
-}
-
-/** the band width 4J = 4/h² of the lowest band (E₀) */
-function bandWidth(h: number): number {
-  return 4 / (h * h);
 }
 
 /** number of propagated states: lattice.states, verify.states, or the bound states of the lattice H(0) (at most DEFAULT_MAX_STATES) */
@@ -527,7 +429,7 @@ function descriptionSections(setup: LatticeSetup, M: number): Pick<LatticeSummar
       spacing_natural_l: h,
       tunnelling: hz(naturalTunnelling(h)),
       tunnelling_source: params.tunnellingSource,
-      band_width_4J: hz(bandWidth(h)),
+      band_width_4J: hz(naturalBandWidth(h)),
       sites: M,
       depth: params.depth,
     },

@@ -3,7 +3,8 @@
  *
  *   recoil energy      E_R = ħ²k_L²/(2m),  k_L = π/d                 (sinusoidal lattice of period d)
  *   lowest band        E(k) = −2J cos kd   ⇒   m* = ħ²/(2Jd²)          (band curvature at k = 0)
- *   natural units      J = E₀ℓ²/d² = 1/h²  with h = d/ℓ and E₀ = ħ²/(2m*ℓ²)
+ *   natural units      J = E₀ℓ²/d² = 1/h²  with h = d/ℓ and E₀ = ħ²/(2m*ℓ²); band width 4J
+ *   optical lattice    d = λ/2 for light of wavelength λ (standing wave of a retro-reflected beam)
  *
  * For a lattice given by its depth s = V₀/E_R, J comes from Zwerger's deep-lattice estimate or from the Mathieu
  * band width (bands.ts).
@@ -26,6 +27,16 @@ export function effectiveMassU(tunnellingHz: number, spacingM: number): number {
 /** J = 1/h² in E₀ for a spacing h in ℓ (natural units of the effective mass) */
 export function naturalTunnelling(h: number): number {
   return 1 / (h * h);
+}
+
+/** width 4J = 4/h² of the lowest band −2J cos kd in E₀, for a spacing h in ℓ (natural units of the effective mass) */
+export function naturalBandWidth(h: number): number {
+  return 4 / (h * h);
+}
+
+/** spacing d = λ/2 in µm of the standing wave of retro-reflected light of wavelength λ in nm */
+export function spacingFromWavelengthUm(wavelengthNm: number): number {
+  return wavelengthNm / 2000;
 }
 
 /** δ² = ħ²/(2mV₀w²) ∝ 1/m: the dispersion number computed with mass `massUsed`, re-expressed for `massOther` */
