@@ -52,7 +52,7 @@ describe('valid configs', () => {
     expect(c.units).toEqual({ system: 'natural' });
     expect(c.grid).toEqual({ length: 60, points: 1024 });
     expect(c.initial).toEqual({ kind: 'sech2', depth: 6, width: 1, center: 0 });
-    // defaults: tolerance 1e-10, drift 0 (brief)
+    // defaults: tolerance 1e-10, drift 0 (README, Configs table)
     expect(c.flow).toEqual({ dispersion: 'quantum', lambda_end: 0.5, frames: 11, tolerance: 1e-10, drift: 0 });
     expect(c.protocol).toBeUndefined();
     expect(c.verify).toBeUndefined();
@@ -62,7 +62,7 @@ describe('valid configs', () => {
   it('units default to natural and flow fields default', () => {
     const c = parseConfig(variant({ units: null, flow: 'flow: { lambda_end: 2 }' }), SRC, work);
     expect(c.units).toEqual({ system: 'natural' });
-    // defaults quantum, 11 frames (brief)
+    // defaults quantum, 11 frames (README, Configs table)
     expect([c.flow.dispersion, c.flow.frames]).toEqual(['quantum', 11]);
   });
 
@@ -81,7 +81,7 @@ protocol: { duration: 20 }
 verify: { states: 6, temperature: 50, fermions: 3, compare_classical: true }
 `;
     const c = parseConfig(text, SRC, work);
-    // Rb87 AME2020 mass 86.909180531 u; defaults length_unit_um 1, energy h*kHz (brief)
+    // Rb87 AME2020 mass 86.909180531 u; defaults length_unit_um 1, energy h*kHz (README, Configs table)
     expect(c.units).toEqual({ system: 'lab', species: 'Rb87', mass_u: 86.909180531, label: '⁸⁷Rb', length_unit_um: 1, energy: 'h*kHz' });
     expect(c.initial).toEqual({
       kind: 'wells',
@@ -238,7 +238,7 @@ protocol: { duration: 1, ramp: cubic }
   });
 
   it('name pattern', () => {
-    // name must match /^[A-Za-z0-9][A-Za-z0-9._-]*$/ (brief)
+    // name must match /^[A-Za-z0-9][A-Za-z0-9._-]*$/ (the documented rule)
     for (const bad of ['.hidden', '-x', 'a/b', 'a b']) {
       expect(errorOf(variant({ name: `name: "${bad}"` })).message).toContain(`name = "${bad}" is not allowed`);
     }
@@ -258,5 +258,29 @@ protocol: { duration: 1, ramp: cubic }
     expect(errorOf('- 1\n- 2\n').message).toMatch(/configs\/x\.yaml: the config must be a mapping .*a list/);
     const missing = join(work, 'none.yaml');
     expect(() => loadConfig(missing)).toThrow(`config file ${missing} does not exist`);
+  });
+
+  it('hostile documents: alias bombs, dangling aliases, oversized files, thousands of unknown keys', () => {
+    // nested aliases expanding 9⁵ times (the "billion laughs" pattern); the yaml package counts alias expansion
+    const bomb = ['a: &a [x, x, x, x, x, x, x, x, x]', 'b: &b [*a, *a, *a, *a, *a, *a, *a, *a, *a]', 'c: &c [*b, *b, *b, *b, *b, *b, *b, *b, *b]',
+      'd: &d [*c, *c, *c, *c, *c, *c, *c, *c, *c]', 'e: [*d, *d, *d, *d, *d, *d, *d, *d, *d]'].join('\n');
+    expect(errorOf(bomb).message).toMatch(/^configs\/x\.yaml: YAML aliases are not allowed here: Excessive alias count/);
+    expect(errorOf('name: *nothing\n').message).toMatch(/^configs\/x\.yaml: YAML aliases are not allowed here: Unresolved alias/);
+    const big = join(work, 'big.yaml');
+    writeFileSync(big, `name: a\n# ${'x'.repeat(2 ** 20)}\n`);
+    expect(() => loadConfig(big)).toThrow(/config file .*big\.yaml has 1\.00 MiB; at most 1\.00 MiB are read/);
+    const many = variant({}) + Array.from({ length: 20000 }, (_, i) => `k${i}: 1`).join('\n') + '\n';
+    const lines = errorOf(many).message.split('\n');
+    expect(lines).toHaveLength(21); // 20 listed problems and a count of the rest
+    expect(lines[20]).toBe('configs/x.yaml: … and 19980 more problems');
+  });
+
+  it('values that would break the physics are refused by key', () => {
+    expect(errorOf(variant({}, 'verify: { temperature: 0 }\n')).message).toContain(
+      'verify.temperature = 0 is not allowed: a thermal ensemble needs a temperature > 0 (leave the key out for none)',
+    );
+    expect(errorOf(variant({ units: 'units: { system: lab, species: custom, mass_u: 1e30 }' })).message).toContain(
+      'units.mass_u = 1e+30 is not allowed: must be a number from 1 to 300 (an atomic mass in u)',
+    );
   });
 });

@@ -62,3 +62,11 @@ describe('design diagnostics', () => {
     expect(r.run.lambdas[r.run.lambdas.length - 1]).toBeLessThan(tb);
   });
 });
+
+describe('well centres outside the box', () => {
+  it('are refused naming the key and the box (the periodic box is [−L/2, L/2], README Configs)', () => {
+    const run = (initial: string) => () => runDesign(cfg(initial));
+    expect(run('{ kind: sech2, depth: 6, width: 1, center: 1000000 }')).toThrow('test.yaml: initial.center = 1000000 is not allowed: must lie inside the box, −20 … 20 (± grid.length/2)');
+    expect(run('{ kind: solitons, solitons: [{ kappa: 1, center: 0 }, { kappa: 2, center: -21 }] }')).toThrow(/initial\.solitons\[1\]\.center = -21 is not allowed/);
+  });
+});

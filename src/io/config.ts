@@ -13,7 +13,7 @@
  * The schema pieces are exported so that further sections can be added with `configSchema.extend({...})`
  * (io/config-compare.ts, io/config-lattice.ts) and read with `parseConfigTextWith` / `loadConfigWith`.
  */
-import { existsSync, readFileSync, statSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
 import { parseDocument } from 'yaml';
 import { z } from 'zod';
@@ -22,9 +22,18 @@ import { makeUnitSystem, type EnergyUnit, type UnitSystem } from '../units/scale
 import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
 import { RAMP_KINDS } from '../protocol/ramp.ts';
 import { UserError } from '../core/errors.ts';
+import { readBoundedFile } from './files.ts';
 
 /** longest rendering of a bad value inside a message (a whole list would drown the message) */
 const MAX_VALUE_CHARS = 80;
+/** at most this many problems are listed in one message (thousands of unknown keys would make megabytes) */
+const MAX_LISTED_PROBLEMS = 20;
+/** largest config file read: configs are a few hundred bytes; sample data live in their own files (common practice) */
+export const MAX_CONFIG_BYTES = 2 ** 20;
+/** YAML aliases resolved at most (the yaml package's default guard against alias expansion bombs) */
+const MAX_YAML_ALIASES = 100;
+/** atomic masses from the lightest (¹H, 1.008 u) to beyond the heaviest atoms trapped, in u */
+const MASS_U_RANGE = [1, 300] as const;
 /** grid sizes allowed: powers of two in this range (fft.js needs powers of two; 65536 keeps memory modest) */
 export const GRID_POINTS_MIN = 16;
 export const GRID_POINTS_MAX = 65536;
@@ -100,7 +109,7 @@ export type UnitsConfig =
 const unitsShape = {
   system: oneOf(UNIT_SYSTEMS).default('natural'),
   species: oneOf(SPECIES_CHOICES).optional(),
-  mass_u: positive('mass in u').optional(),
+  mass_u: numberWhere(`must be a number from ${MASS_U_RANGE[0]} to ${MASS_U_RANGE[1]} (an atomic mass in u)`, (v) => v >= MASS_U_RANGE[0] && v <= MASS_U_RANGE[1]).optional(),
   length_unit_um: positive('the length unit ℓ in µm').optional(),
   energy: oneOf(ENERGY_UNITS).optional(),
 };
@@ -253,11 +262,19 @@ export const protocolSchema = strictSection(
   'protocol',
 );
 
+const TEMPERATURE_RULE = 'must be a number ≥ 0 (in E₀ natural, nK lab)';
+
 export const verifySchema = strictSection(
   {
     states: intBetween(1, 200).optional(),
     tolerance: numberWhere('must be a number in (0, 1e-3]', (v) => v > 0 && v <= 1e-3).default(1e-8),
-    temperature: numberWhere('must be a number ≥ 0 (in E₀ natural, nK lab)', (v) => v >= 0).optional(),
+    temperature: z
+      .number({ error: TEMPERATURE_RULE })
+      .superRefine((v, ctx) => {
+        if (!(v >= 0)) ctx.addIssue({ code: 'custom', message: TEMPERATURE_RULE });
+        else if (v === 0) ctx.addIssue({ code: 'custom', message: 'a thermal ensemble needs a temperature > 0 (leave the key out for none)' });
+      })
+      .optional(),
     fermions: intBetween(1, 200).optional(),
     compare_classical: z.boolean({ error: 'must be true or false' }).default(false),
   },
@@ -362,7 +379,12 @@ export function parseYaml(text: string, sourceName: string): unknown {
     });
     throw new UserError(lines.join('\n'));
   }
-  return doc.toJS();
+  try {
+    return doc.toJS({ maxAliasCount: MAX_YAML_ALIASES });
+  } catch (err) {
+    // an alias to nothing, or more alias expansion than any config needs (a "billion laughs" document)
+    throw new UserError(`${sourceName}: YAML aliases are not allowed here: ${(err as Error).message}`);
+  }
 }
 
 /** file-system checks that zod cannot do: samples file must exist (resolved against baseDir) */
@@ -374,6 +396,12 @@ function fileIssues(raw: unknown, sourceName: string, baseDir: string): string[]
   if (!existsSync(abs)) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: file not found (looked for ${abs})`];
   if (!statSync(abs).isFile()) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: ${abs} is not a regular file`];
   return [];
+}
+
+/** the problems, at most MAX_LISTED_PROBLEMS of them, and how many more there are */
+function listProblems(lines: readonly string[], sourceName: string): string {
+  if (lines.length <= MAX_LISTED_PROBLEMS) return lines.join('\n');
+  return [...lines.slice(0, MAX_LISTED_PROBLEMS), `${sourceName}: … and ${lines.length - MAX_LISTED_PROBLEMS} more problems`].join('\n');
 }
 
 /**
@@ -393,7 +421,7 @@ export function parseConfigWith<S extends z.ZodType<ConfigData>>(
   const result = schema.safeParse(raw);
   const lines = result.success ? [] : formatIssues(result.error.issues, raw, sourceName);
   lines.push(...fileIssues(raw, sourceName, baseDir));
-  if (!result.success || lines.length > 0) throw new UserError(lines.join('\n'));
+  if (!result.success || lines.length > 0) throw new UserError(listProblems(lines, sourceName));
   const data = result.data as z.output<S>;
   if (data.initial.kind === 'samples' && !isAbsolute(data.initial.file)) {
     data.initial.file = resolve(baseDir, data.initial.file);
@@ -421,12 +449,7 @@ export function parseConfig(text: string, sourceName: string, baseDir: string): 
 
 /** Read a config file's text; a missing or unreadable file is a UserError naming the path. */
 export function readConfigText(path: string): string {
-  try {
-    return readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new UserError(code === 'ENOENT' ? `config file ${path} does not exist` : `cannot read config file ${path}: ${(err as Error).message}`);
-  }
+  return readBoundedFile(path, MAX_CONFIG_BYTES, 'config file').toString('utf8');
 }
 
 /** Read and validate a config file; relative paths inside it resolve against the file's folder. */

@@ -82,7 +82,22 @@ export function frameLambdas(flow: Config['flow']): number[] {
   return Array.from({ length: flow.frames }, (_, i) => (flow.lambda_end * i) / (flow.frames - 1));
 }
 
+/** every configured well or soliton centre must lie in the periodic box [−L/2, L/2] (user length unit) */
+function checkCentresInBox(config: Config): void {
+  const half = config.grid.length / 2;
+  const init = config.initial;
+  const centres: Array<[string, number]> =
+    init.kind === 'sech2' ? [['initial.center', init.center]]
+      : init.kind === 'wells' ? init.wells.map((w, i) => [`initial.wells[${i}].center`, w.center])
+        : init.kind === 'solitons' ? init.solitons.map((s, i) => [`initial.solitons[${i}].center`, s.center])
+          : [];
+  for (const [key, c] of centres) {
+    if (!(Math.abs(c) <= half)) throw new UserError(`${config.meta.source}: ${key} = ${c} is not allowed: must lie inside the box, −${half} … ${half} (± grid.length/2)`);
+  }
+}
+
 export function makeContext(config: Config): JobContext {
+  checkCentresInBox(config);
   const units = unitSystemOf(config.units);
   const grid = makeGrid(units.lengthToNatural(config.grid.length), config.grid.points);
   const u0 = initialPotential(config, units, grid);
