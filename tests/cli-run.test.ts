@@ -48,3 +48,22 @@ describe('isotrap run end to end (small grid)', () => {
     expect(forced.status, forced.stderr).toBe(0);
   });
 });
+
+describe('exit codes keep their promise', () => {
+  // u₀ = −2 sech²ξ under the dispersionless flow breaks at τ_b = 1/max(6∂ξu₀) ≈ 0.108 (physics.md §4), before 0.3
+  const BREAKS = CONFIG.replace('flow: { lambda_end: 0.3, frames: 7 }', 'flow: { dispersion: classical, lambda_end: 0.3, frames: 7 }');
+  it('a flow that breaks exits 1 and keeps its complete design, recorded in the manifest', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'isotrap-run-'));
+    writeFileSync(join(dir, 'c.yaml'), BREAKS);
+    const r = spawnSync(process.execPath, [BIN, 'run', 'c.yaml', '--quiet'], { cwd: dir, encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(1);
+    expect(r.stderr).toMatch(/flow stops at λ = .* nothing to verify \(the design it reached is in outputs\/e2e\)/);
+    const manifest = JSON.parse(readFileSync(join(dir, 'outputs/e2e/isotrap-run.json'), 'utf8'));
+    expect(Object.keys(manifest.files).sort()).toEqual(['potential.csv', 'potential.npy', 'sequence.json']);
+    // a second run without --force is refused at once (exit 2) and leaves the folder as it was
+    const again = spawnSync(process.execPath, [BIN, 'run', 'c.yaml', '--quiet'], { cwd: dir, encoding: 'utf8' });
+    expect(again.status).toBe(2);
+    expect(again.stderr).toMatch(/already exist: pass --force/);
+    expect(readFileSync(join(dir, 'outputs/e2e/isotrap-run.json'), 'utf8')).toBe(JSON.stringify(manifest, null, 1) + '\n');
+  });
+});

@@ -10,6 +10,7 @@ import { makeContext } from '../src/jobs/context.ts';
 import { effectiveMassConfig, latticeParameters, LATTICE_FILES, runLattice, writeLatticeOutputs } from '../src/jobs/lattice.ts';
 import { lowestBand } from '../src/lattice/bands.ts';
 import { HBAR, PLANCK_H, ATOMIC_MASS_CONSTANT } from '../src/units/constants.ts';
+import { configIdentity } from '../src/io/run-folder.ts';
 
 const RB87_U = 86.909180531; // AME2020 via physics.md §3
 
@@ -124,7 +125,7 @@ describe('runLattice and its outputs (src/jobs/lattice.ts)', () => {
     expect(s.study.recommended?.basis).toMatch(/extrapolated/);
     expect(s.study.observed_order).toBeGreaterThan(3); // expected 4: O(k⁵d²) operator error (physics.md §6), squared
 
-    const files = writeLatticeOutputs(r, dir, false);
+    const files = writeLatticeOutputs(r, dir, false, configIdentity(c));
     expect(files.map((f) => f.slice(dir.length + 1))).toEqual([...LATTICE_FILES]);
     const json = JSON.parse(readFileSync(join(dir, 'lattice.json'), 'utf8'));
     expect(json.units.energy).toBe('E₀');
@@ -135,6 +136,6 @@ describe('runLattice and its outputs (src/jobs/lattice.ts)', () => {
     const csv = readFileSync(join(dir, 'bonds.csv'), 'utf8').trim().split('\n');
     expect(csv[1]).toBe('site_i,site_j,t_t0,amplitude_E0,phase_rad');
     expect(csv.length).toBe(2 + S * (2 * M - 3));
-    expect(() => writeLatticeOutputs(r, dir, false)).toThrow(/--force/);
+    expect(() => writeLatticeOutputs(r, dir, false, configIdentity(c))).toThrow(/--force/);
   });
 });

@@ -4,7 +4,7 @@
  * 2 bad input (a UserError: message only, no stack trace), 3 internal error.
  */
 import { Command, CommanderError } from 'commander';
-import { NumericalError, UserError } from '../core/errors.ts';
+import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts';
 import { checkCommand, type CheckCliOptions } from './commands/check.ts';
 import { compareCommand } from './commands/compare.ts';
 import { designCommand } from './commands/design.ts';
@@ -80,7 +80,7 @@ export async function main(argv: string[]): Promise<number> {
     return code;
   } catch (err) {
     if (err instanceof CommanderError) return err.exitCode === 0 ? 0 : 2;
-    if (err instanceof UserError || err instanceof NumericalError) {
+    if (err instanceof UserError || err instanceof NumericalError || err instanceof AcceptanceFailure) {
       process.stderr.write(`isotrap: ${err.message}\n`);
       return err.exitCode;
     }

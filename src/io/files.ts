@@ -105,11 +105,10 @@ export interface PrepareOutputOptions {
 }
 
 /**
- * Create `dir` (recursively) for a run's outputs. If any file in `produces` already exists and `force` is not
- * set, throws a UserError naming that file and telling the user to pass --force. Existing files are never
- * deleted here (except temporaries of killed writers, see removeStaleTemporaries); with --force they are simply overwritten later by the writer. Returns the resolved directory.
+ * The checks of prepareOutputDir without creating anything: run them before computing, so that a run that would
+ * be refused at the end is refused at once. Returns the resolved directory.
  */
-export function prepareOutputDir(dir: string, options: PrepareOutputOptions): string {
+export function checkOutputDir(dir: string, options: PrepareOutputOptions): string {
   if (dir.trim() === '') throw new UserError('output folder "" is not allowed: name a folder (e.g. --out outputs/my-run)');
   const abs = resolve(dir);
   if (existsSync(abs) && !statSync(abs).isDirectory()) {
@@ -125,6 +124,17 @@ export function prepareOutputDir(dir: string, options: PrepareOutputOptions): st
       );
     }
   }
+  return abs;
+}
+
+/**
+ * Create `dir` (recursively) for a run's outputs. If any file in `produces` already exists and `force` is not
+ * set, throws a UserError naming that file and telling the user to pass --force. Existing files are never
+ * deleted here (except temporaries of killed writers, see removeStaleTemporaries); with --force they are
+ * simply overwritten later by the writer. Returns the resolved directory.
+ */
+export function prepareOutputDir(dir: string, options: PrepareOutputOptions): string {
+  const abs = checkOutputDir(dir, options);
   try {
     mkdirSync(abs, { recursive: true });
   } catch (err) {

@@ -179,6 +179,11 @@ export class RunFolder {
     this.written.set(name, { sha256: sha256(data), bytes: typeof data === 'string' ? Buffer.byteLength(data) : data.byteLength });
   }
 
+  /** true when `name` has been staged */
+  has(name: string): boolean {
+    return this.written.has(name);
+  }
+
   /** move the staged files into place, record them in the manifest (last), release the lock; returns the paths */
   commit(): string[] {
     if (!this.open) throw new RangeError(`output folder ${this.shown}: committed twice`);
@@ -214,4 +219,37 @@ export class RunFolder {
       // already released
     }
   }
+}
+
+export interface RunWriteOptions {
+  force: boolean;
+  /** the files the job writes, in the order their paths are returned */
+  produces: readonly string[];
+  job: string;
+  /** run identity and config hash (configIdentity), shared by the jobs of one invocation */
+  identity: RunIdentity;
+}
+
+/** identity of a validated config: SHA-256 of its JSON without `meta` (where it was read from) */
+export function configIdentity(config: object): RunIdentity {
+  return newRunIdentity(JSON.stringify({ ...config, meta: undefined }));
+}
+
+/**
+ * Write one job's files whole: open the folder (refusing existing outputs without --force, and a concurrent
+ * writer), let `write` stage every file of `produces`, commit; on any error drop what was staged. Returns the
+ * paths of `produces`.
+ */
+export function writeRun(dir: string, opts: RunWriteOptions, write: (out: RunFolder) => void): string[] {
+  const out = new RunFolder(dir, { force: opts.force, produces: opts.produces, job: opts.job, identity: opts.identity });
+  try {
+    write(out);
+    const missing = opts.produces.filter((name) => !out.has(name));
+    if (missing.length > 0) throw new RangeError(`${opts.job}: ${missing.join(', ')} not written`);
+    out.commit();
+  } catch (err) {
+    out.abort();
+    throw err;
+  }
+  return opts.produces.map((name) => join(out.dir, name));
 }

@@ -39,6 +39,7 @@ import { scalesText, toJson } from './design.ts';
 import { compareFigures, writeFigures } from './report.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
+import { writeRun, type RunIdentity } from '../io/run-folder.ts';
 export type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson };
 
 /** points of the check of the pseudo-spectral Hopf run against characteristics over its resolved range */
@@ -314,11 +315,8 @@ export function withQuantumDrives(summary: CompareSummary, drives: DriveFidelity
 }
 
 /** Write compare.json into dir (atomically; refuses to overwrite without force). Returns the paths written. */
-export function writeCompareOutputs(summary: CompareSummary, dir: string, force: boolean): string[] {
-  const outDir = prepareOutputDir(dir, { force, produces: [...COMPARE_FILES] });
-  const file = join(outDir, COMPARE_FILES[0]);
-  writeFileAtomic(file, toJson(summary));
-  return [file];
+export function writeCompareOutputs(summary: CompareSummary, dir: string, force: boolean, identity: RunIdentity): string[] {
+  return writeRun(dir, { force, produces: COMPARE_FILES, job: 'compare', identity }, (out) => out.write(COMPARE_FILES[0], toJson(summary)));
 }
 
 /**

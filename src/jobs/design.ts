@@ -17,6 +17,7 @@ import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
+import { configIdentity, writeRun, type RunFolder } from '../io/run-folder.ts';
 export type { DesignSummary, SolitonPrediction };
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
@@ -158,21 +159,23 @@ export function toJson(value: unknown, indent?: number): string {
 }
 
 /** Write potential.npy / potential.csv / sequence.json into dir (atomically; refuses to overwrite without force). */
-export function writeDesignOutputs(result: DesignResult, dir: string, force: boolean): string[] {
+export function writeDesignOutputs(result: DesignResult, dir: string, force: boolean, identity = configIdentity(result.ctx.config)): string[] {
+  return writeRun(dir, { force, produces: DESIGN_FILES, job: 'design', identity }, (out) => stageDesign(result, out));
+}
+
+function stageDesign(result: DesignResult, out: RunFolder): void {
   const { ctx, run } = result;
   const { units, grid } = ctx;
-  const outDir = prepareOutputDir(dir, { force, produces: [...DESIGN_FILES] });
   const nF = run.frames.length;
   const flat = new Float64Array(nF * grid.n);
   run.frames.forEach((f, i) => {
     for (let j = 0; j < grid.n; j++) flat[i * grid.n + j] = units.energyFromNatural(f[j]);
   });
   for (const v of flat) if (!Number.isFinite(v)) throw new Error('internal error: a non-finite potential value reached the output');
-  const files = DESIGN_FILES.map((f) => join(outDir, f));
-  writeFileAtomic(files[0], encodeNpy(flat, [nF, grid.n]));
+  out.write(DESIGN_FILES[0], encodeNpy(flat, [nF, grid.n]));
   const header = [`x (${units.labels.length})`, ...run.lambdas.map((l) => `lambda=${l}`)];
   const columns = [ctx.xUser, ...run.frames.map((_, i) => flat.subarray(i * grid.n, (i + 1) * grid.n))];
-  writeFileAtomic(files[1], `# potential V(x, λ) in ${units.labels.energy}; λ dimensionless\n` + writeCsv(header, columns));
+  out.write(DESIGN_FILES[1], `# potential V(x, λ) in ${units.labels.energy}; λ dimensionless\n` + writeCsv(header, columns));
   const sequence = {
     format: 'isotrap-sequence/1',
     x: ctx.xUser,
@@ -202,6 +205,5 @@ export function writeDesignOutputs(result: DesignResult, dir: string, force: boo
     summary: result.summary,
     config: { ...ctx.config, meta: undefined },
   };
-  writeFileAtomic(files[2], toJson(sequence));
-  return files;
+  out.write(DESIGN_FILES[2], toJson(sequence));
 }

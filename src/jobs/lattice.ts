@@ -36,6 +36,7 @@ import { ATOMIC_MASS_CONSTANT, PLANCK_H } from '../units/constants.ts';
 import { runDesign, toJson, type DesignResult } from './design.ts';
 import { boxThreshold } from '../quantum/bound.ts';
 import type { LatticeStudyRow, LatticeSummary, LatticeTables } from '../io/formats/lattice.ts';
+import { writeRun, type RunFolder, type RunIdentity } from '../io/run-folder.ts';
 export type { LatticeStudyRow, LatticeSummary, LatticeTables };
 
 /** at most this many propagated states by default (each costs one propagation per drive and lattice) */
@@ -522,13 +523,15 @@ export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): La
 }
 
 /** Write lattice.json, the .npy arrays and bonds.csv into dir (refuses to overwrite without force). */
-export function writeLatticeOutputs(result: LatticeResult, dir: string, force: boolean): string[] {
-  const outDir = prepareOutputDir(dir, { force, produces: [...LATTICE_FILES] });
+export function writeLatticeOutputs(result: LatticeResult, dir: string, force: boolean, identity: RunIdentity): string[] {
+  return writeRun(dir, { force, produces: LATTICE_FILES, job: 'lattice', identity }, (out) => stageLattice(result, out));
+}
+
+function stageLattice(result: LatticeResult, out: RunFolder): void {
   const { tables: t, summary } = result;
   const M = t.sites.length;
   const S = t.times.length;
-  const files = LATTICE_FILES.map((f) => join(outDir, f));
-  writeFileAtomic(files[0], toJson({ ...summary, files: { arrays: LATTICE_FILES.slice(2), shapes: { onsite: [S, M], nn: [S, M - 1], nnn: [S, M - 2] } } }, 1));
+  out.write(LATTICE_FILES[0], toJson({ ...summary, files: { arrays: LATTICE_FILES.slice(2), shapes: { onsite: [S, M], nn: [S, M - 1], nnn: [S, M - 2] } } }, 1));
   // bond table: every nn and nnn bond at every sample time
   const rows = S * ((M - 1) + (M - 2));
   const ci = new Float64Array(rows), cj = new Float64Array(rows), ct = new Float64Array(rows), ca = new Float64Array(rows), cp = new Float64Array(rows);
@@ -543,17 +546,15 @@ export function writeLatticeOutputs(result: LatticeResult, dir: string, force: b
   }
   const eUnit = summary.units.energy === 'h·Hz' ? 'hz' : 'E0';
   const tUnit = summary.units.time === 'ms' ? 'ms' : 't0';
-  writeFileAtomic(
-    files[1],
+  out.write(LATTICE_FILES[1],
     `# bond j -> j' couplings H_jj' = amplitude * exp(i phase) (${summary.units.energy}); on-site energies in onsite.npy\n` +
       writeCsv(['site_i', 'site_j', `t_${tUnit}`, `amplitude_${eUnit}`, 'phase_rad'], [ci, cj, ct, ca, cp]),
   );
-  writeFileAtomic(files[2], encodeNpy(t.sites, [M]));
-  writeFileAtomic(files[3], encodeNpy(t.times, [S]));
-  writeFileAtomic(files[4], encodeNpy(t.onsite, [S, M]));
-  writeFileAtomic(files[5], encodeNpy(t.nnAmplitude, [S, M - 1]));
-  writeFileAtomic(files[6], encodeNpy(t.nnPhase, [S, M - 1]));
-  writeFileAtomic(files[7], encodeNpy(t.nnnAmplitude, [S, M - 2]));
-  writeFileAtomic(files[8], encodeNpy(t.nnnPhase, [S, M - 2]));
-  return files;
+  out.write(LATTICE_FILES[2], encodeNpy(t.sites, [M]));
+  out.write(LATTICE_FILES[3], encodeNpy(t.times, [S]));
+  out.write(LATTICE_FILES[4], encodeNpy(t.onsite, [S, M]));
+  out.write(LATTICE_FILES[5], encodeNpy(t.nnAmplitude, [S, M - 1]));
+  out.write(LATTICE_FILES[6], encodeNpy(t.nnPhase, [S, M - 1]));
+  out.write(LATTICE_FILES[7], encodeNpy(t.nnnAmplitude, [S, M - 2]));
+  out.write(LATTICE_FILES[8], encodeNpy(t.nnnPhase, [S, M - 2]));
 }

@@ -1,12 +1,14 @@
 /**
  * `verify` and `run`: design → verify (→ report) into one output folder. The design is written even when the flow
- * stops before λ_end (then nothing is verified and a UserError says where the frames are).
+ * stops before λ_end (then nothing is verified and an AcceptanceFailure, exit 1, says where the design is).
  */
-import { UserError } from '../core/errors.ts';
+import { AcceptanceFailure } from '../core/errors.ts';
 import type { Config } from '../io/config.ts';
-import { runDesign, writeDesignOutputs, type DesignResult } from './design.ts';
+import { checkOutputDir } from '../io/files.ts';
+import { configIdentity } from '../io/run-folder.ts';
+import { DESIGN_FILES, runDesign, writeDesignOutputs, type DesignResult } from './design.ts';
 import { renderFolder } from './report.ts';
-import { runVerify, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
+import { runVerify, VERIFY_FILES, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
 
 export interface PipelineOptions {
   /** output folder */
@@ -29,13 +31,16 @@ export interface PipelineResult {
 export function runPipeline(config: Config, opts: PipelineOptions): PipelineResult {
   const started = performance.now();
   const progress = opts.onProgress ?? (() => {});
+  // existing results are refused before anything is computed; design and verify share one run identity
+  checkOutputDir(opts.dir, { force: opts.force, produces: [...DESIGN_FILES, ...VERIFY_FILES] });
+  const identity = configIdentity(config);
   const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end) });
   if (!design.summary.complete) {
-    writeDesignOutputs(design, opts.dir, opts.force);
-    throw new UserError(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the frames it has are in ${opts.dir})`);
+    writeDesignOutputs(design, opts.dir, opts.force, identity);
+    throw new AcceptanceFailure(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the design it reached is in ${opts.dir})`);
   }
   const verify = runVerify(config, design, { onProgress: (f) => progress('verify', f) });
-  const files = [...writeDesignOutputs(design, opts.dir, opts.force), ...writeVerifyOutputs(verify, opts.dir, opts.force)];
+  const files = [...writeDesignOutputs(design, opts.dir, opts.force, identity), ...writeVerifyOutputs(verify, opts.dir, opts.force, identity)];
   if (opts.report) files.push(...renderFolder(opts.dir, { force: opts.force, toolVersion: opts.toolVersion, runSeconds: (performance.now() - started) / 1000 }));
   return { design, verify, files };
 }

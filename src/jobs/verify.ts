@@ -17,6 +17,7 @@ import { StateCountError, verifySequence, type DriveKind, type DriveResult, type
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
 import type { VerifyFile } from '../io/formats/verify.ts';
+import { configIdentity, writeRun } from '../io/run-folder.ts';
 export type { VerifyFile };
 
 export const VERIFY_FILES = ['verify.json', 'traces.npy'] as const;
@@ -35,6 +36,7 @@ export interface VerifyJobOptions {
 }
 
 export interface VerifyJobResult {
+  config: Config;
   file: VerifyFile;
   traces: { data: Float64Array; shape: [number, number] };
   natural: VerifyResult;
@@ -265,13 +267,12 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
   for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare])]) {
     if (!Number.isFinite(x)) throw new Error('internal error: a non-finite verify result');
   }
-  return { file, traces: { data: traces.data, shape: traces.shape }, natural };
+  return { config, file, traces: { data: traces.data, shape: traces.shape }, natural };
 }
 
-export function writeVerifyOutputs(result: VerifyJobResult, dir: string, force: boolean): string[] {
-  const out = prepareOutputDir(dir, { force, produces: [...VERIFY_FILES] });
-  const files = VERIFY_FILES.map((f) => join(out, f));
-  writeFileAtomic(files[1], encodeNpy(result.traces.data, result.traces.shape));
-  writeFileAtomic(files[0], toJson(result.file, 1));
-  return files;
+export function writeVerifyOutputs(result: VerifyJobResult, dir: string, force: boolean, identity = configIdentity(result.config)): string[] {
+  return writeRun(dir, { force, produces: VERIFY_FILES, job: 'verify', identity }, (out) => {
+    out.write(VERIFY_FILES[1], encodeNpy(result.traces.data, result.traces.shape));
+    out.write(VERIFY_FILES[0], toJson(result.file, 1));
+  });
 }

@@ -1,5 +1,6 @@
 /** `isotrap design <config>`: integrate the flow and write the sequence. */
-import { runDesign, toJson, writeDesignOutputs, type DesignResult } from '../../jobs/design.ts';
+import { checkOutputDir } from '../../io/files.ts';
+import { DESIGN_FILES, runDesign, toJson, writeDesignOutputs, type DesignResult } from '../../jobs/design.ts';
 import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
 import { makeProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
@@ -23,10 +24,11 @@ function designRows(result: DesignResult, dir: string): [string, string][] {
 
 export async function designCommand(configPath: string, opts: CommonOptions): Promise<number> {
   const config = loadScenario(configPath);
+  const dir = outputDir(config.name, opts);
+  checkOutputDir(dir, { force: opts.force ?? false, produces: DESIGN_FILES }); // refuse before computing
   const progress = makeProgress('design', opts.quiet ?? false);
   const result = runDesign(config, { onProgress: (l, end) => progress.update(l / end) });
   progress.stop();
-  const dir = outputDir(config.name, opts);
   const files = writeDesignOutputs(result, dir, opts.force ?? false);
   const s = result.summary;
   if (opts.json) {

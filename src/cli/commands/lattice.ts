@@ -1,6 +1,8 @@
 /** `isotrap lattice <config>`: the tight-binding realisation of the design, verified on the lattice. */
 import { toJson } from '../../jobs/design.ts';
-import { runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
+import { checkOutputDir } from '../../io/files.ts';
+import { configIdentity } from '../../io/run-folder.ts';
+import { LATTICE_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
 import { writeLatticeFigures } from '../../jobs/report.ts';
 import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
 import { makeProgress } from '../progress.ts';
@@ -23,11 +25,12 @@ function latticeRows(s: LatticeSummary, files: string[], dir: string): [string, 
 
 export async function latticeCommand(configPath: string, opts: CommonOptions): Promise<number> {
   const config = loadScenario(configPath);
+  const dir = outputDir(config.name, opts);
+  checkOutputDir(dir, { force: opts.force ?? false, produces: LATTICE_FILES }); // refuse before computing
   const progress = makeProgress('lattice', opts.quiet ?? false);
   const result = runLattice(config, { onProgress: (p) => progress.update(p.fraction) });
   progress.stop();
-  const dir = outputDir(config.name, opts);
-  const files = [...writeLatticeOutputs(result, dir, opts.force ?? false), ...writeLatticeFigures(result, dir, opts.force ?? false)];
+  const files = [...writeLatticeOutputs(result, dir, opts.force ?? false, configIdentity(config)), ...writeLatticeFigures(result, dir, opts.force ?? false)];
   const s = result.summary;
   if (opts.json) process.stdout.write(toJson({ ...s, outputs: files }, 2) + '\n');
   else {
