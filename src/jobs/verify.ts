@@ -148,10 +148,12 @@ function ensembleSections(cd: DriveResult, bare: DriveResult, temperature: numbe
             unit: units.labels.temperature,
             fidelity_cd: cd.thermal.ensembleFidelity,
             fidelity_bare: bare.thermal.ensembleFidelity,
+            uhlmann_cd: cd.thermal.uhlmannFidelity ?? NaN,
+            uhlmann_bare: bare.thermal.uhlmannFidelity ?? NaN,
             mean_excess_cd: E(cd.thermal.meanExcessEnergy),
             mean_excess_bare: E(bare.thermal.meanExcessEnergy),
             tail_weight: cd.thermal.tailWeight,
-            definition: cd.thermal.definition,
+            definition: `fidelity: ${cd.thermal.definition}; uhlmann: (tr √(√σρ√σ))² of the evolved ensemble ρ and the final Gibbs state σ on the same levels (Nielsen & Chuang 2000, §9.2.2)`,
           }
         : null,
     fermions:

@@ -16,7 +16,7 @@
  * - Projected operator norms: ‖P O P‖₂ with P the projector on orthonormal states, computed as the largest |eigenvalue|
  *   of the Hermitian matrix M_ij = ⟨φ_i|O|φ_j⟩ through its real symmetric 2n×2n embedding [[Re M, −Im M],[Im M, Re M]].
  */
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { bareTerms, SpectralOperator, type OperatorTerms } from './hamiltonian.ts';
 import { dotIm, dotRe, norm2 } from '../linalg/complex.ts';
 import { groupDegenerate } from './eigen.ts';
@@ -96,7 +96,9 @@ export function boltzmannWeights(energies: readonly number[], temperature: numbe
  * 1994; Nielsen & Chuang, Quantum Computation and Quantum Information, 2000, §9.2.2, who call its square root F) of
  * the evolved ensemble ρ = Σ_n p_n |ψ_n⟩⟨ψ_n| and the target σ = Σ_m q_m |v_m⟩⟨v_m| (orthonormal real v_m). With
  * C_mn = ⟨v_m|ψ_n⟩ and B = diag(√q) C diag(√p), √σρ√σ = BB†, so tr √(√σρ√σ) is the sum of the singular values of
- * B, the square roots of the eigenvalues of B†B. For pure states it is |⟨ψ|v⟩|², the state fidelity used elsewhere.
+ * B. They come from an SVD of the real embedding [[Re B, −Im B], [Im B, Re B]] (each singular value twice), which
+ * keeps the small ones to round-off of ‖B‖ (square roots of the eigenvalues of B†B would not: √ε ≈ 1e-8).
+ * For pure states it is |⟨ψ|v⟩|², the state fidelity used elsewhere.
  */
 export function uhlmannFidelity(evolved: readonly Float64Array[], p: readonly number[], targets: readonly Float64Array[], q: readonly number[]): number {
   const n = p.length;
@@ -109,20 +111,14 @@ export function uhlmannFidelity(evolved: readonly Float64Array[], p: readonly nu
     bre[a * n + b] = f * cr;
     bim[a * n + b] = f * ci;
   }
-  // G = B†B (n×n Hermitian)
-  const gre = new Float64Array(n * n);
-  const gim = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-    let r = 0, s = 0;
-    for (let a = 0; a < m; a++) {
-      const xr = bre[a * n + i], xi = -bim[a * n + i], yr = bre[a * n + j], yi = bim[a * n + j];
-      r += xr * yr - xi * yi;
-      s += xr * yi + xi * yr;
-    }
-    gre[i * n + j] = r;
-    gim[i * n + j] = s;
+  const big = new Matrix(2 * m, 2 * n);
+  for (let a = 0; a < m; a++) for (let b = 0; b < n; b++) {
+    big.set(a, b, bre[a * n + b]);
+    big.set(a + m, b + n, bre[a * n + b]);
+    big.set(a, b + n, -bim[a * n + b]);
+    big.set(a + m, b, bim[a * n + b]);
   }
-  const trace = hermitianEigenvalues(gre, gim, n).reduce((acc, e) => acc + Math.sqrt(Math.max(0, e)), 0);
+  const trace = new SingularValueDecomposition(big, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal.reduce((acc, x) => acc + x, 0) / 2;
   return trace * trace;
 }
 
@@ -232,16 +228,10 @@ export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: 
 }
 
 /**
- * Eigenvalues (ascending) of the Hermitian n×n matrix M = (re + i·im) (row-major; its Hermitian part is taken to
- * remove round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]], which has each
- * eigenvalue of M twice (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.1).
+ * Largest |eigenvalue| of the Hermitian n×n matrix (re + i·im) (row-major; its Hermitian part is taken to remove
+ * round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]], which has each eigenvalue
+ * twice (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.1).
  */
-function hermitianEigenvalues(re: Float64Array, im: Float64Array, n: number): number[] {
-  const all = [...hermitianEmbedding(re, im, n).realEigenvalues].sort((a, b) => a - b);
-  return all.filter((_, i) => i % 2 === 0);
-}
-
-/** largest |eigenvalue| of the Hermitian matrix (re + i·im) */
 function hermitianSpectralRadius(re: Float64Array, im: Float64Array, n: number): number {
   return Math.max(...hermitianEmbedding(re, im, n).realEigenvalues.map(Math.abs));
 }

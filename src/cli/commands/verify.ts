@@ -15,7 +15,10 @@ function verifyRows(v: VerifyFile): [string, string][] {
   for (const st of v.states) {
     rows.push([`state ${st.index} (E = ${num(st.energy)} ${E})`, `fidelity ${num(st.fidelity_cd, 10)} with correction, ${num(st.fidelity_bare, 4)} bare; excess ${num(st.excess_cd, 3)} / ${num(st.excess_bare, 3)} ${E}`]);
   }
-  if (v.thermal) rows.push([`thermal (T = ${v.thermal.temperature} ${v.thermal.unit})`, `fidelity ${num(v.thermal.fidelity_cd, 10)} / ${num(v.thermal.fidelity_bare, 4)}, excess energy ${num(v.thermal.mean_excess_cd, 3)} / ${num(v.thermal.mean_excess_bare, 3)} ${E}`]);
+  if (v.thermal) {
+    rows.push([`thermal (T = ${v.thermal.temperature} ${v.thermal.unit})`, `mean state fidelity ${num(v.thermal.fidelity_cd, 10)} / ${num(v.thermal.fidelity_bare, 4)}, excess energy ${num(v.thermal.mean_excess_cd, 3)} / ${num(v.thermal.mean_excess_bare, 3)} ${E}`]);
+    rows.push(['thermal, Uhlmann fidelity', `${num(v.thermal.uhlmann_cd, 10)} / ${num(v.thermal.uhlmann_bare, 4)} (evolved against the final Gibbs state)`]);
+  }
   if (v.fermions) rows.push([`Fermi sea (${v.fermions.count} fermions)`, `fidelity ${num(v.fermions.fidelity_cd, 10)} / ${num(v.fermions.fidelity_bare, 4)}`]);
   rows.push(['correction size', `max |λ̇|‖A‖ = ${num(v.cd_strength.max_total)} ${E} (p³ part ${num(v.cd_strength.max_cubic)}, potential part ${num(v.cd_strength.max_potential)})`]);
   if (v.classical) rows.push(['classical sequence + correction', `to λ = ${num(v.classical.lambda_reached)} (t = ${num(v.classical.time_reached)} ${v.units.time}): worst fidelity ${num(Math.min(...v.classical.fidelity), 6)}`]);

@@ -28,7 +28,9 @@ export interface VerifyFile {
     excess_cd: number;
     excess_bare: number;
   }[];
-  thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; mean_excess_cd: number; mean_excess_bare: number; tail_weight: number; definition: string };
+  /** fidelity_*: Boltzmann mean of the state fidelities Σ pₙFₙ; uhlmann_*: Uhlmann fidelity of the evolved and
+   *  the final Gibbs state, (tr √(√σρ√σ))² */
+  thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; uhlmann_cd: number; uhlmann_bare: number; mean_excess_cd: number; mean_excess_bare: number; tail_weight: number; definition: string };
   fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number; fermi_level_cuts_group: boolean };
   cd_strength: {
     unit: string;
@@ -61,7 +63,7 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
     z.object({ index: num, energy: num, energy_start: num, energy_end: num, degeneracy: num, fidelity_cd: num, fidelity_bare: num, excess_cd: num, excess_bare: num }),
   ),
   thermal: z
-    .object({ temperature: num, unit: str, fidelity_cd: num, fidelity_bare: num, mean_excess_cd: num, mean_excess_bare: num, tail_weight: num, definition: str })
+    .object({ temperature: num, unit: str, fidelity_cd: num, fidelity_bare: num, uhlmann_cd: num, uhlmann_bare: num, mean_excess_cd: num, mean_excess_bare: num, tail_weight: num, definition: str })
     .nullable(),
   fermions: z.object({ count: num, fidelity_cd: num, fidelity_bare: num, fermi_level_cuts_group: z.boolean() }).nullable(),
   cd_strength: z.object({
