@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import { makeRamp } from '../src/protocol/ramp.ts';
 import { gridBreaking, breakingTime } from '../src/flow/breaking.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
-import { correctionSizes } from '../src/quantum/correction.ts';
 import { hopfCurvatureGrowth } from '../src/classical/hopf.ts';
 
 describe('Hopf breaking formula (src/flow/breaking.ts)', () => {
@@ -20,20 +19,5 @@ describe('Hopf breaking formula (src/flow/breaking.ts)', () => {
   it('curvature growth q³, q = 1/(1 − λ/λ_b): 8 at half the breaking λ (closed form)', () => {
     expect(hopfCurvatureGrowth(0.5, 1)).toBe(8);
     expect(hopfCurvatureGrowth(0, 2)).toBe(1);
-  });
-});
-
-describe('correction sizes (src/quantum/correction.ts)', () => {
-  it('linear ramp: 4|λ̇| and 6|λ̇| max|u| with λ̇ = λ_end/T (closed forms in the module doc)', () => {
-    const ramp = makeRamp('linear', 2, 0.5);
-    const n = 8;
-    const sizes = correctionSizes(ramp, (l, out) => out.fill(-3 * (1 + l)), n, 5);
-    expect(sizes.time).toEqual([0, 0.5, 1, 1.5, 2]);
-    for (let i = 0; i < 5; i++) {
-      const rate = 0.25;
-      expect(sizes.cubic[i]).toBeCloseTo(4 * rate, 15);
-      expect(sizes.potential[i]).toBeCloseTo(6 * rate * 3 * (1 + 0.5 * (i / 4)), 14);
-      expect(sizes.total[i]).toBeCloseTo(sizes.cubic[i] + sizes.potential[i], 14);
-    }
   });
 });

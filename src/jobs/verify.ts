@@ -11,9 +11,8 @@ import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { driveClassicalSequence } from '../classical/corrected.ts';
 import { makeRamp } from '../protocol/ramp.ts';
-import { correctionSizes, CORRECTION_SIZE_DEFINITION } from '../quantum/correction.ts';
 import type { UnitSystem } from '../units/scales.ts';
-import { StateCountError, verifySequence, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
+import { StateCountError, verifySequence, type CdStrength, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
 import type { VerifyFile } from '../io/formats/verify.ts';
@@ -26,8 +25,6 @@ export const VERIFY_FILES = ['verify.json', 'traces.npy'] as const;
 export const ACCEPT_INFIDELITY = 1e-6;
 /** fidelity-trace samples per drive (each costs one eigen-solve) */
 export const TRACE_SAMPLES = 10;
-/** samples of the correction's size against time for the figure (cheap: closed-form bounds) */
-export const CORRECTION_SAMPLES = 101;
 
 export interface VerifyJobOptions {
   onProgress?: (fraction: number, stage: string) => void;
@@ -101,14 +98,6 @@ function classicalSection(config: Config, design: DesignResult, input: VerifyInp
   return { lambda_break: c.lambdaBreak, lambda_reached: c.lambdaReached, time_reached: units.timeFromNatural(c.timeReached), fidelity: c.fidelity, note: CLASSICAL_NOTE };
 }
 
-/** the correction's size against time (quantum/correction.ts) in the config's units */
-function correctionSamples(design: DesignResult, input: VerifyInput): VerifyFile['cd_strength']['samples'] {
-  const { units, grid } = design.ctx;
-  const ramp = makeRamp(input.protocol.ramp, input.duration, input.lambdaEnd);
-  const n = correctionSizes(ramp, (l, out) => void design.run.dense.at(l, out), grid.n, CORRECTION_SAMPLES);
-  const E = (x: number) => units.energyFromNatural(x);
-  return { time: n.time.map((s) => units.timeFromNatural(s)), cubic: n.cubic.map(E), potential: n.potential.map(E), total: n.total.map(E), definition: CORRECTION_SIZE_DEFINITION };
-}
 
 /** fidelity traces as a (drive, state) × time table */
 function traceTable(natural: VerifyResult, drives: DriveResult[], timeFromNatural: (s: number) => number): { data: Float64Array; shape: [number, number]; times: number[]; rows: { drive: string; state: number }[] } {
@@ -135,7 +124,32 @@ function acceptanceText(accepted: boolean, minCd: number): string {
 }
 
 const CD_STRENGTH_DEFINITION =
-  'max over the protocol of |λ̇|·‖P A P‖ on the occupied low-energy subspace (P: the lowest transported states), and the same for the p³ part and the potential-weighted momentum part separately';
+  'leakage: |λ̇|·‖(1 − P) A P‖₂, the coupling the correction λ̇A supplies out of the occupied subspace (P: the lowest `occupied` transported states), ' +
+  'at each sample time; leakage_cubic / leakage_potential: the same for the p³ part and the potential-weighted momentum part alone (they partly cancel, so each may exceed the whole); ' +
+  'window: the largest single element |λ̇⟨m|A|n⟩| between an occupied state n and a tracked state m ≠ n; max_*: the largest value over the protocol, at_time: where max_leakage occurs';
+
+/** the correction's size (quantum/verify.ts CdStrength) in the config's units */
+function correctionSection(st: CdStrength | null, units: UnitSystem): VerifyFile['cd_strength'] {
+  const E = (x: number) => units.energyFromNatural(x);
+  const c = st ?? { occupied: 0, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
+  const peak = c.leakage.reduce((best, v, i) => (v > c.leakage[best] ? i : best), 0);
+  const max = (xs: number[]) => (xs.length ? E(Math.max(...xs)) : NaN);
+  return {
+    unit: units.labels.energy,
+    occupied: c.occupied,
+    definition: CD_STRENGTH_DEFINITION,
+    max_leakage: max(c.leakage),
+    max_leakage_cubic: max(c.leakageCubic),
+    max_leakage_potential: max(c.leakagePotential),
+    max_window: max(c.window),
+    at_time: c.time.length ? units.timeFromNatural(c.time[peak]) : NaN,
+    time: c.time.map((s) => units.timeFromNatural(s)),
+    leakage: c.leakage.map(E),
+    leakage_cubic: c.leakageCubic.map(E),
+    leakage_potential: c.leakagePotential.map(E),
+    window: c.window.map(E),
+  };
+}
 
 /** the thermal and Fermi-sea sections, when both drives have them */
 function ensembleSections(cd: DriveResult, bare: DriveResult, temperature: number | undefined, units: UnitSystem): Pick<VerifyFile, 'thermal' | 'fermions'> {
@@ -164,7 +178,7 @@ function ensembleSections(cd: DriveResult, bare: DriveResult, temperature: numbe
 }
 
 /** the verify.json content (config units) from the natural-units result; summary_rows filled by `summaryRows` */
-function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyResult, parts: { classical: VerifyFile['classical']; samples: VerifyFile['cd_strength']['samples']; traces: ReturnType<typeof traceTable> }): VerifyFile {
+function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyResult, parts: { classical: VerifyFile['classical']; traces: ReturnType<typeof traceTable> }): VerifyFile {
   const { units } = design.ctx;
   const cd = driveOf(natural, 'cd');
   const bare = driveOf(natural, 'bare');
@@ -191,16 +205,7 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
       excess_bare: E(bare.excessEnergy[i]),
     })),
     ...ensembleSections(cd, bare, input.verify.temperature, units),
-    cd_strength: {
-      unit: Lt.energy,
-      occupied: st?.occupied ?? 0,
-      max_total: E(st?.full ?? NaN),
-      max_cubic: E(st?.cubic ?? NaN),
-      max_potential: E(st?.potential ?? NaN),
-      at_time: units.timeFromNatural(st?.atTime ?? NaN),
-      definition: CD_STRENGTH_DEFINITION,
-      samples: parts.samples,
-    },
+    cd_strength: correctionSection(natural.cdStrength, units),
     classical: parts.classical,
     propagation: Object.fromEntries(
       natural.drives.map((d) => [
@@ -231,7 +236,8 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
     { key: 'ground-state fidelity with / without', value: `${cd.fidelity[0].toPrecision(10)} / ${bare.fidelity[0].toPrecision(6)}` },
     ...(file.thermal ? [{ key: `thermal ensemble at ${file.thermal.temperature} ${file.units.temperature}: fidelity with / without`, value: `${file.thermal.fidelity_cd.toPrecision(10)} / ${file.thermal.fidelity_bare.toPrecision(6)}` }, { key: 'thermal excess energy with / without', value: `${file.thermal.mean_excess_cd.toExponential(3)} / ${file.thermal.mean_excess_bare.toExponential(3)}`, unit: file.units.energy }] : []),
     ...(file.fermions ? [{ key: `Fermi sea (${file.fermions.count} fermions): fidelity with / without`, value: `${file.fermions.fidelity_cd.toPrecision(10)} / ${file.fermions.fidelity_bare.toPrecision(6)}` }] : []),
-    { key: 'largest correction |λ̇|‖A‖ (p³ / potential part)', value: `${file.cd_strength.max_total.toPrecision(4)} (${file.cd_strength.max_cubic.toPrecision(4)} / ${file.cd_strength.max_potential.toPrecision(4)})`, unit: file.units.energy },
+    { key: 'correction out of the occupied states, max |λ̇|‖(1 − P)AP‖ (p³ / potential part alone)', value: `${file.cd_strength.max_leakage.toPrecision(4)} (${file.cd_strength.max_leakage_cubic.toPrecision(4)} / ${file.cd_strength.max_leakage_potential.toPrecision(4)})`, unit: file.units.energy },
+    { key: 'largest single transition element |λ̇⟨m|A|n⟩|', value: file.cd_strength.max_window.toPrecision(4), unit: file.units.energy },
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
@@ -261,9 +267,8 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     onProgress: opts.onProgress,
   }));
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
-  const samples = correctionSamples(design, input);
   const traces = traceTable(natural, [driveOf(natural, 'cd'), driveOf(natural, 'bare')], (s) => units.timeFromNatural(s));
-  const file = verifyFile(design, input, natural, { classical, samples, traces });
+  const file = verifyFile(design, input, natural, { classical, traces });
   file.seconds = (performance.now() - started) / 1000;
   file.summary_rows = summaryRows(file, natural);
   for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare])]) {

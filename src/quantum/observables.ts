@@ -227,43 +227,6 @@ export function fermionFidelity(evolved: readonly Float64Array[], finalVectors: 
   };
 }
 
-/**
- * Largest |eigenvalue| of the Hermitian n×n matrix (re + i·im) (row-major; its Hermitian part is taken to remove
- * round-off asymmetry), through the real symmetric 2n×2n embedding [[Re, −Im], [Im, Re]], which has each eigenvalue
- * twice (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §8.1).
- */
-function hermitianSpectralRadius(re: Float64Array, im: Float64Array, n: number): number {
-  return Math.max(...hermitianEmbedding(re, im, n).realEigenvalues.map(Math.abs));
-}
-
-function hermitianEmbedding(re: Float64Array, im: Float64Array, n: number): EigenvalueDecomposition {
-  const big = new Matrix(2 * n, 2 * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-    const r = 0.5 * (re[i * n + j] + re[j * n + i]);
-    const m = 0.5 * (im[i * n + j] - im[j * n + i]);
-    big.set(i, j, r);
-    big.set(i + n, j + n, r);
-    big.set(i, j + n, -m);
-    big.set(i + n, j, m);
-  }
-  return new EigenvalueDecomposition(big, { assumeSymmetric: true });
-}
-
-/** ‖P O P‖₂ for orthonormal complex states φ (P their projector); scratch length 2N */
-export function projectedNorm(op: SpectralOperator, terms: OperatorTerms, states: readonly Float64Array[], scratch: Float64Array): number {
-  const n = states.length;
-  const mre = new Float64Array(n * n);
-  const mim = new Float64Array(n * n);
-  for (let j = 0; j < n; j++) {
-    op.apply(terms, states[j], scratch);
-    for (let i = 0; i < n; i++) {
-      mre[i * n + j] = dotRe(states[i], scratch);
-      mim[i * n + j] = dotIm(states[i], scratch);
-    }
-  }
-  return hermitianSpectralRadius(mre, mim, n);
-}
-
 export interface OccupiedCoupling {
   /** ‖(1 − P) O P‖₂: how strongly O drives the occupied states out of their subspace (P: the occupied projector) */
   leakage: number;
@@ -304,5 +267,21 @@ export function occupiedCoupling(op: SpectralOperator, terms: OperatorTerms, tra
     gre[i * occupied + j] = dotRe(residuals[i], residuals[j]);
     gim[i * occupied + j] = dotIm(residuals[i], residuals[j]);
   }
-  return { leakage: Math.sqrt(hermitianSpectralRadius(gre, gim, occupied)), window };
+  return { leakage: Math.sqrt(largestGramEigenvalue(gre, gim, occupied)), window };
+}
+
+/**
+ * Largest eigenvalue of the Hermitian positive semi-definite n×n Gram matrix (re + i·im), through the real symmetric
+ * 2n×2n embedding [[Re, −Im], [Im, Re]], which has each eigenvalue twice (Golub & Van Loan, Matrix Computations,
+ * 4th ed. 2013, §8.1).
+ */
+function largestGramEigenvalue(re: Float64Array, im: Float64Array, n: number): number {
+  const big = new Matrix(2 * n, 2 * n);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    big.set(i, j, re[i * n + j]);
+    big.set(i + n, j + n, re[i * n + j]);
+    big.set(i, j + n, -im[i * n + j]);
+    big.set(i + n, j, im[i * n + j]);
+  }
+  return Math.max(0, ...new EigenvalueDecomposition(big, { assumeSymmetric: true }).realEigenvalues);
 }

@@ -10,7 +10,7 @@ import type { Grid } from '../spectral/grid.ts';
 import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
-import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, projectedNorm, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
+import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
@@ -22,8 +22,8 @@ export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped:
 const DEGENERACY_TOL_DEFAULT = 1e-7;
 /** states added above the bound ones by default (the lowest continuum levels show leakage out of the bound set) */
 const EXTRA_STATES = 4;
-/** samples of the protocol used for the CD-strength maximum */
-const STRENGTH_SAMPLES_DEFAULT = 17;
+/** samples of the protocol at which the size of the correction is measured (CdStrength) */
+const STRENGTH_SAMPLES_DEFAULT = 33;
 
 export interface VerifyOptions {
   grid: Grid;
@@ -70,21 +70,20 @@ export interface DriveResult {
   trace: { times: number[]; fidelity: number[][] } | null;
 }
 
+/**
+ * The size of the correction a lab needs (E₀), at every strength sample time s (see observables.occupiedCoupling):
+ * `leakage` |λ̇|‖(1 − P)AP‖₂, the coupling the correction supplies out of the occupied subspace (P: the lowest
+ * `occupied` transported states); `leakageCubic`, `leakagePotential` the same measure of the p³ and of the
+ * potential-weighted part alone (they partly cancel, so each may exceed the whole); `window` the largest single
+ * transition element |λ̇⟨m|A|n⟩| between an occupied n and a tracked m ≠ n.
+ */
 export interface CdStrength {
-  /** occupied subspace used: the lowest `occupied` transported states */
   occupied: number;
-  /** max over the protocol of |λ'|·‖P A_λ P‖ (E₀), and the same for the p³ part (4k³) and the potential part (3{u,k}) */
-  full: number;
-  cubic: number;
-  potential: number;
-  atTime: number;
-  /**
-   * The size a lab needs, at every strength sample time s: |λ̇|‖(1 − P)AP‖₂ (the coupling the correction supplies
-   * out of the occupied subspace; `leakageCubic`/`leakagePotential`: the same measure of the p³ and of the
-   * potential-weighted part alone, which partly cancel, so they may exceed the whole) and the largest single
-   * transition element |λ̇⟨m|A|n⟩| between an occupied n and a tracked m ≠ n (E₀); see observables.occupiedCoupling
-   */
-  coupling: { time: number[]; leakage: number[]; leakageCubic: number[]; leakagePotential: number[]; window: number[] };
+  time: number[];
+  leakage: number[];
+  leakageCubic: number[];
+  leakagePotential: number[];
+  window: number[];
 }
 
 export interface VerifyResult {
@@ -191,23 +190,14 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
   const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
   const uS = new Float64Array(grid.n);
-  let best = { full: 0, cubic: 0, potential: 0, atTime: 0 };
-  const coupling: CdStrength['coupling'] = { time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
+  const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
   const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
     scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global',
     onProgress: (f) => ctx.progress((di + f) / driveCount, drive),
     onSample: (s, sts) => {
       opts.potential(ramp.value(s), uS);
       if (trace && traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
-      if (nStrength > 0 && strengthTimes.includes(s)) {
-        const occ = sts.slice(0, ctx.occupied);
-        const rate = Math.abs(ramp.rate(s));
-        const full = rate * projectedNorm(ctx.op, laxTerms(uS, 'full'), occ, ctx.scratch);
-        if (full >= best.full) {
-          best = { full, cubic: rate * projectedNorm(ctx.op, laxTerms(uS, 'cubic'), occ, ctx.scratch), potential: rate * projectedNorm(ctx.op, laxTerms(uS, 'potential'), occ, ctx.scratch), atTime: s };
-        }
-        recordCoupling(coupling, ctx, s, rate, uS, sts);
-      }
+      if (nStrength > 0 && strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, Math.abs(ramp.rate(s)), uS, sts);
     },
   });
   const { e0, e1, groups1, m } = spectra;
@@ -224,12 +214,12 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
   return {
     result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace },
-    strength: nStrength > 0 ? { occupied: ctx.occupied, ...best, coupling } : null,
+    strength: nStrength > 0 ? coupling : null,
   };
 }
 
-/** one sample of the correction's coupling out of the occupied subspace (CdStrength.coupling) */
-function recordCoupling(c: CdStrength['coupling'], ctx: DriveContext, s: number, rate: number, uS: Float64Array, sts: readonly Float64Array[]): void {
+/** one sample of the correction's coupling out of the occupied subspace (CdStrength) */
+function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, rate: number, uS: Float64Array, sts: readonly Float64Array[]): void {
   const full = occupiedCoupling(ctx.op, laxTerms(uS, 'full'), sts, ctx.occupied, ctx.scratch);
   c.time.push(s);
   c.leakage.push(rate * full.leakage);

@@ -20,7 +20,9 @@ function verifyRows(v: VerifyFile): [string, string][] {
     rows.push(['thermal, Uhlmann fidelity', `${num(v.thermal.uhlmann_cd, 10)} / ${num(v.thermal.uhlmann_bare, 4)} (evolved against the final Gibbs state)`]);
   }
   if (v.fermions) rows.push([`Fermi sea (${v.fermions.count} fermions)`, `fidelity ${num(v.fermions.fidelity_cd, 10)} / ${num(v.fermions.fidelity_bare, 4)}`]);
-  rows.push(['correction size', `max |λ̇|‖A‖ = ${num(v.cd_strength.max_total)} ${E} (p³ part ${num(v.cd_strength.max_cubic)}, potential part ${num(v.cd_strength.max_potential)})`]);
+  const c = v.cd_strength;
+  rows.push(['correction out of occupied states', `max |λ̇|‖(1 − P)AP‖ = ${num(c.max_leakage)} ${E} at t = ${num(c.at_time)} ${v.units.time} (p³ part alone ${num(c.max_leakage_cubic)}, potential part alone ${num(c.max_leakage_potential)}: they partly cancel)`]);
+  rows.push(['largest transition element', `max |λ̇⟨m|A|n⟩| = ${num(c.max_window)} ${E} (occupied n, tracked m ≠ n)`]);
   if (v.classical) rows.push(['classical sequence + correction', `to λ = ${num(v.classical.lambda_reached)} (t = ${num(v.classical.time_reached)} ${v.units.time}): worst fidelity ${num(Math.min(...v.classical.fidelity), 6)}`]);
   rows.push(['isospectrality drift', `${num(v.isospectral_drift, 3)} ${E}`]);
   rows.push(['verdict', v.acceptance]);

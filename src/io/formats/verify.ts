@@ -32,15 +32,21 @@ export interface VerifyFile {
    *  the final Gibbs state, (tr √(√σρ√σ))² */
   thermal: null | { temperature: number; unit: string; fidelity_cd: number; fidelity_bare: number; uhlmann_cd: number; uhlmann_bare: number; mean_excess_cd: number; mean_excess_bare: number; tail_weight: number; definition: string };
   fermions: null | { count: number; fidelity_cd: number; fidelity_bare: number; fermi_level_cuts_group: boolean };
+  /** the size of the correction a lab needs (definition in the file); one series per sample time */
   cd_strength: {
     unit: string;
     occupied: number;
-    max_total: number;
-    max_cubic: number;
-    max_potential: number;
-    at_time: number;
     definition: string;
-    samples: { time: number[]; cubic: number[]; potential: number[]; total: number[]; definition: string };
+    max_leakage: number;
+    max_leakage_cubic: number;
+    max_leakage_potential: number;
+    max_window: number;
+    at_time: number;
+    time: number[];
+    leakage: number[];
+    leakage_cubic: number[];
+    leakage_potential: number[];
+    window: number[];
   };
   classical: null | { lambda_break: number; lambda_reached: number; time_reached: number; fidelity: number[]; note: string };
   propagation: Record<string, { steps: number; rejected: number; matvecs: number; scheme: string; norm_drift: number; seconds: number; estimated_amplitude_error: number }>;
@@ -69,12 +75,17 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
   cd_strength: z.object({
     unit: str,
     occupied: num,
-    max_total: num,
-    max_cubic: num,
-    max_potential: num,
-    at_time: num,
     definition: str,
-    samples: z.object({ time: nums, cubic: nums, potential: nums, total: nums, definition: str }),
+    max_leakage: num,
+    max_leakage_cubic: num,
+    max_leakage_potential: num,
+    max_window: num,
+    at_time: num,
+    time: nums,
+    leakage: nums,
+    leakage_cubic: nums,
+    leakage_potential: nums,
+    window: nums,
   }),
   classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
   propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),

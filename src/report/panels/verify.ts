@@ -46,20 +46,24 @@ function ensemblesFigure(v: VerifyFile): ReportFigure | null {
   };
 }
 
-/** |λ̇|·‖A‖ against time, split into its p³ and potential parts (null without samples) */
+/** the summary's correction size against time: the same series as verify.json cd_strength (null without samples) */
 function correctionFigure(v: VerifyFile): ReportFigure | null {
-  const s = v.cd_strength.samples;
-  if (!(s.time.length > 1)) return null;
+  const c = v.cd_strength;
+  if (!(c.time.length > 1)) return null;
   return {
     id: 'correction',
-    caption: `Size of the counterdiabatic correction |λ̇|·‖A‖ on the occupied low-energy subspace against time, split into the p³ part and the potential-weighted momentum part (${v.cd_strength.unit}).`,
+    caption:
+      `Size of the counterdiabatic correction against time (${c.unit}): its coupling out of the ${c.occupied} occupied states, |λ̇|·‖(1 − P)AP‖ ` +
+      `(the value in the summary is the largest of this curve), the same for the p³ part and the potential-weighted part alone (they partly cancel), ` +
+      'and the largest single transition element |λ̇⟨m|A|n⟩| between an occupied and a tracked state.',
     svg: lineChart({
       xLabel: `time t (${v.units.time})`,
-      yLabel: `correction strength (${v.cd_strength.unit})`,
+      yLabel: `correction size (${c.unit})`,
       series: [
-        { name: 'p³ part', x: s.time, y: s.cubic },
-        { name: '{V, p} part', x: s.time, y: s.potential, dashed: true },
-        { name: 'total', x: s.time, y: s.total },
+        { name: 'out of occupied states', x: c.time, y: c.leakage },
+        { name: 'p³ part alone', x: c.time, y: c.leakage_cubic, dashed: true },
+        { name: '{V, p} part alone', x: c.time, y: c.leakage_potential, dashed: true },
+        { name: 'largest element', x: c.time, y: c.window },
       ],
       width: 'single',
     }),
