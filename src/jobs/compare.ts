@@ -9,7 +9,6 @@
  * with either sequence plus the cubic correction) is added by `quantumDrives` into the slot `quantum`.
  * The config section and its defaults are in io/config-compare.ts.
  */
-import { join } from 'node:path';
 import { shellStarts, type TrajectoryReport } from '../classical/cd.ts';
 import { characteristicsCheck, characteristicsSampler, phaseSpaceComparison, smallOscillationPeriod } from '../classical/comparison.ts';
 import { FourierProfile } from '../classical/field.ts';
@@ -30,7 +29,6 @@ import {
 } from '../classical/scaling.ts';
 import type { CompareConfig } from '../io/config-compare.ts';
 import { UserError } from '../core/errors.ts';
-import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { gridBreaking } from '../flow/breaking.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';

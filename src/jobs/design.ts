@@ -2,10 +2,8 @@
  * `design`: integrate the KdV (quantum) or Hopf (classical) flow from the configured trap and collect the
  * diagnostics a physicist checks before trusting a sequence (physics.md §2–§5).
  */
-import { join } from 'node:path';
 import type { Config } from '../io/config.ts';
 import { writeCsv } from '../io/csv.ts';
-import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';

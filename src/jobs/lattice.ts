@@ -18,12 +18,10 @@
  * The config section and its defaults are in io/config-lattice.ts; the cost model that limits the lattices is in
  * lattice/cost.ts.
  */
-import { join } from 'node:path';
 import type { UnitsConfig } from '../io/config.ts';
 import type { LatticeConfig, LatticeSection } from '../io/config-lattice.ts';
 import { writeCsv } from '../io/csv.ts';
 import { UserError } from '../core/errors.ts';
-import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { MAX_SITE_PRODUCTS, predictedWork, siteCountProblem } from '../lattice/cost.ts';
 import { depthTunnelling, dispersionForMass, effectiveMassU, naturalBandWidth, naturalTunnelling, spacingFromWavelengthUm, type DepthTunnelling } from '../lattice/params.ts';

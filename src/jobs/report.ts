@@ -7,7 +7,6 @@ import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { stringify } from 'yaml';
-import type { CompareSummary } from '../io/formats/compare.ts';
 import { readNpyFile } from '../io/formats/read.ts';
 import { readSequenceFile, type SequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile, type VerifyFile } from '../io/formats/verify.ts';

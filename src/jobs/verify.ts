@@ -4,13 +4,10 @@
  * optionally drive the classical (Hopf) sequence of the same start with the same correction until it breaks.
  * Converts the natural-units results of quantum/verify.ts into the config's units.
  */
-import { join } from 'node:path';
 import { UserError } from '../core/errors.ts';
 import type { Config } from '../io/config.ts';
-import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { driveClassicalSequence } from '../classical/corrected.ts';
-import { makeRamp } from '../protocol/ramp.ts';
 import type { UnitSystem } from '../units/scales.ts';
 import { StateCountError, verifySequence, type CdStrength, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
@@ -185,7 +182,6 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
   const E = (x: number) => units.energyFromNatural(x);
   const Lt = units.labels;
   const accepted = 1 - cd.minFidelity <= ACCEPT_INFIDELITY;
-  const st = natural.cdStrength;
   return {
     format: 'isotrap-verify/1',
     units: { energy: Lt.energy, time: Lt.time, length: Lt.length, temperature: Lt.temperature },
