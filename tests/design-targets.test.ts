@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { boundEnergies, boxThreshold } from '../src/quantum/bound.ts';
-import { fitReflectionless } from '../src/flow/reflectionless.ts';
+import { fitReflectionless, mergedCentres } from '../src/flow/reflectionless.ts';
 import { nSolitonPotential, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
-import { collisionSequence, kappasFromDepths, mergedCentres, nearestAdmissible, reachableSplit, splitSequence, transportSequence } from '../src/flow/targets.ts';
+import { collisionSequence, kappasFromDepths, nearestAdmissible, reachableSplit, splitSequence, transportSequence } from '../src/flow/targets.ts';
 import { depthBudget, narrowestFeature } from '../src/flow/budgets.ts';
 import { integrateFlow, naturalFlowEquation } from '../src/flow/kdv.ts';
 import type { Grid } from '../src/spectral/grid.ts';

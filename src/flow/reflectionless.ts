@@ -31,8 +31,9 @@ const STEP_TOL = 1e-10;
 /** forward-difference step in a centre, in units of the soliton width 1/κ (the Jacobian only steers the
  *  iteration; the residual it converges on is exact) */
 const JACOBIAN_STEP = 1e-7;
-/** a start whose relative distance is below this is an exact fit: the other starts are skipped */
-const EXACT_FIT = 1e-10;
+/** the later starts are tried only when the first (the even well) leaves a relative distance above this: each
+ *  costs many iterations and matters only for traps far from every even reflectionless well (common practice) */
+const GOOD_FIT = 0.05;
 /** initial damping relative to the Gauss–Newton diagonal (Marquardt's scaling) */
 const DAMPING_START = 1e-3;
 
@@ -48,6 +49,25 @@ export interface ReflectionlessFit {
   /** radiation / ∫u₀² */
   radiationFraction: number;
   iterations: number;
+}
+
+/**
+ * Centres of the reflectionless potential with inverse widths κ_n that is even about ξ_c:
+ *     x_n = ξ_c + (1/2κ_n) Σ_{m≠n} ln((κ_n + κ_m)/|κ_n − κ_m|),  i.e. c_n² = 2κ_n Π_{m≠n} (κ_n + κ_m)/|κ_n − κ_m|,
+ * the residues of the reflectionless transmission coefficient T(k) = Π_n (k + iκ_n)/(k − iκ_n) with the parity
+ * signs of an even potential (Drazin & Johnson, Solitons: an Introduction, 1989, §4.4). Each soliton's incoming and
+ * outgoing asymptotes (pairwise phase shifts, flow/solitons.ts) lie symmetrically about ξ_c, so the map
+ * (ξ, τ) → (2ξ_c − ξ, −τ), a symmetry of KdV, takes the solution to itself. For κ = 1 … N it is
+ * −N(N+1) sech²(ξ − ξ_c) (Pöschl–Teller, Landau & Lifshitz, Quantum Mechanics, §23; checked in the tests).
+ */
+export function mergedCentres(kappas: readonly number[], centre = 0): SolitonSpec[] {
+  return kappas.map((k, n) => {
+    let s = 0;
+    kappas.forEach((m, j) => {
+      if (j !== n) s += Math.log((k + m) / Math.abs(k - m));
+    });
+    return { kappa: k, center: centre + s / (2 * k) };
+  });
 }
 
 function residual(grid: Grid, u0: Float64Array, kappas: readonly number[], centres: readonly number[]): Float64Array {
@@ -116,8 +136,10 @@ function levenbergMarquardt(grid: Grid, u0: Float64Array, kappas: readonly numbe
 
 /**
  * Fit the Kay–Moses potential with inverse widths `kappas` (the bound states −κ² of u₀, e.g. from
- * quantum/bound.ts) to u₀ on the grid. Starts: every centre at the centroid of u₀, and the centres spread by
- * ±1/(2κ) about it alternately; the best fit is returned (the later starts are skipped after an exact fit). RangeError for an empty or non-positive κ list.
+ * quantum/bound.ts) to u₀ on the grid. Starts: the even reflectionless well at the centroid of u₀ (the exact
+ * answer for an even reflectionless u₀, and close to it for a nearly reflectionless one), every centre at the
+ * centroid, and the centres spread by ±1/(2κ) about it alternately; the best fit is returned (the later starts
+ * only when the first leaves more than GOOD_FIT). RangeError for an empty or non-positive κ list.
  */
 export function fitReflectionless(grid: Grid, u0: Float64Array, kappas: readonly number[]): ReflectionlessFit {
   if (kappas.length === 0 || kappas.some((k) => !(k > 0) || !Number.isFinite(k))) throw new RangeError(`reflectionless fit: κ must be a non-empty list of positive numbers, got [${kappas.join(', ')}]`);
@@ -131,6 +153,7 @@ export function fitReflectionless(grid: Grid, u0: Float64Array, kappas: readonly
   }
   const centroid = weight > 0 ? moment / weight : 0;
   const starts = [
+    mergedCentres(sorted, centroid).map((s) => s.center),
     sorted.map(() => centroid),
     sorted.map((k, i) => centroid + (i % 2 === 0 ? 1 : -1) / (2 * k)),
     sorted.map((k, i) => centroid - (i % 2 === 0 ? 1 : -1) / (2 * k)),
@@ -140,7 +163,7 @@ export function fitReflectionless(grid: Grid, u0: Float64Array, kappas: readonly
   for (const s of starts) {
     const f = levenbergMarquardt(grid, u0, sorted, s);
     if (!best || f.cost < best.cost) best = f;
-    if (best.cost <= EXACT_FIT * EXACT_FIT * norm0) break;
+    if (best.cost <= GOOD_FIT * GOOD_FIT * norm0) break;
   }
   if (!best || !Number.isFinite(best.cost)) throw new NumericalError('reflectionless fit: no finite least-squares fit was found');
   const solitons = sorted.map((kappa, i) => ({ kappa, center: best.centres[i] }));

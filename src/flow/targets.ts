@@ -9,11 +9,8 @@
  *
  * - Symmetric drift: the mean well position Σ_n(o_n + v_nτ)/N stays put when Σ v_n = 0, i.e.
  *   c = −(4/N) Σ κ_n²  (two wells: c = −2(κ₁² + κ₂²), equal and opposite speeds ±2(κ₁² − κ₂²)).
- * - Merged well: the N-soliton that is even about ξ_c. Its centres are x_n = ξ_c + (1/2κ_n) Σ_{m≠n} ln((κ_n + κ_m)/
- *   |κ_n − κ_m|), i.e. c_n² = 2κ_n Π_{m≠n}(κ_n + κ_m)/|κ_n − κ_m|: each soliton's incoming and outgoing lines lie
- *   symmetrically about ξ_c, so (ξ, τ) → (2ξ_c − ξ, −τ), a symmetry of KdV, maps the solution to itself. For
- *   κ = 1 … N it is −N(N+1) sech²(ξ − ξ_c) (Pöschl–Teller; its norming constants, from the eigenfunctions of
- *   Landau & Lifshitz, Quantum Mechanics, §23, are these; checked in the tests).
+ * - Merged well: the N-soliton that is even about ξ_c (`mergedCentres`, flow/reflectionless.ts): each soliton's
+ *   incoming and outgoing lines lie symmetrically about ξ_c.
  * - Split: the merged well at τ = 0; the wells separate at 4(κ_n² − κ_m²) per unit τ, so the positions reachable
  *   at any τ are (up to exponentially small overlaps) affine in κ_n²: p_n = A + 4τκ_n².
  * - Merge: the mirror image; separated wells at τ = 0 become the merged well at the final τ.
@@ -26,6 +23,7 @@
  */
 import { NumericalError } from '../core/errors.ts';
 import { nSolitonPotential, solitonAsymptotes, type SolitonSpec } from './solitons.ts';
+import { mergedCentres } from './reflectionless.ts';
 
 /** default smallest ratio of neighbouring κ offered for near-equal requests (depth ratio 1.1: wells separate
  *  at 4(κ₁² − κ₂²) ≈ 0.4κ² per unit τ) */
@@ -63,17 +61,6 @@ function checkKappas(kappas: readonly number[]): number[] {
     }
   }
   return sorted;
-}
-
-/** centres of the N-soliton even about ξ_c (module doc) */
-export function mergedCentres(kappas: readonly number[], centre = 0): SolitonSpec[] {
-  return kappas.map((k, n) => {
-    let s = 0;
-    kappas.forEach((m, j) => {
-      if (j !== n) s += Math.log((k + m) / Math.abs(k - m));
-    });
-    return { kappa: k, center: centre + s / (2 * k) };
-  });
 }
 
 /** drift c that keeps the mean well position fixed: c = −(4/N) Σ κ² */

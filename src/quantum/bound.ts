@@ -10,8 +10,9 @@
  * caller's samples Fourier-interpolated (exact for band-limited u). Levels are added until the last two diagonal
  * entries of the tableau agree to max(REL_TOL · max|u|, ROUND_OFF · 2/h²); the finer one is returned. The first
  * grid resolves u and has h₀·√(max|u|) ≤ START_HK. Cost O(levels · n · 60) per bound state: no dense matrix.
- * The limit is the continuum spectrum of the periodic box, which the caller's spectral grid approximates to its
- * own resolution.
+ * The limit is the spectrum of −∂² + u on the periodic box, u the trigonometric interpolant of the caller's
+ * samples (an entire function, so the expansion in h² holds even for rough samples); the caller's own spectral
+ * grid approximates that limit to its resolution.
  */
 import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
