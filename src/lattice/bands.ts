@@ -69,16 +69,44 @@ export interface LowestBand {
   massRatioAtBottom: number;
 }
 
-/** step in κ of the central second difference for the band curvature (error O(δ²) ≈ 1e-8 relative) */
-const CURVATURE_STEP = 1e-4;
+/**
+ * Inverse effective mass m/m* of the lowest band at κ = 0 by second-order (k·p) perturbation theory in the
+ * plane-wave basis. H(κ) = H(0) + κP + κ² with P = ∂H/∂κ = diag 4n (κ in k_L, E in E_R), so
+ *     E₀(κ) = E₀ + κ² [1 + Σ_{j≠0} |⟨0|P|j⟩|² / (E₀ − E_j)] + O(κ⁴)   (⟨0|P|0⟩ = 0 by parity)
+ * and E₀(κ) − E₀ = E_R (m/m*) κ² gives m/m* = 1 + Σ_{j≠0} |P_0j|²/(E₀ − E_j) (Ashcroft & Mermin, Solid State
+ * Physics, 1976, ch. 8, the k·p expansion of the band energy; Kittel, Quantum Theory of Solids, 1963, ch. 9).
+ * Eigenvectors from the same tridiagonal QL; no step size, hence no ε·(2P)²/δ² round-off of a second difference.
+ */
+export function inverseMassRatioAtBottom(s: number, cutoff = planeWaveCutoff(s)): number {
+  const n = 2 * cutoff + 1;
+  const d = new Float64Array(n);
+  const e = new Float64Array(n);
+  const p = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const g = 2 * (i - cutoff);
+    d[i] = g * g + s / 2;
+    e[i] = -s / 4;
+    p[i] = 2 * g;
+  }
+  const z = new Float64Array(n * n);
+  tridiagEigen(d, e, n, z);
+  let ground = 0;
+  for (let j = 1; j < n; j++) if (d[j] < d[ground]) ground = j;
+  let sum = 0;
+  for (let j = 0; j < n; j++) {
+    if (j === ground) continue;
+    let m = 0;
+    for (let i = 0; i < n; i++) m += z[i * n + ground] * p[i] * z[i * n + j];
+    sum += (m * m) / (d[ground] - d[j]);
+  }
+  return 1 + sum;
+}
 
 export function lowestBand(s: number): LowestBand {
   const bottom = bandEnergies(s, 0)[0];
   const top = bandEnergies(s, 1)[0];
-  const ep = bandEnergies(s, CURVATURE_STEP)[0];
-  const curvature = (2 * (ep - bottom)) / (CURVATURE_STEP * CURVATURE_STEP);
-  // E = E_bottom + (ħ²k²/2m*) = E_bottom + E_R (m/m*) κ²  ⇒  ∂²E/∂κ² = 2 m/m*
-  return { depth: s, bottom, top, tunnelling: (top - bottom) / 4, massRatioAtBottom: 2 / curvature };
+  // E = E_bottom + E_R (m/m*) κ² near κ = 0
+  return { depth: s, bottom, top, tunnelling: (top - bottom) / 4, massRatioAtBottom: 1 / inverseMassRatioAtBottom(s) };
 }
 
 /** Zwerger's deep-lattice estimate J/E_R ≈ (4/√π) s^{3/4} e^{−2√s} (an approximation, valid for s ≫ 1) */

@@ -1,0 +1,39 @@
+import { describe, expect, it } from 'vitest';
+import { makeGrid } from '../src/spectral/grid.ts';
+import { boundEnergies, boxThreshold } from '../src/quantum/bound.ts';
+import { lowestEigenpairs } from '../src/quantum/eigen.ts';
+import { ATOMIC_MASS_CONSTANT, BOLTZMANN_K, HBAR } from '../src/units/constants.ts';
+import { speciesMass } from '../src/units/species.ts';
+
+describe('bound-state energies converged in the grid size (src/quantum/bound.ts)', () => {
+  it('−N(N+1) sech²ξ has E_n = −(N − n)², N = 1 … 4 (Pöschl–Teller; Landau & Lifshitz, Quantum Mechanics, §23)', () => {
+    const grid = makeGrid(40, 1024);
+    for (let N = 1; N <= 4; N++) {
+      const u = grid.x.map((x) => -N * (N + 1) / Math.cosh(x) ** 2);
+      const r = boundEnergies(grid, u, boxThreshold(grid.length));
+      expect(r.energies.length).toBe(N);
+      for (let n = 0; n < N; n++) expect(Math.abs(r.energies[n] + (N - n) ** 2)).toBeLessThan(1e-9); // closed form −(N−n)²
+      expect(r.change).toBeLessThanOrEqual(r.tolerance);
+    }
+  });
+
+  it('a ⁴⁰K Gaussian well (ℓ = 1 µm, 0.15 µK, σ = 2 µm, L = 100, 2048 points) agrees with a spectral Lanczos solve', () => {
+    // natural units of physics.md §3: E₀ = ħ²/(2mℓ²) with CODATA 2018 ħ, k_B and the AME2020 ⁴⁰K mass (units/)
+    const e0 = (HBAR * HBAR) / (2 * speciesMass('K40') * ATOMIC_MASS_CONSTANT * 1e-12);
+    const depth = (0.15e-6 * BOLTZMANN_K) / e0;
+    expect(depth).toBeGreaterThan(24.5); // ≈ 24.7 E₀ (hand calculation from the constants above; common practice)
+    expect(depth).toBeLessThan(25);
+    const grid = makeGrid(100, 2048);
+    const u = grid.x.map((x) => -depth * Math.exp(-0.5 * (x / 2) ** 2));
+    const r = boundEnergies(grid, u, boxThreshold(grid.length));
+    expect(r.change).toBeLessThanOrEqual(r.tolerance);
+    // independent reference: Fourier collocation (not finite differences) diagonalised by Chebyshev-filtered
+    // Lanczos (quantum/eigen.ts) on 512 points of the same box, where the Gaussian and its states are resolved
+    const coarse = makeGrid(100, 512);
+    const uc = coarse.x.map((x) => -depth * Math.exp(-0.5 * (x / 2) ** 2));
+    const ref = lowestEigenpairs(coarse, uc, r.energies.length + 1, { residualTol: 1e-9 });
+    expect(r.energies.length).toBe(11);
+    expect(ref.energies.filter((e) => e < boxThreshold(grid.length)).length).toBe(11);
+    for (let i = 0; i < r.energies.length; i++) expect(Math.abs(r.energies[i] - ref.energies[i])).toBeLessThan(1e-6 * depth);
+  });
+});
