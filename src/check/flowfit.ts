@@ -553,13 +553,14 @@ function translate(fft: RealFFT, grid: Grid, v: Float64Array, s: number): Float6
 }
 
 /**
- * The fitted map of one interval applied to u: S_s Φ_Δτ(u) (module comment), on the PAD_FACTOR·N grid when u
- * reaches beyond the flow's band, returned on the frames' grid. Returns the accepted flow steps with the frame.
+ * The fitted map of one interval applied to u: S_s Φ_Δτ(u) (module comment), on the PAD_FACTOR·N grid when u or
+ * the interval's target frame reaches beyond the flow's band (as the fit decides), returned on the frames' grid.
+ * Returns the accepted flow steps with the frame.
  */
-export function applyIntervalMap(grid: Grid, u: Float64Array, dtau: number, shift: number, tolerance = FLOW_TOLERANCE): { frame: Float64Array; steps: number } {
+export function applyIntervalMap(grid: Grid, u: Float64Array, target: Float64Array, dtau: number, shift: number, tolerance = FLOW_TOLERANCE): { frame: Float64Array; steps: number } {
   if (!(dtau >= 0)) throw new RangeError(`applyIntervalMap: Δτ must be ≥ 0, got ${dtau}`);
   const fft = new RealFFT(grid.n);
-  const pad = needsPadding(fft, grid.n, [u]);
+  const pad = needsPadding(fft, grid.n, [u, target]);
   const work = pad ? makeGrid(grid.length, PAD_FACTOR * grid.n) : grid;
   const workFft = pad ? new RealFFT(work.n) : fft;
   let v = pad ? resample(u, work.n) : Float64Array.from(u);

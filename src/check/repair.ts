@@ -27,8 +27,8 @@ export function repairSequence(grid: Grid, frames: readonly Float64Array[], maps
   if (maps.length !== frames.length - 1) throw new RangeError(`repair: ${maps.length} interval maps for ${frames.length} frames`);
   const out: Float64Array[] = [Float64Array.from(frames[0])];
   let steps = 0;
-  for (const m of maps) {
-    const next = applyIntervalMap(grid, out[out.length - 1], m.dtau, m.shift, tolerance);
+  for (const [k, m] of maps.entries()) {
+    const next = applyIntervalMap(grid, out[k], frames[k + 1], m.dtau, m.shift, tolerance);
     steps += next.steps;
     out.push(next.frame);
   }
