@@ -13,6 +13,7 @@ import { readCheckFile } from '../src/io/formats/check.ts';
 import { oneSoliton, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
 import { runCheck, short, writeCheckOutputs } from '../src/jobs/check.ts';
+import { resampleToPowerOfTwo } from '../src/spectral/resample-any.ts';
 import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
 
 const tmp = () => mkdtempSync(join(tmpdir(), 'isotrap-check-job-'));
@@ -90,6 +91,45 @@ describe('check judges exact KdV sequences at the spacing labs use', () => {
     const files = writeCheckOutputs(r, join(dir, '..', 'out'), false);
     expect(readCheckFile(files[0]).time_map?.tau[10]).toBeCloseTo(tauEnd, 6);
     console.log('time map', short(worst));
+  });
+});
+
+describe('inputs as labs have them', () => {
+  it('band-limited interpolation from 300 points is exact for a trigonometric polynomial of the period', () => {
+    // a trigonometric polynomial of degree < n/2 is its own band-limited interpolant (Trefethen, Spectral Methods
+    // in MATLAB, 2000, ch. 3): values at the 512 new points match the closed form to round-off
+    const f = (x: number) => 0.3 + Math.cos(2 * Math.PI * 3 * x) - 0.7 * Math.sin(2 * Math.PI * 41 * x) + 0.2 * Math.cos(2 * Math.PI * 150 * x);
+    const out = resampleToPowerOfTwo(Array.from({ length: 300 }, (_, j) => f(j / 300)), 512);
+    let worst = 0;
+    out.forEach((v, j) => (worst = Math.max(worst, Math.abs(v - f(j / 512)))));
+    expect(worst).toBeLessThan(1e-12);
+  });
+
+  it('numbers in messages at three significant digits without binary noise', () => {
+    // common practice: 0.1 + 0.2 prints as 0.3; small and large magnitudes with an exponent
+    expect(short(0.1 + 0.2)).toBe('0.3');
+    expect(short(3.2465e-6)).toBe('3.25e-6');
+    expect(short(1e-6)).toBe('1e-6');
+    expect(short(123456)).toBe('1.23e+5');
+    expect(short(-4)).toBe('-4');
+  });
+
+  it('a .csv on 384 points (not a power of two) is resampled onto 512 and judged as admissible', () => {
+    // Drazin & Johnson 1989 closed form sampled on a uniform 384-point period of L = 60
+    const n = 384, L = 60;
+    const x = Array.from({ length: n }, (_, j) => -L / 2 + (j * L) / n);
+    const taus = uniform(0.1, 5);
+    const head = ['x (ℓ)', ...taus.map((t) => `lambda=${t}`)].join(',');
+    const rows = x.map((xi) => [xi, ...taus.map((t) => twoSolitonFromSech2(xi, t))].join(','));
+    const dir = tmp();
+    writeFileSync(join(dir, 'lab.csv'), [head, ...rows].join('\n') + '\n');
+    writeFileSync(join(dir, 'lab.yaml'), 'energy_unit: E0\n');
+    // default tolerance: 384 points over L = 60 resolve the narrowing κ = 2 soliton to residuals of a few 1e-6
+    const r = runCheck({ input: join(dir, 'lab.csv') });
+    expect(r.report.grid).toMatchObject({ points: 512, input_points: 384, resampled: true });
+    expect(r.report.warnings.some((w) => /384 points: the frames were interpolated spectrally/.test(w))).toBe(true);
+    expect(r.admissible).toBe(true);
+    for (const it of r.report.intervals) expect(Math.abs(it.dtau - 0.025)).toBeLessThan(1e-6);
   });
 });
 

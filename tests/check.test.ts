@@ -209,11 +209,11 @@ describe('isotrap check: malformed input', () => {
     writeFileSync(join(dir, 'v.json'), JSON.stringify({ x: Array.from(g.x), lambda: [0, 2, 1], length_unit: 'ℓ', energy_unit: 'E₀' }));
     expect(() => runCheck({ input: join(dir, 'v.npy') })).toThrow(/λ must increase strictly .* frame 2/);
   });
-  it('x with a non-power-of-two count names the rule; a duplicated periodic end point is pointed out', () => {
+  it('x with a non-power-of-two count whose last point repeats the first: the duplicated periodic end point is pointed out', () => {
     const dir = tmp();
     const x = Array.from({ length: 33 }, (_, j) => -20 + (40 * j) / 32);
     writeFileSync(join(dir, 'p.csv'), [header, ...x.map((v) => `${v},-1,-1,-1`)].join('\n') + '\n');
     writeFileSync(join(dir, 'p.yaml'), sidecar);
-    expect(() => runCheck({ input: join(dir, 'p.csv') })).toThrow(/33 points: the periodic Fourier grid needs a power of two.*drop it/);
+    expect(() => runCheck({ input: join(dir, 'p.csv') })).toThrow(/33 points and every frame ends on its first value.*drop it/);
   });
 });

@@ -21,8 +21,10 @@
  *    length_unit_um lab only: the natural length unit ℓ in µm used inside the check (default 1)
  * A natural sequence needs ℓ with E₀; a lab one needs µm with h·kHz or µK and a mass.
  *
- * x must be strictly increasing, uniform (x_j = x_0 + j·dx to X_UNIFORM_RTOL·dx) and have a power-of-two
- * number of points: it is one period x_0 … x_0 + L − dx of the periodic box of length L = N·dx.
+ * x must be strictly increasing and uniform (x_j = x_0 + j·dx to X_UNIFORM_RTOL·dx): it is one period
+ * x_0 … x_0 + L − dx of the periodic box of length L = n·dx. Any count n works: when n is not a power of two the
+ * frames are interpolated spectrally (band-limited, spectral/resample-any.ts) onto the next power of two of the
+ * same box, and a warning says so.
  */
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { basename, dirname, extname, join } from 'node:path';
@@ -34,6 +36,7 @@ import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
 import { makeUnitSystem, type UnitSystem } from '../units/scales.ts';
 import { SPECIES, SPECIES_NAMES, isSpeciesName } from '../units/species.ts';
 import { isPowerOfTwo, makeGrid, type Grid } from '../spectral/grid.ts';
+import { nextPowerOfTwo, resampleToPowerOfTwo } from '../spectral/resample-any.ts';
 
 /** fewest frames: one interval for the flow fit */
 export const MIN_FRAMES = 2;
@@ -42,6 +45,8 @@ export const MIN_POINTS = 16;
 /** x may deviate from x_0 + j·dx by this fraction of dx: admits x printed with ~7 significant digits, far
  * below any genuinely non-uniform sampling */
 export const X_UNIFORM_RTOL = 1e-6;
+/** a last sample equal to the first to this fraction of the frame's peak marks a repeated period end point (round-off of printed values) */
+const PERIOD_REPEAT_RTOL = 1e-12;
 /** sidecar x / λ must agree with the CSV's to this relative tolerance (printed values, common practice) */
 const SIDECAR_MATCH_RTOL = 1e-9;
 /** species mass and mass_u in one sidecar must agree to this (AME2020 tabulation precision, 1e-9 u) */
@@ -84,7 +89,7 @@ export interface Sequence {
   readonly format: 'npy' | 'csv';
   readonly units: SequenceUnits;
   readonly system: UnitSystem;
-  /** positions in the user's length unit, as read */
+  /** positions in the user's length unit, as read (grid.n may be larger: frames resampled onto a power of two) */
   readonly xUser: Float64Array;
   /** λ (KdV time τ in the natural units of ℓ) of each frame, strictly increasing; null when only `time` is given */
   readonly lambda: number[] | null;
@@ -281,8 +286,8 @@ function readSidecar(path: string): Sidecar {
 // --------------------------------------------------------------------------------------------- checks
 
 /**
- * x strictly increasing, uniform, power-of-two count: returns x_0 and dx (dx from the end points, so printed
- * round-off does not accumulate). `rowName(j)` names sample j in messages.
+ * x strictly increasing and uniform: returns x_0 and dx (dx from the end points, so printed round-off does not
+ * accumulate). `rowName(j)` names sample j in messages.
  */
 export function checkPeriodicX(x: Float64Array, file: string, rowName: (j: number) => string): { x0: number; dx: number } {
   const n = x.length;
@@ -300,12 +305,6 @@ export function checkPeriodicX(x: Float64Array, file: string, rowName: (j: numbe
           `puts it at ${expected}; the check needs a uniform periodic grid (allowed deviation ${X_UNIFORM_RTOL}·dx): resample the sequence first`,
       );
     }
-  }
-  if (!isPowerOfTwo(n)) {
-    const dup = isPowerOfTwo(n - 1)
-      ? `; ${n - 1} is one: if the last point repeats the first point of the period (x₀ + L), drop it`
-      : '';
-    throw new UserError(`${file}: x has ${n} points: the periodic Fourier grid needs a power of two (…, 256, 512, 1024, …)${dup}`);
   }
   return { x0, dx };
 }
@@ -457,12 +456,20 @@ export function readSequence(file: string, opts: ReadSequenceOptions = {}): Sequ
   const { xUser, lambda, time } = raw;
   const { x0, dx } = checkPeriodicX(xUser, file, raw.rowName);
   const n = xUser.length;
-  const grid = makeGrid(system.lengthToNatural(n * dx), n);
+  const warnings: string[] = [];
+  if (!isPowerOfTwo(n)) {
+    if (isPowerOfTwo(n - 1) && raw.values.every((col) => Math.abs(col[0] - col[n - 1]) <= PERIOD_REPEAT_RTOL * Math.max(...Array.from(col, Math.abs)))) {
+      throw new UserError(`${file}: x has ${n} points and every frame ends on its first value: if the last point repeats the first point of the period (x₀ + L), drop it`);
+    }
+    warnings.push(`x has ${n} points: the frames were interpolated spectrally (band-limited, periodic box of length ${n}·dx) onto ${nextPowerOfTwo(n)} points for the flow`);
+  }
+  const points = isPowerOfTwo(n) ? n : nextPowerOfTwo(n);
+  const grid = makeGrid(system.lengthToNatural(n * dx), points);
   const offset = system.lengthToNatural(x0) - grid.x[0];
   const frames = raw.values.map((col) => {
     const u = new Float64Array(n);
     for (let j = 0; j < n; j++) u[j] = system.energyToNatural(col[j]);
-    return u;
+    return points === n ? u : resampleToPowerOfTwo(u, points);
   });
-  return { file, sidecar: sidecar?.path ?? null, format: ext === '.npy' ? 'npy' : 'csv', units, system, xUser, lambda, time, grid, offset, frames, warnings: [] };
+  return { file, sidecar: sidecar?.path ?? null, format: ext === '.npy' ? 'npy' : 'csv', units, system, xUser, lambda, time, grid, offset, frames, warnings };
 }

@@ -55,6 +55,9 @@ export const SPECTRUM_FRAMES_ALL = 201;
 const FLOOR_FACTOR = 10;
 /** significant digits of the numbers in messages */
 const DIGITS = 3;
+/** magnitudes outside [SMALL, LARGE) are printed with an exponent (common practice) */
+const SMALL = 1e-3;
+const LARGE = 1e5;
 
 export const CHECK_FILES = ['check.json', 'repaired.npy', 'repaired.json'] as const;
 
@@ -84,9 +87,11 @@ export interface CheckResult {
   variational?: { fit: VariationalFit; comparison: ComparisonResult };
 }
 
-/** a number at DIGITS significant digits, without binary noise (0.3, not 0.30000000000000004) */
+/** a number at DIGITS significant digits, without binary noise (0.3, not 0.30000000000000004; 3.25e-6, not 0.00000325) */
 export function short(v: number, digits = DIGITS): string {
-  return Number.isFinite(v) ? String(Number(v.toPrecision(digits))) : String(v);
+  if (!Number.isFinite(v)) return String(v);
+  if (v !== 0 && (Math.abs(v) < SMALL || Math.abs(v) >= LARGE)) return v.toExponential(digits - 1).replace(/\.?0+e/, 'e');
+  return String(Number(v.toPrecision(digits)));
 }
 
 /** frames whose bound-state spectrum is computed: all, or an even selection plus every frame of a failing interval */
