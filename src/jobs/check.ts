@@ -59,7 +59,7 @@ const DIGITS = 3;
 const SMALL = 1e-3;
 const LARGE = 1e5;
 
-export const CHECK_FILES = ['check.json', 'repaired.npy', 'repaired.json'] as const;
+export const CHECK_FILES = ['check.json', 'repaired.npy', 'repaired.json', 'input.npy'] as const;
 
 export interface CheckOptions {
   /** .npy (with sidecar) or .csv sequence */
@@ -377,20 +377,26 @@ export function checkExitCode(result: CheckResult): 0 | 1 {
 }
 
 /**
- * Write check.json, repaired.npy and repaired.json (a sidecar in the `design` format, so the repaired
- * sequence can itself be checked) into dir; refuses to overwrite without force. Returns the paths.
+ * Write check.json, repaired.npy, repaired.json (a sidecar in the `design` format, so the repaired sequence can
+ * itself be checked) and input.npy (the frames as judged, on the integration grid, for `isotrap report`) into
+ * dir; refuses to overwrite without force. Returns the paths.
  */
 export function writeCheckOutputs(result: CheckResult, dir: string, force: boolean): string[] {
   const outDir = prepareOutputDir(dir, { force, produces: [...CHECK_FILES] });
   const files = CHECK_FILES.map((f) => join(outDir, f));
   const { sequence: seq, repair } = result;
   const n = seq.grid.n;
-  const flat = new Float64Array(repair.frames.length * n);
-  repair.frames.forEach((f, k) => {
-    for (let j = 0; j < n; j++) flat[k * n + j] = seq.system.energyFromNatural(f[j]);
-  });
+  /** frames in the sequence's energy unit as one [frames, points] .npy */
+  const npy = (frames: readonly Float64Array[]) => {
+    const flat = new Float64Array(frames.length * n);
+    frames.forEach((f, k) => {
+      for (let j = 0; j < n; j++) flat[k * n + j] = seq.system.energyFromNatural(f[j]);
+    });
+    return encodeNpy(flat, [frames.length, n]);
+  };
   result.report.repaired.files = [files[1], files[2]];
-  writeFileAtomic(files[1], encodeNpy(flat, [repair.frames.length, n]));
+  writeFileAtomic(files[1], npy(repair.frames));
+  writeFileAtomic(files[3], npy(seq.frames));
   const sidecar = {
     format: 'isotrap-sequence/1',
     x: seq.xUser.length === n ? seq.xUser : Array.from(seq.grid.x, (x) => seq.system.lengthFromNatural(x + seq.offset)),
