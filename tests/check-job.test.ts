@@ -12,7 +12,7 @@ import { parseConfig } from '../src/io/config.ts';
 import { readCheckFile } from '../src/io/formats/check.ts';
 import { oneSoliton, twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
-import { runCheck, short, writeCheckOutputs } from '../src/jobs/check.ts';
+import { runCheck, runCheckParallel, short, writeCheckOutputs } from '../src/jobs/check.ts';
 import { resampleToPowerOfTwo } from '../src/spectral/resample-any.ts';
 import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
 
@@ -48,7 +48,6 @@ describe('check judges exact KdV sequences at the spacing labs use', () => {
     // the repaired sequence applies the fitted maps from frame 0: equal to the input to the flow's accuracy
     // (common practice; measured 1.3e-8, the N = 512 frames' own sampling error carried through 20 intervals)
     expect(r.report.repaired.relative_l2).toBeLessThan(1e-7);
-    console.log('two-soliton', short(Math.max(...r.report.intervals.map((i) => Math.abs(i.dtau - 0.025)))), short(r.report.fit.max_residual), short(r.report.repaired.relative_l2));
   });
 
   it('one soliton with a drift, 20 frames: admissible; the drift is recovered from λ, or the displacement reported', () => {
@@ -90,7 +89,6 @@ describe('check judges exact KdV sequences at the spacing labs use', () => {
     expect(map?.rate[5]).toBeCloseTo(0.25, 1);
     const files = writeCheckOutputs(r, join(dir, '..', 'out'), false);
     expect(readCheckFile(files[0]).time_map?.tau[10]).toBeCloseTo(tauEnd, 6);
-    console.log('time map', short(worst));
   });
 });
 
@@ -133,6 +131,23 @@ describe('inputs as labs have them', () => {
   });
 });
 
+describe('intervals on worker threads', () => {
+  it('the parallel fit (2 workers) gives exactly the serial report', async () => {
+    // fitInterval is a pure function of its inputs: the same numbers in any thread (common practice: determinism)
+    const grid = makeGrid(40, 256);
+    const taus = uniform(0.2, 9);
+    const frames = taus.map((t) => grid.x.map((x) => twoSolitonFromSech2(x, t)));
+    frames[4] = frames[4].map((v) => 1.01 * v);
+    const input = writeSequence(grid, frames, { lambda: taus });
+    const serial = runCheck({ input });
+    let calls = 0;
+    const parallel = await runCheckParallel({ input, workers: 2, onProgress: () => calls++ });
+    expect(JSON.stringify(parallel.report)).toBe(JSON.stringify(serial.report));
+    expect(calls).toBe(8);
+    expect(serial.report.fit.failed).toEqual([3, 4]);
+  });
+});
+
 describe('the default scenario passes its own check', () => {
   it('design output of configs/default.yaml (11 frames and 512 points for speed) is admissible', () => {
     const dir = tmp();
@@ -144,6 +159,5 @@ describe('the default scenario passes its own check', () => {
     expect(r.report.intervals).toHaveLength(10);
     // λ of the design is KdV time in the natural units of ℓ = 1 µm: the fit finds it (physics.md §3)
     expect(r.report.fit.lambda_mismatch as number).toBeLessThan(1e-6);
-    console.log('default', short(r.report.fit.max_residual), short(r.report.fit.lambda_mismatch as number), short(r.report.spectral_drift_relative));
   });
 });

@@ -142,7 +142,9 @@ describe('isotrap check: sequences that are not admissible', () => {
     const f = r.report.frames;
     // first-order perturbation: E_n shifts by 0.01⟨n|u|n⟩, about 1 % of the level (Landau & Lifshitz §38)
     expect(f[bad].spectral_drift_relative as number).toBeGreaterThan(3e-3);
-    for (const fr of f) if (fr.index !== bad) expect(fr.spectral_drift_relative as number).toBeLessThan(1e-6);
+    const sampled = f.filter((fr) => fr.spectral_drift_relative !== null);
+    expect(sampled.map((fr) => fr.index)).toEqual([0, 3, 5, 8, 9, 10, 11, 13, 15, 18, 20]); // 9 evenly spaced + frames of failing intervals
+    for (const fr of sampled) if (fr.index !== bad) expect(fr.spectral_drift_relative as number).toBeLessThan(1e-6);
     expect(f[bad].isospectral).toBe(false);
   });
 

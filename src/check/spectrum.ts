@@ -34,11 +34,18 @@ function median(v: number[]): number {
   return s.length % 2 ? s[h] : 0.5 * (s[h - 1] + s[h]);
 }
 
-/** Bound-state energies of k² + u at the chosen frames and their deviations from the sequence median. */
-export function spectrumCheck(grid: Grid, frames: readonly Float64Array[], indices: readonly number[]): SpectrumCheck {
-  const thresholdOf = (u: Float64Array) => Math.min(u[0], u[u.length - 1]) + boxThreshold(grid.length);
-  const threshold = thresholdOf(frames[indices[0]]);
-  const energies = indices.map((i) => boundEnergies(grid, frames[i], thresholdOf(frames[i])).energies);
+/** bound-state threshold of a frame: min(u at the box edges) − (2π/L)² (module doc) */
+export function frameThreshold(grid: Grid, u: Float64Array): number {
+  return Math.min(u[0], u[u.length - 1]) + boxThreshold(grid.length);
+}
+
+/** bound-state energies of k² + u below the frame's threshold, ascending (E₀) */
+export function frameEnergies(grid: Grid, u: Float64Array): number[] {
+  return boundEnergies(grid, u, frameThreshold(grid, u)).energies;
+}
+
+/** the isospectrality summary of energies computed elsewhere (frameEnergies at frames `indices`; threshold of the first) */
+export function spectrumOf(indices: readonly number[], energies: number[][], threshold: number): SpectrumCheck {
   const counts = energies.map((e) => e.length);
   const tally = new Map<number, number>();
   for (const c of counts) tally.set(c, (tally.get(c) ?? 0) + 1);

@@ -15,8 +15,9 @@ import { join } from 'node:path';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { UserError } from '../core/errors.ts';
-import { fitInterval, summarise, FLOW_TOLERANCE, type SequenceFit, type SequenceIntervalFit } from '../check/flowfit.ts';
-import { spectrumCheck, type SpectrumCheck } from '../check/spectrum.ts';
+import { summarise, FLOW_TOLERANCE, type SequenceFit } from '../check/flowfit.ts';
+import { fitAll, fitAllSerial } from '../check/parallel.ts';
+import { frameEnergies, frameThreshold, spectrumOf, type SpectrumCheck } from '../check/spectrum.ts';
 import { monotoneTimeMap, type TimeMap } from '../check/timemap.ts';
 import { readSequence, type Sequence, type SequenceUnitsInput } from '../io/external-sequence.ts';
 import { validateVariationalInput } from '../io/check-options.ts';
@@ -25,7 +26,6 @@ import { cubicSchedule, frameRates } from '../check/rates.ts';
 import { toJson } from './design.ts';
 import { variationalFit, type VariationalFit } from '../check/variational.ts';
 import { compareCorrections, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
-import type { Grid } from '../spectral/grid.ts';
 import type { RampKind } from '../protocol/ramp.ts';
 import type { CheckReport, FrameReport, IntervalReport, VariationalReport } from '../io/formats/check.ts';
 export type { CheckReport, FrameReport, IntervalReport, VariationalReport };
@@ -48,9 +48,10 @@ export interface VariationalCheckOptions {
 
 /** default tolerance on the interval residual and on the relative bound-state drift */
 export const DEFAULT_TOLERANCE = 1e-3;
-/** frames up to this count all get their spectrum (each a dense diagonalisation, ~0.03–0.2 s); beyond it an
- * even selection plus every frame of a failing interval */
-export const SPECTRUM_FRAMES_ALL = 201;
+/** frames whose spectrum is always computed (evenly spaced, ends included): each is a dense diagonalisation of
+ * up to 512 points (~0.2–0.5 s), and frames joined by passing flow-fit intervals are isospectral by construction,
+ * so a sample suffices as independent evidence; every frame of a failing interval is added */
+export const SPECTRUM_SAMPLE = 9;
 /** a failing residual within this factor of the frames' sampling floor is blamed on resolution (common practice) */
 const FLOOR_FACTOR = 10;
 /** significant digits of the numbers in messages */
@@ -94,27 +95,19 @@ export function short(v: number, digits = DIGITS): string {
   return String(Number(v.toPrecision(digits)));
 }
 
-/** frames whose bound-state spectrum is computed: all, or an even selection plus every frame of a failing interval */
-function spectrumFrames(fit: SequenceFit, count: number, warnings: string[]): number[] {
-  if (count <= SPECTRUM_FRAMES_ALL) return Array.from({ length: count }, (_, i) => i);
-  const set = new Set<number>();
-  for (let i = 0; i < SPECTRUM_FRAMES_ALL; i++) set.add(Math.round((i * (count - 1)) / (SPECTRUM_FRAMES_ALL - 1)));
-  for (const k of fit.failed) set.add(k).add(k + 1);
-  const indices = [...set].sort((a, b) => a - b);
-  warnings.push(`${count} frames: bound-state spectra computed for ${indices.length} of them (an even selection plus every frame of a failing interval)`);
-  return indices;
+/** the evenly spaced sample of frames whose bound-state spectrum is always computed (all when few) */
+function sampleFrames(count: number): number[] {
+  if (count <= SPECTRUM_SAMPLE) return Array.from({ length: count }, (_, i) => i);
+  return [...new Set(Array.from({ length: SPECTRUM_SAMPLE }, (_, i) => Math.round((i * (count - 1)) / (SPECTRUM_SAMPLE - 1))))];
 }
 
-/** fit every interval (in order) and sum the Δτ (check/flowfit.ts) */
-function fitAll(grid: Grid, frames: readonly Float64Array[], tolerance: number, onProgress?: (done: number, total: number) => void): SequenceFit {
-  const intervals: SequenceIntervalFit[] = [];
-  const total = frames.length - 1;
-  for (let i = 0; i < total; i++) {
-    const f = fitInterval(grid, frames[i], frames[i + 1]);
-    intervals.push({ ...f, index: i, pass: f.residual <= tolerance });
-    onProgress?.(i + 1, total);
-  }
-  return summarise(intervals, tolerance);
+/** the spectrum check on the sample plus every frame of a failing interval, reusing energies already computed */
+function spectrumAlong(seq: Sequence, fit: SequenceFit, known: ReadonlyMap<number, number[]>): SpectrumCheck {
+  const set = new Set(sampleFrames(seq.frames.length));
+  for (const k of fit.failed) set.add(k).add(k + 1);
+  const indices = [...set].sort((a, b) => a - b);
+  const energies = indices.map((k) => known.get(k) ?? frameEnergies(seq.grid, seq.frames[k]));
+  return spectrumOf(indices, energies, frameThreshold(seq.grid, seq.frames[indices[0]]));
 }
 
 /**
@@ -286,18 +279,38 @@ function lambdaMismatch(fit: SequenceFit, lambda: readonly number[] | null): num
   return worst / span;
 }
 
-/**
- * Run the whole check (no files written; see writeCheckOutputs): read → flow fit per interval → spectra →
- * verdicts → time map → repair → optional variational step. Bad input throws a UserError.
- */
-export function runCheck(opts: CheckOptions): CheckResult {
+/** the tolerance and the sequence of a check (UserError for bad input) */
+function readInput(opts: CheckOptions): { seq: Sequence; tolerance: number } {
   const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
   if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
-  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
+  return { seq: readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units }), tolerance };
+}
+
+/**
+ * Run the whole check serially (no files written; see writeCheckOutputs): read → flow fit per interval → spectra
+ * → verdicts → time map → repair → optional variational step. Bad input throws a UserError.
+ */
+export function runCheck(opts: CheckOptions): CheckResult {
+  const { seq, tolerance } = readInput(opts);
+  return judge(seq, fitAllSerial(seq.grid, seq.frames, tolerance, opts.onProgress), new Map(), tolerance, opts);
+}
+
+/**
+ * As runCheck, with the intervals fitted on worker threads (check/parallel-fit.ts: every core when there are
+ * enough intervals, or `workers`); the result is identical to runCheck's.
+ */
+export async function runCheckParallel(opts: CheckOptions & { workers?: number }): Promise<CheckResult> {
+  const { seq, tolerance } = readInput(opts);
+  const work = await fitAll(seq.grid, seq.frames, tolerance, sampleFrames(seq.frames.length), { workers: opts.workers, onProgress: opts.onProgress });
+  return judge(seq, work.fit, work.energies, tolerance, opts);
+}
+
+/** everything after the flow fit: spectra, verdicts, time map, repair, variational step (runCheck's module doc) */
+function judge(seq: Sequence, rawFit: SequenceFit, energies: ReadonlyMap<number, number[]>, tolerance: number, opts: CheckOptions): CheckResult {
   const { grid, frames, system } = seq;
   const warnings = [...seq.warnings];
-  const fit = resolveDegenerate(fitAll(grid, frames, tolerance, opts.onProgress), seq.lambda);
-  const spectrum = spectrumCheck(grid, frames, spectrumFrames(fit, frames.length, warnings));
+  const fit = resolveDegenerate(rawFit, seq.lambda);
+  const spectrum = spectrumAlong(seq, fit, energies);
   const depth = spectrum.levels > 0 ? Math.abs(spectrum.reference[0]) : 0;
   if (spectrum.levels === 0) warnings.push(`no bound state below the box threshold ${short(spectrum.threshold)} E₀ in some frame: isospectrality not tested`);
   const spreadRel = depth > 0 ? spectrum.spread / depth : 0;

@@ -1,7 +1,7 @@
 /** `isotrap check <sequence>`: admissibility of a potential sequence from elsewhere. */
 import { basename, dirname, extname, join } from 'node:path';
 import { UserError } from '../../core/errors.ts';
-import { checkExitCode, runCheck, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
+import { checkExitCode, runCheckParallel, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
 import { toJson } from '../../jobs/design.ts';
 import { isRampKind, RAMP_KINDS } from '../../protocol/ramp.ts';
 import { numberOption, type CommonOptions } from '../options.ts';
@@ -74,7 +74,7 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
 export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
   if (opts.repair !== undefined) throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: the repaired sequence follows each interval's fitted KdV flow and takes no mode`);
   const progress = makeProgress('check', opts.quiet ?? false);
-  const result = runCheck({
+  const result = await runCheckParallel({
     input,
     tolerance: numberOption('tolerance', opts.tolerance),
     sidecar: opts.sidecar,
