@@ -270,7 +270,7 @@ function verdictLines(intervals: IntervalReport[], frames: FrameReport[], fit: S
   return { summary: [...summary, ...failures], failures };
 }
 
-/** max |τ_k − (λ_k − λ_0)| over the span of λ, leaving out degenerate intervals' share (their Δτ is Δλ by construction) */
+/** max |τ_k − (λ_k − λ_0)| over the span of λ (degenerate intervals take Δτ = Δλ, so they add nothing) */
 function lambdaMismatch(fit: SequenceFit, lambda: readonly number[] | null): number | null {
   if (!lambda) return null;
   const span = lambda[lambda.length - 1] - lambda[0];
