@@ -95,6 +95,7 @@ export async function checkCommand(input: string, opts: CheckCliOptions): Promis
   if (opts.json) process.stdout.write(toJson(r, 2) + '\n');
   else {
     process.stdout.write(`isotrap check\n${table(checkRows(r, files))}\n`);
+    for (const note of r.summary.slice(1).filter((line) => !r.failures.includes(line))) process.stdout.write(`  note: ${note}\n`);
     for (const f of r.failures) process.stdout.write(`  fails: ${f}\n`);
     if (r.failures.length > 0) process.stdout.write(`  (per-interval detail in ${files[0]})\n`);
     for (const w of r.warnings) process.stderr.write(`warning: ${w}\n`);
