@@ -58,10 +58,18 @@ describe('output formats: typed readers of the files the tool writes', () => {
     expect(v.states[0].energy).toBeCloseTo(-1, 6);
     expect(v.protocol.ramp).toBe('sin2');
     const c = readCheckFile(join(checkDir, 'check.json'));
+    expect(c.format).toBe('isotrap-check/2');
     expect(c.frames).toHaveLength(5);
-    // one soliton translates at speed 4κ² = 4 (physics.md §4): fitted as a pure translation, ĉ = 4
-    expect(c.fit.c_hat_median).toBeCloseTo(4, 2);
-    expect(c.frames.every((f) => f.degenerate)).toBe(true);
+    expect(c.intervals).toHaveLength(4);
+    expect(c.admissible).toBe(true);
+    // one soliton translates at speed 4κ² = 4 (physics.md §4): only the displacement is fixed by the flow; with
+    // Δτ = Δλ = 0.05 from the sidecar the displacement is 4Δλ and the drift 0
+    for (const it of c.intervals) {
+      expect(it.degenerate?.speed).toBeCloseTo(4, 6);
+      expect(it.degenerate?.displacement).toBeCloseTo(0.2, 6);
+      expect(it.dtau).toBeCloseTo(0.05, 12);
+      expect(Math.abs(it.drift)).toBeLessThan(1e-6);
+    }
   });
 
   it('reads a number written as null (a non-finite value) back as NaN', () => {

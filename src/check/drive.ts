@@ -4,15 +4,13 @@
  * project's propagator (quantum/propagator.ts, ETD4 with the k-diagonal part exact by default) over a ramp λ(s)
  * from the first frame to the last, for the lowest levels of the first frame. Compared side by side:
  *  - the variational correction (check/variational.ts),
- *  - the fitted exact-cubic correction of check/admissibility.ts: (★ₙ) with â, ĉ means A = â k³ + ½{g, k} with
- *    g = (3/2)â u + ĉ (physics.md §2: g = 3amV + c; in natural units 3am·E₀u/ℓ = (3/2)â u, c/ℓ = ĉ;
- *    â = −4 gives −(4k³ + 3{u, k}), physics.md §3),
+ *  - the exact cubic correction of the fitted flow (check/rates.ts),
  *  - no correction.
  * Fidelity: weight in the degenerate eigenspace of the last frame's H (physics.md §5); excess energy
  * ⟨H_f⟩ − E_f; optional thermal ensemble (quantum/observables.ts).
  *
- * Between frames, u is the cubic Hermite interpolant in λ through the frames and their Fornberg λ-derivatives
- * (physics.md §5, dense output; Fornberg, Math. Comp. 51, 699, 1988), so u_λ is continuous; the correction
+ * Between frames, u is the cubic Hermite interpolant in λ through the frames and their rates (given, e.g. from the
+ * flow fit of check/rates.ts, or Fornberg λ-derivatives; physics.md §5, dense output), so u_λ is continuous; the correction
  * coefficients a(λ), θ(λ) are interpolated LINEARLY between the frames where they were fitted (second order in the
  * frame spacing; g(ξ, λ) = Σ θ_c(λ) φ_c(ξ, λ) uses the interpolated u for the u-term), and held constant outside.
  */
@@ -24,7 +22,7 @@ import { SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts'
 import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type ThermalSummary } from '../quantum/observables.ts';
 import { Propagator, type DrivenHamiltonian, type Scheme } from '../quantum/propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
-import { lambdaDerivatives, STENCIL_WIDTH, type FrameFit } from './admissibility.ts';
+import { lambdaDerivatives, STENCIL_WIDTH } from './fornberg.ts';
 import { BLOCK_MARGIN, DEGENERACY_TOL, evaluateG, legendreTable, type VariationalFit } from './variational.ts';
 
 /** default infidelity budget of the time stepping (verify's default) */
@@ -41,16 +39,6 @@ export interface CorrectionSchedule {
 /** the variational correction as a schedule */
 export function variationalSchedule(fit: VariationalFit): CorrectionSchedule {
   return { label: 'variational', lambda: fit.frames.map((f) => f.lambda), a: fit.frames.map((f) => f.a), coefficients: fit.frames.map((f) => [...f.coefficients]) };
-}
-
-/** the fitted exact-cubic correction a = â, g = (3/2)â u + ĉ (module doc) as a schedule with K Legendre slots */
-export function cubicSchedule(fits: readonly FrameFit[], legendre: number): CorrectionSchedule {
-  return {
-    label: 'fitted cubic',
-    lambda: fits.map((f) => f.lambda),
-    a: fits.map((f) => f.aHat),
-    coefficients: fits.map((f) => [1.5 * f.aHat, f.cHat, ...new Array<number>(legendre).fill(0)]),
-  };
 }
 
 /** index i and fraction t of λ in [λ_i, λ_{i+1}] of ascending knots (clamped to the ends) */
@@ -200,6 +188,6 @@ export function compareCorrections(opts: CompareOptions): ComparisonResult {
     ramp: kind, duration: opts.duration, lambdaStart: l0, lambdaEnd: l1,
     states: Array.from({ length: M }, (_, i) => ({ index: i, energyStart: e0.energies[i], energyEnd: e1.energies[i], degeneracyEnd: groupOf(groups, i).length })),
     drives,
-    interpolation: 'u: cubic Hermite in λ through the frames and their Fornberg λ-derivatives; correction coefficients a, θ: linear in λ between the fitted frames',
+    interpolation: `u: cubic Hermite in λ through the frames and their ${opts.rates ? 'given rates' : 'Fornberg λ-derivatives'}; correction coefficients a, θ: linear in λ between the fitted frames`,
   };
 }

@@ -69,8 +69,9 @@ export const SHIFT_MAX_ITERATIONS = 20;
 /** ‖u_{k+1} − u_k‖ below this times ‖u_k‖ counts as static (a few ulps of float64) */
 export const STATIC_RTOL = 1e-14;
 /** sin² of the angle between the KdV rate and u_ξ below this: the flow is a pure translation (one soliton);
- * round-off of the spectral products is ~1e-15, a second soliton of depth 1e-4 gives ~1e-8 */
-export const DEGENERATE_SIN2 = 1e-10;
+ * round-off of the spectral products is ~1e-15, a designed one-soliton sequence (band-limited frames, flow
+ * tolerance 1e-10) measures 1.4e-10, a second soliton of depth 1e-4 gives ~1e-8 */
+export const DEGENERATE_SIN2 = 1e-9;
 /** integrator step budget per extension of the trajectory */
 export const FLOW_MAX_STEPS = 200_000;
 /** the top SAMPLING_BAND fraction of a frame's modes measures its sampling (aliasing) error: for a spectrum that
@@ -519,4 +520,84 @@ export function summarise(intervals: SequenceIntervalFit[], passTolerance: numbe
     staticIntervals: pick((it) => it.static),
     passTolerance,
   };
+}
+
+/** does either frame hold amplitude beyond the flow's 2/3-rule band (then the flow runs on PAD_FACTOR·N points)? */
+function needsPadding(fft: RealFFT, n: number, frames: readonly Float64Array[]): boolean {
+  const spec = new Float64Array(n + 2);
+  return frames.some((u) => {
+    fft.forward(u, spec);
+    return bandTail(spec, n) > PAD_TAIL;
+  });
+}
+
+/** S_s v(ξ) = v(ξ − s) by the Fourier shift theorem (Nyquist mode dropped, as in the misfit) */
+function translate(fft: RealFFT, grid: Grid, v: Float64Array, s: number): Float64Array {
+  const n = grid.n;
+  const spec = new Float64Array(n + 2);
+  fft.forward(v, spec);
+  for (let m = 0; m <= n / 2; m++) {
+    if (m === n / 2) {
+      spec[2 * m] = spec[2 * m + 1] = 0;
+      continue;
+    }
+    const c = Math.cos(grid.kHalf[m] * s), sn = Math.sin(grid.kHalf[m] * s);
+    const re = spec[2 * m] * c + spec[2 * m + 1] * sn;
+    const im = spec[2 * m + 1] * c - spec[2 * m] * sn;
+    spec[2 * m] = re;
+    spec[2 * m + 1] = im;
+  }
+  const out = new Float64Array(n);
+  fft.inverse(spec, out);
+  return out;
+}
+
+/**
+ * The fitted map of one interval applied to u: S_s Φ_Δτ(u) (module comment), on the PAD_FACTOR·N grid when u or
+ * the interval's target frame reaches beyond the flow's band (as the fit decides), returned on the frames' grid.
+ * Returns the accepted flow steps with the frame.
+ */
+export function applyIntervalMap(grid: Grid, u: Float64Array, target: Float64Array, dtau: number, shift: number, tolerance = FLOW_TOLERANCE): { frame: Float64Array; steps: number } {
+  if (!(dtau >= 0)) throw new RangeError(`applyIntervalMap: Δτ must be ≥ 0, got ${dtau}`);
+  const fft = new RealFFT(grid.n);
+  const pad = needsPadding(fft, grid.n, [u, target]);
+  const work = pad ? makeGrid(grid.length, PAD_FACTOR * grid.n) : grid;
+  const workFft = pad ? new RealFFT(work.n) : fft;
+  let v = pad ? resample(u, work.n) : Float64Array.from(u);
+  let steps = 0;
+  if (dtau > 0) {
+    const run = integrateFlow(work, naturalFlowEquation('quantum'), v, { tolerance, frames: [dtau], maxSteps: FLOW_MAX_STEPS, detectBreaking: false });
+    steps = run.stats.accepted;
+    v = run.frames[run.frames.length - 1];
+  }
+  if (shift !== 0) v = translate(workFft, work, v, shift);
+  return { frame: pad ? resample(v, grid.n) : v, steps };
+}
+
+/**
+ * The rate of the fitted flow at a frame, u_τ = 6uu_ξ − u_ξξξ − c u_ξ (natural units, physics.md §3), with the
+ * product formed on PAD_FACTOR·N points (exact for a band-limited u) and projected back onto the frame's grid.
+ */
+export function flowRate(grid: Grid, u: Float64Array, drift: number): Float64Array {
+  const fine = makeGrid(grid.length, PAD_FACTOR * grid.n);
+  const v = resample(u, fine.n);
+  const fft = new RealFFT(fine.n);
+  const spec = new Float64Array(fine.n + 2);
+  const slope = new Float64Array(fine.n + 2);
+  const cube = new Float64Array(fine.n + 2);
+  fft.forward(v, spec);
+  for (let m = 0; m < fine.n / 2; m++) {
+    const k = fine.kHalf[m];
+    slope[2 * m] = -k * spec[2 * m + 1];
+    slope[2 * m + 1] = k * spec[2 * m];
+    cube[2 * m] = k ** 3 * spec[2 * m + 1];
+    cube[2 * m + 1] = -(k ** 3) * spec[2 * m];
+  }
+  const ux = new Float64Array(fine.n);
+  const uxxx = new Float64Array(fine.n);
+  fft.inverse(slope, ux);
+  fft.inverse(cube, uxxx);
+  const r = new Float64Array(fine.n);
+  for (let j = 0; j < fine.n; j++) r[j] = 6 * v[j] * ux[j] - uxxx[j] - drift * ux[j];
+  return resample(r, grid.n);
 }

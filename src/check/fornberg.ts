@@ -1,8 +1,13 @@
+/** frames in the λ-stencil: fourth order on uniform frames, while five frames still fit short sequences */
+export const STENCIL_WIDTH = 5;
+
 /**
  * Finite-difference weights on arbitrary (non-uniform) nodes: B. Fornberg, "Generation of finite difference
  * formulas on arbitrarily spaced grids", Math. Comp. 51, 699–706 (1988), the recursion of its §3 (in the
  * compact form of Fornberg, SIAM Rev. 40, 685, 1998). For nodes x_0 … x_{n−1} and evaluation point z,
  * f^{(d)}(z) ≈ Σ_i w[d][i] f(x_i) for every d ≤ maxOrder, exact for polynomials of degree < n.
+ * Used for u_λ where no flow fit supplies the rate (frames of failing intervals, check/rates.ts) and for the
+ * Hermite interpolant of check/drive.ts.
  */
 export function fornbergWeights(z: number, nodes: readonly number[], maxOrder: number): number[][] {
   const n = nodes.length;
@@ -40,4 +45,25 @@ export function stencilFor(k: number, count: number, width: number): { start: nu
   let start = k - Math.floor(w / 2);
   start = Math.max(0, Math.min(start, count - w));
   return { start, end: start + w };
+}
+
+/** u_λ at every frame from `width`-point Fornberg stencils (pure: frames in, new arrays out) */
+export function lambdaDerivatives(lambda: readonly number[], frames: readonly Float64Array[], width: number): { rates: Float64Array[]; stencils: [number, number][] } {
+  const count = frames.length;
+  const n = frames[0].length;
+  const rates: Float64Array[] = [];
+  const stencils: [number, number][] = [];
+  for (let k = 0; k < count; k++) {
+    const { start, end } = stencilFor(k, count, width);
+    const w = fornbergWeights(lambda[k], lambda.slice(start, end), 1)[1];
+    const r = new Float64Array(n);
+    for (let i = start; i < end; i++) {
+      const wi = w[i - start];
+      const f = frames[i];
+      for (let j = 0; j < n; j++) r[j] += wi * f[j];
+    }
+    rates.push(r);
+    stencils.push([start, end]);
+  }
+  return { rates, stencils };
 }

@@ -38,7 +38,7 @@ import { Matrix, QrDecomposition } from 'ml-matrix';
 import type { Grid } from '../spectral/grid.ts';
 import { RealGridOperators } from '../spectral/real-operators.ts';
 import { groupDegenerate, lowestEigenpairs, type EigenMethod } from '../quantum/eigen.ts';
-import { lambdaDerivatives, STENCIL_WIDTH } from './admissibility.ts';
+import { lambdaDerivatives, STENCIL_WIDTH } from './fornberg.ts';
 import { boxThreshold } from '../quantum/bound.ts';
 
 /** Legendre terms P₁ … P_K in the basis of g (plus u and 1: "a few dozen terms") */
@@ -328,7 +328,7 @@ export function fitGaugePotential(grid: Grid, u: Float64Array, uLambda: Float64A
   };
 }
 
-/** number of bound levels (E < −(2π/L)², the box threshold of check/admissibility.ts) among the lowest few */
+/** number of bound levels (E < −(2π/L)², the box threshold of quantum/bound.ts) among the lowest few */
 function boundCount(grid: Grid, u: Float64Array, method?: EigenMethod): number {
   const eb = boxThreshold(grid.length);
   let count = Math.min(grid.n, 16);

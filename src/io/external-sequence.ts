@@ -4,12 +4,13 @@
  *
  * Accepted inputs
  *  - `.npy` of shape [frames, points] (float64 or the other dtypes decodeNpy reads), energies in the sequence's
- *    energy unit, with a sidecar giving `x` (points values, length unit) and `lambda` (frames values) plus
- *    the units. Sidecar search, first hit wins: the `sidecar` option; `<stem>.json`, `<stem>.yaml`,
+ *    energy unit, with a sidecar giving `x` (points values, length unit) and the frame labels: `lambda`
+ *    (KdV time τ in the natural units of ℓ, physics.md §3, as `isotrap design` writes it) and/or `time` (lab
+ *    time in the sequence's time unit: ms in lab units, t₀ in natural ones), plus the units. Sidecar search, first hit wins: the `sidecar` option; `<stem>.json`, `<stem>.yaml`,
  *    `<stem>.yml` next to the file; `sequence.json` in the same folder (what `isotrap design` writes).
  *  - `.csv`: x in the first column, then one column per frame. The first row must be a header: any label for
  *    the x column (a unit in parentheses, e.g. `x (µm)`, is read as the length unit), then each frame's λ as
- *    `lambda=0.05`, `λ=0.05` or `0.05`. Units come from the same sidecar search (its `x`/`lambda`, if
+ *    `lambda=0.05`, `λ=0.05` or `0.05`, or its lab time as `time=1.5` or `t=1.5`. Units come from the same sidecar search (its `x`/`lambda`, if
  *    present, must agree with the CSV) and/or from the `units` option.
  *
  * Units (sidecar keys, or the `units` option, which wins over the sidecar):
@@ -20,8 +21,10 @@
  *    length_unit_um lab only: the natural length unit ℓ in µm used inside the check (default 1)
  * A natural sequence needs ℓ with E₀; a lab one needs µm with h·kHz or µK and a mass.
  *
- * x must be strictly increasing, uniform (x_j = x_0 + j·dx to X_UNIFORM_RTOL·dx) and have a power-of-two
- * number of points: it is one period x_0 … x_0 + L − dx of the periodic box of length L = N·dx.
+ * x must be strictly increasing and uniform (x_j = x_0 + j·dx to X_UNIFORM_RTOL·dx): it is one period
+ * x_0 … x_0 + L − dx of the periodic box of length L = n·dx. Any count n works: when n is not a power of two the
+ * frames are interpolated spectrally (band-limited, spectral/resample-any.ts) onto the next power of two of the
+ * same box, and a warning says so.
  */
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { basename, dirname, extname, join } from 'node:path';
@@ -33,14 +36,17 @@ import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
 import { makeUnitSystem, type UnitSystem } from '../units/scales.ts';
 import { SPECIES, SPECIES_NAMES, isSpeciesName } from '../units/species.ts';
 import { isPowerOfTwo, makeGrid, type Grid } from '../spectral/grid.ts';
+import { nextPowerOfTwo, resampleToPowerOfTwo } from '../spectral/resample-any.ts';
 
-/** fewest frames: the λ-derivative needs at least a three-point stencil */
-export const MIN_FRAMES = 3;
+/** fewest frames: one interval for the flow fit */
+export const MIN_FRAMES = 2;
 /** fewest grid points: below this no well is resolved by a Fourier grid (common practice) */
 export const MIN_POINTS = 16;
 /** x may deviate from x_0 + j·dx by this fraction of dx: admits x printed with ~7 significant digits, far
  * below any genuinely non-uniform sampling */
 export const X_UNIFORM_RTOL = 1e-6;
+/** a last sample equal to the first to this fraction of the frame's peak marks a repeated period end point (round-off of printed values) */
+const PERIOD_REPEAT_RTOL = 1e-12;
 /** sidecar x / λ must agree with the CSV's to this relative tolerance (printed values, common practice) */
 const SIDECAR_MATCH_RTOL = 1e-9;
 /** species mass and mass_u in one sidecar must agree to this (AME2020 tabulation precision, 1e-9 u) */
@@ -83,10 +89,12 @@ export interface Sequence {
   readonly format: 'npy' | 'csv';
   readonly units: SequenceUnits;
   readonly system: UnitSystem;
-  /** positions in the user's length unit, as read */
+  /** positions in the user's length unit, as read (grid.n may be larger: frames resampled onto a power of two) */
   readonly xUser: Float64Array;
-  /** λ of each frame (dimensionless), strictly increasing */
-  readonly lambda: number[];
+  /** λ (KdV time τ in the natural units of ℓ) of each frame, strictly increasing; null when only `time` is given */
+  readonly lambda: number[] | null;
+  /** lab time of each frame in the sequence's time unit (ms or t₀), strictly increasing; null when not given */
+  readonly time: number[] | null;
   /** natural-units grid of the periodic box (length N·dx/ℓ); grid.x is shifted from ξ by `offset` */
   readonly grid: Grid;
   /** ξ_0 − grid.x[0]: the box's true origin in ℓ (spectral operators do not depend on it) */
@@ -205,6 +213,7 @@ interface Sidecar {
   path: string;
   x: Float64Array | null;
   lambda: number[] | null;
+  time: number[] | null;
   units: SequenceUnitsInput;
 }
 
@@ -263,6 +272,7 @@ function readSidecar(path: string): Sidecar {
     path,
     x: d.x === undefined ? null : numberArray(d.x, 'x', path),
     lambda: d.lambda === undefined ? null : Array.from(numberArray(d.lambda, 'lambda', path)),
+    time: d.time === undefined ? null : Array.from(numberArray(d.time, 'time', path)),
     units: {
       length_unit: optionalString(d.length_unit, 'length_unit', path),
       energy_unit: optionalString(d.energy_unit, 'energy_unit', path),
@@ -276,8 +286,8 @@ function readSidecar(path: string): Sidecar {
 // --------------------------------------------------------------------------------------------- checks
 
 /**
- * x strictly increasing, uniform, power-of-two count: returns x_0 and dx (dx from the end points, so printed
- * round-off does not accumulate). `rowName(j)` names sample j in messages.
+ * x strictly increasing and uniform: returns x_0 and dx (dx from the end points, so printed round-off does not
+ * accumulate). `rowName(j)` names sample j in messages.
  */
 export function checkPeriodicX(x: Float64Array, file: string, rowName: (j: number) => string): { x0: number; dx: number } {
   const n = x.length;
@@ -296,23 +306,18 @@ export function checkPeriodicX(x: Float64Array, file: string, rowName: (j: numbe
       );
     }
   }
-  if (!isPowerOfTwo(n)) {
-    const dup = isPowerOfTwo(n - 1)
-      ? `; ${n - 1} is one: if the last point repeats the first point of the period (x₀ + L), drop it`
-      : '';
-    throw new UserError(`${file}: x has ${n} points: the periodic Fourier grid needs a power of two (…, 256, 512, 1024, …)${dup}`);
-  }
   return { x0, dx };
 }
 
-function checkLambda(lambda: readonly number[], file: string, name: (k: number) => string): void {
-  if (lambda.length < MIN_FRAMES) {
-    throw new UserError(`${file}: has ${lambda.length} frame${lambda.length === 1 ? '' : 's'}, at least ${MIN_FRAMES} are needed for the λ-derivative`);
+/** frame labels (λ or lab time, `symbol` in messages) must be finite and strictly increasing */
+function checkLabels(labels: readonly number[], symbol: string, file: string, name: (k: number) => string): void {
+  if (labels.length < MIN_FRAMES) {
+    throw new UserError(`${file}: has ${labels.length} frame${labels.length === 1 ? '' : 's'}, at least ${MIN_FRAMES} are needed for one interval of the flow fit`);
   }
-  for (let k = 0; k < lambda.length; k++) {
-    if (!Number.isFinite(lambda[k])) throw new UserError(`${file}: ${name(k)} has λ = ${lambda[k]}: must be a finite number`);
-    if (k > 0 && !(lambda[k] > lambda[k - 1])) {
-      throw new UserError(`${file}: λ must increase strictly from frame to frame: ${name(k)} has λ = ${lambda[k]} after ${lambda[k - 1]}`);
+  for (let k = 0; k < labels.length; k++) {
+    if (!Number.isFinite(labels[k])) throw new UserError(`${file}: ${name(k)} has ${symbol} = ${labels[k]}: must be a finite number`);
+    if (k > 0 && !(labels[k] > labels[k - 1])) {
+      throw new UserError(`${file}: ${symbol} must increase strictly from frame to frame: ${name(k)} has ${symbol} = ${labels[k]} after ${labels[k - 1]}`);
     }
   }
 }
@@ -324,8 +329,8 @@ function matches(a: ArrayLike<number>, b: ArrayLike<number>, rtol: number): numb
   return -1;
 }
 
-/** λ from a CSV header cell: `lambda=0.05`, `λ=0.05`, `lambda = 0.05` or a bare number */
-const LAMBDA_HEADER_RE = /^(?:(?:lambda|λ)\s*=\s*)?([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)$/i;
+/** a frame label from a CSV header cell: `lambda=0.05`, `λ=0.05`, `lambda = 0.05`, `time=1.5`, `t=1.5` or a bare number (λ) */
+const LABEL_HEADER_RE = /^(?:(lambda|λ|time|t)\s*=\s*)?([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)$/i;
 /** unit in parentheses or brackets in the x header, e.g. `x (µm)`, `x [um]` */
 const X_UNIT_RE = /[([]\s*([^)\]]+?)\s*[)\]]/;
 
@@ -334,7 +339,8 @@ const X_UNIT_RE = /[([]\s*([^)\]]+?)\s*[)\]]/;
 /** what a .npy or .csv file gives before units are applied */
 interface RawSequence {
   xUser: Float64Array;
-  lambda: number[];
+  lambda: number[] | null;
+  time: number[] | null;
   values: Float64Array[];
   /** names sample j of x in messages */
   rowName: (j: number) => string;
@@ -354,14 +360,18 @@ function readNpySequence(file: string, ext: string, sidecar: Sidecar | null): Ra
     throw new UserError(`${file}: no sidecar found (looked for ${basename(file, ext)}.json/.yaml/.yml and sequence.json next to it): a .npy sequence needs x, lambda and units from a sidecar`);
   }
   if (!sidecar.x) throw new UserError(`${sidecar.path}: key x (the ${nP} positions, length unit) is missing`);
-  if (!sidecar.lambda) throw new UserError(`${sidecar.path}: key lambda (the ${nF} frame λ values) is missing`);
+  if (!sidecar.lambda && !sidecar.time) throw new UserError(`${sidecar.path}: the frame labels are missing: give lambda (the ${nF} frame λ values, KdV time in the natural units of ℓ) or time (the ${nF} lab times)`);
   if (sidecar.x.length !== nP) throw new UserError(`${sidecar.path}: x has ${sidecar.x.length} values but ${file} has ${nP} points per frame (shape [${nF}, ${nP}])`);
-  if (sidecar.lambda.length !== nF) throw new UserError(`${sidecar.path}: lambda has ${sidecar.lambda.length} values but ${file} has ${nF} frames (shape [${nF}, ${nP}])`);
-  const lambda = sidecar.lambda;
-  checkLambda(lambda, file, (k) => `frame ${k} (row ${k} of the array, counted from 0)`);
+  const rowName = (k: number) => `frame ${k} (row ${k} of the array, counted from 0)`;
+  for (const [key, labels, symbol] of [['lambda', sidecar.lambda, 'λ'], ['time', sidecar.time, 'time']] as const) {
+    if (!labels) continue;
+    if (labels.length !== nF) throw new UserError(`${sidecar.path}: ${key} has ${labels.length} values but ${file} has ${nF} frames (shape [${nF}, ${nP}])`);
+    checkLabels(labels, symbol, file, rowName);
+  }
   return {
     xUser: sidecar.x,
-    lambda,
+    lambda: sidecar.lambda,
+    time: sidecar.time,
     values: Array.from({ length: nF }, (_, k) => arr.data.slice(k * nP, (k + 1) * nP)),
     rowName: (j) => `${sidecar.path} x[${j}]`,
   };
@@ -374,10 +384,12 @@ function checkSidecarAgrees(file: string, sidecar: Sidecar | null, raw: RawSeque
     const bad = matches(raw.xUser, sidecar.x, SIDECAR_MATCH_RTOL);
     if (bad >= 0) throw new UserError(`${file}: ${raw.rowName(bad)} has x = ${raw.xUser[bad]} but ${sidecar.path} has x[${bad}] = ${sidecar.x[bad]}`);
   }
-  if (sidecar?.lambda) {
-    if (sidecar.lambda.length !== raw.lambda.length) throw new UserError(`${sidecar.path}: lambda has ${sidecar.lambda.length} values but ${file} has ${raw.lambda.length} frame columns`);
-    const bad = matches(raw.lambda, sidecar.lambda, SIDECAR_MATCH_RTOL);
-    if (bad >= 0) throw new UserError(`${file}: column ${bad + 2} has λ = ${raw.lambda[bad]} but ${sidecar.path} has lambda[${bad}] = ${sidecar.lambda[bad]}`);
+  for (const [key, own, side, symbol] of [['lambda', raw.lambda, sidecar?.lambda, 'λ'], ['time', raw.time, sidecar?.time, 'time']] as const) {
+    if (!side || !sidecar) continue;
+    if (side.length !== raw.values.length) throw new UserError(`${sidecar.path}: ${key} has ${side.length} values but ${file} has ${raw.values.length} frame columns`);
+    if (!own) continue;
+    const bad = matches(own, side, SIDECAR_MATCH_RTOL);
+    if (bad >= 0) throw new UserError(`${file}: column ${bad + 2} has ${symbol} = ${own[bad]} but ${sidecar.path} has ${key}[${bad}] = ${side[bad]}`);
   }
 }
 
@@ -390,19 +402,30 @@ function readCsvSequence(file: string, sidecar: Sidecar | null): RawSequence {
   }
   const width = csv.columns.length;
   if (width < 1 + MIN_FRAMES) {
-    throw new UserError(`${file}: has ${width - 1} frame column${width === 2 ? '' : 's'}, at least ${MIN_FRAMES} are needed for the λ-derivative (x in column 1, one column per frame)`);
+    throw new UserError(`${file}: has ${width - 1} frame column${width === 2 ? '' : 's'}, at least ${MIN_FRAMES} are needed for one interval of the flow fit (x in column 1, one column per frame)`);
   }
-  const lambda: number[] = [];
+  const labels: number[] = [];
+  const kinds = new Set<'lambda' | 'time'>();
   for (let c = 1; c < width; c++) {
     const cell = header[c];
-    const m = LAMBDA_HEADER_RE.exec(cell.trim());
-    if (!m) throw new UserError(`${file}: column ${c + 1} header ${JSON.stringify(cell)} is not a λ value: write "lambda=0.05", "λ=0.05" or "0.05"`);
-    lambda.push(Number(m[1]));
+    const m = LABEL_HEADER_RE.exec(cell.trim());
+    if (!m) throw new UserError(`${file}: column ${c + 1} header ${JSON.stringify(cell)} is not a frame label: write "lambda=0.05", "λ=0.05", "0.05" (λ) or "time=1.5", "t=1.5" (lab time)`);
+    kinds.add(m[1] !== undefined && /^t/i.test(m[1]) ? 'time' : 'lambda');
+    labels.push(Number(m[2]));
   }
+  if (kinds.size > 1) throw new UserError(`${file}: the frame headers mix λ and lab time: label every frame column the same way`);
+  const byTime = kinds.has('time') || (sidecar?.time !== null && sidecar?.time !== undefined && !sidecar.lambda && header.slice(1).every((h) => !/=/.test(h)));
   const unit = X_UNIT_RE.exec(header[0]);
   const headerLength = unit ? LENGTH_SPELLINGS[normaliseMicro(unit[1])] : undefined;
-  const raw: RawSequence = { xUser: csv.columns[0], lambda, values: csv.columns.slice(1), rowName: (j) => `row ${csv.lines[j]}`, headerLength };
-  checkLambda(lambda, file, (k) => `column ${k + 2} (header ${JSON.stringify(header[k + 1])})`);
+  const raw: RawSequence = {
+    xUser: csv.columns[0],
+    lambda: byTime ? sidecar?.lambda ?? null : labels,
+    time: byTime ? labels : sidecar?.time ?? null,
+    values: csv.columns.slice(1),
+    rowName: (j) => `row ${csv.lines[j]}`,
+    headerLength,
+  };
+  checkLabels(labels, byTime ? 'time' : 'λ', file, (k) => `column ${k + 2} (header ${JSON.stringify(header[k + 1])})`);
   checkSidecarAgrees(file, sidecar, raw);
   return raw;
 }
@@ -430,15 +453,23 @@ export function readSequence(file: string, opts: ReadSequenceOptions = {}): Sequ
   }
   const units = resolveUnits(fromSidecar, opts.units ?? {}, where);
   const system = unitSystemOfSequence(units);
-  const { xUser, lambda } = raw;
+  const { xUser, lambda, time } = raw;
   const { x0, dx } = checkPeriodicX(xUser, file, raw.rowName);
   const n = xUser.length;
-  const grid = makeGrid(system.lengthToNatural(n * dx), n);
+  const warnings: string[] = [];
+  if (!isPowerOfTwo(n)) {
+    if (isPowerOfTwo(n - 1) && raw.values.every((col) => Math.abs(col[0] - col[n - 1]) <= PERIOD_REPEAT_RTOL * Math.max(...Array.from(col, Math.abs)))) {
+      throw new UserError(`${file}: x has ${n} points and every frame ends on its first value: if the last point repeats the first point of the period (x₀ + L), drop it`);
+    }
+    warnings.push(`x has ${n} points: the frames were interpolated spectrally (band-limited, periodic box of length ${n}·dx) onto ${nextPowerOfTwo(n)} points for the flow`);
+  }
+  const points = isPowerOfTwo(n) ? n : nextPowerOfTwo(n);
+  const grid = makeGrid(system.lengthToNatural(n * dx), points);
   const offset = system.lengthToNatural(x0) - grid.x[0];
   const frames = raw.values.map((col) => {
     const u = new Float64Array(n);
     for (let j = 0; j < n; j++) u[j] = system.energyToNatural(col[j]);
-    return u;
+    return points === n ? u : resampleToPowerOfTwo(u, points);
   });
-  return { file, sidecar: sidecar?.path ?? null, format: ext === '.npy' ? 'npy' : 'csv', units, system, xUser, lambda, grid, offset, frames, warnings: [] };
+  return { file, sidecar: sidecar?.path ?? null, format: ext === '.npy' ? 'npy' : 'csv', units, system, xUser, lambda, time, grid, offset, frames, warnings };
 }

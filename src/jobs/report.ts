@@ -1,19 +1,24 @@
 /**
  * Figures and the HTML report of a finished output folder, rendered from its files only (sequence.json,
- * potential.npy and, when present, verify.json and traces.npy), so `isotrap report DIR` never recomputes.
+ * potential.npy and, when present, verify.json and traces.npy; or, for a check folder, check.json, input.npy and
+ * repaired.npy), so `isotrap report DIR` never recomputes.
  * Files are read through the validated readers of io/formats; the figures come from report/panels.
  */
 import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { stringify } from 'yaml';
+import type { SummaryRow } from '../io/formats/read.ts';
+import { readCheckFile } from '../io/formats/check.ts';
 import { readNpyFile } from '../io/formats/read.ts';
 import { readSequenceFile, type SequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile, type VerifyFile } from '../io/formats/verify.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { toJson } from './design.ts';
 import { renderReport, type ReportFigure } from '../report/index.ts';
 import { designFigures, designSummaryRows, labTimeMap, type FrameArray } from '../report/panels/design.ts';
 import { latticeFigures } from '../report/panels/lattice.ts';
+import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
 import type { LatticeResult } from './lattice.ts';
 
@@ -80,31 +85,54 @@ function recordedSeconds(f: OutputFolder): number {
   return Number.isFinite(total) && total >= 0 ? total : 0;
 }
 
-function folderHtml(f: OutputFolder, figures: ReportFigure[], opts: ReportOptions): string {
-  const configText = stringify(f.seq.config);
+/** the page around the figures, with provenance hashed from the configuration text shown */
+function pageHtml(title: string, summaryRows: SummaryRow[], figures: ReportFigure[], configText: string, runSeconds: number, warnings: string[], opts: ReportOptions): string {
   return renderReport({
-    title: `isotrap report: ${f.seq.summary.name}`,
-    summaryRows: [...designSummaryRows(f.seq), ...(f.verify?.summary_rows ?? [])],
+    title,
+    summaryRows,
     figures,
     configText,
     provenance: {
       toolVersion: opts.toolVersion,
       configHash: createHash('sha256').update(configText).digest('hex').slice(0, 16),
       date: new Date().toISOString(),
-      runSeconds: opts.runSeconds ?? recordedSeconds(f),
+      runSeconds,
     },
-    warnings: [...f.seq.summary.warnings, ...(f.verify?.warnings ?? [])],
+    warnings,
   });
 }
 
-/** Render all figures of an output folder into DIR/*.svg and DIR/report.html; returns the files written. */
+function folderHtml(f: OutputFolder, figures: ReportFigure[], opts: ReportOptions): string {
+  const summary = [...designSummaryRows(f.seq), ...(f.verify?.summary_rows ?? [])];
+  const warnings = [...f.seq.summary.warnings, ...(f.verify?.warnings ?? [])];
+  return pageHtml(`isotrap report: ${f.seq.summary.name}`, summary, figures, stringify(f.seq.config), opts.runSeconds ?? recordedSeconds(f), warnings, opts);
+}
+
+/** the figures and page of a check folder (check.json, input.npy, repaired.npy) */
+function checkFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[]; html: string } {
+  const r = readCheckFile(join(dir, 'check.json'));
+  const figures = checkFigures(r, readNpyFile(join(dir, 'input.npy')), readNpyFile(join(dir, 'repaired.npy')));
+  const configText = toJson({ input: r.input, sidecar: r.sidecar, tolerance: r.tolerance, units: r.units }, 2);
+  return { figures, html: pageHtml(`isotrap check: ${r.input}`, checkSummaryRows(r), figures, configText, opts.runSeconds ?? 0, r.warnings, opts) };
+}
+
+/** Render all figures of an output folder (design/verify or check) into DIR/*.svg and DIR/report.html; returns the files written. */
 export function renderFolder(dir: string, opts: ReportOptions): string[] {
-  const folder = readFolder(dir);
-  const figures = folderFigures(folder);
+  let figures: ReportFigure[];
+  let html: () => string;
+  if (!existsSync(join(dir, 'sequence.json')) && existsSync(join(dir, 'check.json'))) {
+    const c = checkFolder(dir, opts);
+    figures = c.figures;
+    html = () => c.html;
+  } else {
+    const folder = readFolder(dir);
+    figures = folderFigures(folder);
+    html = () => folderHtml(folder, figures, opts);
+  }
   prepareOutputDir(dir, { force: opts.force, produces: [...figures.map((f) => `${f.id}.svg`), 'report.html'] });
   const written = writeSvgs(figures, dir);
   const hp = join(dir, 'report.html');
-  writeFileAtomic(hp, folderHtml(folder, figures, opts));
+  writeFileAtomic(hp, html());
   written.push(hp);
   return written;
 }

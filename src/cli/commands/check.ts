@@ -1,16 +1,18 @@
 /** `isotrap check <sequence>`: admissibility of a potential sequence from elsewhere. */
 import { basename, dirname, extname, join } from 'node:path';
 import { UserError } from '../../core/errors.ts';
-import { checkExitCode, runCheck, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
+import { checkExitCode, runCheckParallel, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
 import { toJson } from '../../jobs/design.ts';
 import { isRampKind, RAMP_KINDS } from '../../protocol/ramp.ts';
 import { numberOption, type CommonOptions } from '../options.ts';
 import { num, table } from '../table.ts';
+import { makeProgress } from '../progress.ts';
 
 export interface CheckCliOptions extends CommonOptions {
   tolerance?: string;
   sidecar?: string;
-  repair?: 'median' | 'piecewise';
+  /** declared by the command line; the repaired sequence has one form, so any value is refused */
+  repair?: string;
   lengthUnit?: string;
   energyUnit?: string;
   species?: string;
@@ -51,14 +53,17 @@ function variationalOptions(opts: CheckCliOptions) {
 }
 
 function checkRows(r: CheckReport, files: string[]): [string, string][] {
+  const passing = r.intervals.filter((it) => it.pass).length;
+  const tauEnd = r.frames[r.frames.length - 1].tau;
   return [
     ['input', `${r.input}${r.sidecar ? ` (units from ${r.sidecar})` : ''}`],
-    ['verdict', r.admissible ? `admissible (tolerance ${r.tolerance})` : `NOT admissible (tolerance ${r.tolerance})`],
-    ['frames', `${r.frames.length}, ${r.frames.filter((f) => f.admissible).length} pass`],
-    ['fitted a (median)', `${num(r.fit.a_median)} ${r.units.a}`],
-    ['fitted c (median)', `${num(r.fit.c_median)} ${r.units.c}`],
+    ['verdict', r.summary[0]],
+    ['intervals', `${r.intervals.length}, ${passing} pass the KdV flow fit (max residual ${num(r.fit.max_residual, 3)})`],
+    ['fitted τ', `0 … ${num(tauEnd, 4)} (${r.units.tau})`],
+    ...(r.time_map ? [['time map', `τ(t) at ${r.time_map.time.length} lab times, peak dτ/dt ${num(Math.max(...r.time_map.rate), 3)} per ${r.units.time}`] as [string, string]] : []),
     ['bound-state drift', `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
     ['repaired sequence', `max distance ${num(r.repaired.max_distance, 3)} ${r.units.energy}, relative L² ${num(r.repaired.relative_l2, 3)}`],
+    ...(r.grid.resampled ? [['grid', `${r.grid.input_points} input points resampled spectrally onto ${r.grid.points}`] as [string, string]] : []),
     ...(r.variational
       ? r.variational.comparison.drives.map((d): [string, string] => [`drive: ${d.label}`, `worst fidelity ${num(d.min_fidelity, 8)} over ${d.fidelity.length} states (ramp ${r.variational!.comparison.ramp}, ${r.variational!.comparison.duration})`])
       : []),
@@ -67,14 +72,12 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
 }
 
 export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
-  if (opts.repair !== undefined && opts.repair !== 'median' && opts.repair !== 'piecewise') {
-    throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: must be median or piecewise`);
-  }
-  const result = runCheck({
+  if (opts.repair !== undefined) throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: the repaired sequence follows each interval's fitted KdV flow and takes no mode`);
+  const progress = makeProgress('check', opts.quiet ?? false);
+  const result = await runCheckParallel({
     input,
     tolerance: numberOption('tolerance', opts.tolerance),
     sidecar: opts.sidecar,
-    repair: opts.repair,
     units: {
       length_unit: opts.lengthUnit,
       energy_unit: opts.energyUnit,
@@ -83,14 +86,18 @@ export async function checkCommand(input: string, opts: CheckCliOptions): Promis
       length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
     },
     variational: variationalOptions(opts),
+    onProgress: (done, total) => progress.update(done / total),
   });
+  progress.stop();
   const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
   const files = writeCheckOutputs(result, dir, opts.force ?? false);
   const r = result.report;
   if (opts.json) process.stdout.write(toJson(r, 2) + '\n');
   else {
     process.stdout.write(`isotrap check\n${table(checkRows(r, files))}\n`);
+    for (const note of r.summary.slice(1).filter((line) => !r.failures.includes(line))) process.stdout.write(`  note: ${note}\n`);
     for (const f of r.failures) process.stdout.write(`  fails: ${f}\n`);
+    if (r.failures.length > 0) process.stdout.write(`  (per-interval detail in ${files[0]})\n`);
     for (const w of r.warnings) process.stderr.write(`warning: ${w}\n`);
   }
   return checkExitCode(result);

@@ -1,13 +1,13 @@
 /**
- * check.json, written by `isotrap check` (jobs/check.ts): per-frame fit of the admissibility equation (★) to an
- * external sequence, the bound-state spectrum along it, the repaired sequence and, on request, the variational
- * correction with its side-by-side comparison. Units as named in `units`.
+ * check.json, written by `isotrap check` (jobs/check.ts): per interval the KdV flow fit (Δτ, drift, residual,
+ * verdict; physics.md §9), per frame the fitted τ and the bound-state spectrum (isospectrality), the time map when
+ * frames carry lab times, the repaired sequence and, on request, the variational correction with its side-by-side
+ * comparison. Units as named in `units`.
  */
 import { z } from 'zod';
-import type { RepairMode } from '../../check/repair.ts';
 import { num, numOrNull, nums, readFormat, str, strOrNull } from './read.ts';
 
-export const CHECK_FORMAT = 'isotrap-check/1';
+export const CHECK_FORMAT = 'isotrap-check/2';
 
 export interface VariationalReport {
   method: string;
@@ -24,58 +24,76 @@ export interface VariationalReport {
   };
 }
 
+export interface IntervalReport {
+  /** the interval joins frames index and index + 1 */
+  index: number;
+  /** fitted KdV time step Δτ ≥ 0 (natural units of ℓ, see units.tau) */
+  dtau: number;
+  /** fitted drift c, length unit per unit τ */
+  drift: number;
+  /** translation applied after the flow, length unit */
+  shift: number;
+  /** ‖S_s Φ_Δτ(u_k) − u_{k+1}‖ / ‖u_{k+1} − u_k‖ */
+  residual: number;
+  /** the frames' own sampling error on the same scale as the residual */
+  sampling_floor: number;
+  pass: boolean;
+  static: boolean;
+  /** one-soliton-like frames: only the displacement (speed + c)Δτ is determined */
+  degenerate: { speed: number; displacement: number } | null;
+  /** the best Δτ sat at the search limit */
+  at_limit: boolean;
+}
+
 export interface FrameReport {
   index: number;
-  lambda: number;
-  residual: number;
-  /** fitted a as a p³ coefficient: µm³/ħ² (lab) or ℓ³/ħ² (natural) */
-  a: number;
-  /** a in SI, s²/(kg²·m); null in natural units */
-  a_si: number | null;
-  /** c, length unit per unit λ */
-  c: number;
-  a_hat: number;
-  c_hat: number;
-  admissible: boolean;
+  /** the frame's λ from the input, or null (frames labelled by time only) */
+  lambda: number | null;
+  /** lab time from the input (time unit), or null */
+  time: number | null;
+  /** fitted τ_k = Σ_{i<k} Δτ_i */
+  tau: number;
   /** max |E_n − median_n| over the compared levels, energy unit (null: spectrum not computed for this frame) */
   spectral_drift: number | null;
   /** the same relative to the ground-state depth |median_0| */
   spectral_drift_relative: number | null;
   bound_states: number | null;
-  stencil: [number, number];
-  lambda_resolution: number;
-  degenerate: boolean;
-  static: boolean;
-  reasons: string[];
+  isospectral: boolean | null;
 }
 
 export interface CheckReport {
-  format: 'isotrap-check/1';
+  format: 'isotrap-check/2';
   input: string;
   sidecar: string | null;
   admissible: boolean;
   tolerance: number;
+  /** one-line verdict, and one line per group of consecutive failing intervals with the reason */
+  summary: string[];
+  intervals: IntervalReport[];
   frames: FrameReport[];
   /** largest spread (max − min) of a bound-state energy along the sequence, energy unit */
   spectral_drift: number;
   spectral_drift_relative: number;
   isospectral: boolean | null;
+  /** every interval passes the flow fit */
+  flow_admissible: boolean;
   failures: string[];
   units: {
     length: string;
     energy: string;
-    lambda: string;
-    a: string;
-    a_si: string | null;
-    c: string;
+    time: string;
+    tau: string;
+    drift: string;
     species: string | null;
     mass_u: number | null;
     length_unit_um: number | null;
   };
-  fit: { a_median: number; c_median: number; a_hat_median: number; c_hat_median: number; stencil_width: number; method: string };
-  spectrum: { frames: number[]; lambda: number[]; energies: number[][]; reference: number[]; threshold: number; levels: number };
-  repaired: { mode: RepairMode; a: number[]; c: number[]; max_distance: number; relative_l2: number; frame_relative: number[]; tolerance: number; steps: number; files: string[] };
-  grid: { points: number; length: number; dx: number; x0: number };
+  fit: { method: string; max_residual: number; worst_interval: number; failed: number[]; degenerate: number[]; static: number[]; flow_tolerance: number; lambda_mismatch: number | null };
+  /** τ(t) and λ̇(t) = dτ/dt at the frames' lab times (Fritsch–Carlson map), when frames carry a time */
+  time_map: { time: number[]; tau: number[]; rate: number[]; method: string } | null;
+  spectrum: { frames: number[]; tau: number[]; energies: number[][]; reference: number[]; threshold: number; levels: number };
+  repaired: { max_distance: number; relative_l2: number; frame_relative: number[]; tolerance: number; steps: number; files: string[] };
+  grid: { points: number; input_points: number; length: number; dx: number; x0: number; resampled: boolean };
   warnings: string[];
   /** present only when requested */
   variational?: VariationalReport;
@@ -98,24 +116,28 @@ const variationalSchema = z.object({
   }),
 });
 
+const intervalSchema = z.object({
+  index: num,
+  dtau: num,
+  drift: num,
+  shift: num,
+  residual: num,
+  sampling_floor: num,
+  pass: z.boolean(),
+  static: z.boolean(),
+  degenerate: z.object({ speed: num, displacement: num }).nullable(),
+  at_limit: z.boolean(),
+});
+
 const frameSchema = z.object({
   index: num,
-  lambda: num,
-  residual: num,
-  a: num,
-  a_si: numOrNull,
-  c: num,
-  a_hat: num,
-  c_hat: num,
-  admissible: z.boolean(),
+  lambda: numOrNull,
+  time: numOrNull,
+  tau: num,
   spectral_drift: numOrNull,
   spectral_drift_relative: numOrNull,
   bound_states: numOrNull,
-  stencil: z.tuple([num, num]),
-  lambda_resolution: num,
-  degenerate: z.boolean(),
-  static: z.boolean(),
-  reasons: z.array(str),
+  isospectral: z.boolean().nullable(),
 });
 
 const checkSchema: z.ZodType<CheckReport> = z.object({
@@ -124,26 +146,20 @@ const checkSchema: z.ZodType<CheckReport> = z.object({
   sidecar: strOrNull,
   admissible: z.boolean(),
   tolerance: num,
+  summary: z.array(str),
+  intervals: z.array(intervalSchema),
   frames: z.array(frameSchema),
   spectral_drift: num,
   spectral_drift_relative: num,
   isospectral: z.boolean().nullable(),
+  flow_admissible: z.boolean(),
   failures: z.array(str),
-  units: z.object({ length: str, energy: str, lambda: str, a: str, a_si: strOrNull, c: str, species: strOrNull, mass_u: numOrNull, length_unit_um: numOrNull }),
-  fit: z.object({ a_median: num, c_median: num, a_hat_median: num, c_hat_median: num, stencil_width: num, method: str }),
-  spectrum: z.object({ frames: nums, lambda: nums, energies: z.array(nums), reference: nums, threshold: num, levels: num }),
-  repaired: z.object({
-    mode: z.enum(['median', 'piecewise']),
-    a: nums,
-    c: nums,
-    max_distance: num,
-    relative_l2: num,
-    frame_relative: nums,
-    tolerance: num,
-    steps: num,
-    files: z.array(str),
-  }),
-  grid: z.object({ points: num, length: num, dx: num, x0: num }),
+  units: z.object({ length: str, energy: str, time: str, tau: str, drift: str, species: strOrNull, mass_u: numOrNull, length_unit_um: numOrNull }),
+  fit: z.object({ method: str, max_residual: num, worst_interval: num, failed: nums, degenerate: nums, static: nums, flow_tolerance: num, lambda_mismatch: numOrNull }),
+  time_map: z.object({ time: nums, tau: nums, rate: nums, method: str }).nullable(),
+  spectrum: z.object({ frames: nums, tau: nums, energies: z.array(nums), reference: nums, threshold: num, levels: num }),
+  repaired: z.object({ max_distance: num, relative_l2: num, frame_relative: nums, tolerance: num, steps: num, files: z.array(str) }),
+  grid: z.object({ points: num, input_points: num, length: num, dx: num, x0: num, resampled: z.boolean() }),
   warnings: z.array(str),
   variational: variationalSchema.optional(),
 });
