@@ -24,7 +24,7 @@ export interface BoundStates {
 export function boundStates(grid: Grid, u: Float64Array): BoundStates {
   const threshold = boxThreshold(grid.length);
   const res = boundEnergies(grid, u, threshold);
-  return { energies: res.energies, threshold, method: `dense Householder + QL on ${res.points} points` };
+  return { energies: res.energies, threshold, method: res.convergence };
 }
 
 /** eigenvalues of the bound states along the sequence: flat lines prove isospectrality */

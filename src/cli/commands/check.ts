@@ -11,8 +11,6 @@ import { makeProgress } from '../progress.ts';
 export interface CheckCliOptions extends CommonOptions {
   tolerance?: string;
   sidecar?: string;
-  /** declared by the command line; the repaired sequence has one form, so any value is refused */
-  repair?: string;
   lengthUnit?: string;
   energyUnit?: string;
   species?: string;
@@ -72,7 +70,6 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
 }
 
 export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
-  if (opts.repair !== undefined) throw new UserError(`option --repair = ${JSON.stringify(opts.repair)} is not allowed: the repaired sequence follows each interval's fitted KdV flow and takes no mode`);
   const progress = makeProgress('check', opts.quiet ?? false);
   const result = await runCheckParallel({
     input,
