@@ -8,6 +8,10 @@
 import type { Grid } from '../spectral/grid.ts';
 import { boundEnergies, boxThreshold } from '../quantum/bound.ts';
 
+/** bound levels compared along a sequence: the lowest ones carry the verdict; a deep trap (a harmonic well in its
+ *  box) binds hundreds, whose count would only make the comparison slow (common practice) */
+export const COMPARED_LEVELS = 16;
+
 export interface SpectrumCheck {
   /** frames whose spectrum was computed */
   indices: number[];
@@ -41,7 +45,7 @@ export function frameThreshold(grid: Grid, u: Float64Array): number {
 
 /** bound-state energies of k² + u below the frame's threshold, ascending (E₀) */
 export function frameEnergies(grid: Grid, u: Float64Array): number[] {
-  return boundEnergies(grid, u, frameThreshold(grid, u)).energies;
+  return boundEnergies(grid, u, frameThreshold(grid, u), COMPARED_LEVELS).energies;
 }
 
 /** the isospectrality summary of energies computed elsewhere (frameEnergies at frames `indices`; threshold of the first) */

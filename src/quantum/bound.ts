@@ -31,6 +31,8 @@ export function boxThreshold(length: number): number {
 const GRID_MIN = 256;
 /** first grid: h₀ times the largest local wavenumber √(max|u|) at most this (second-difference error ~ (hk)²/12) */
 const START_HK = 0.25;
+/** levels asked for on the first grid before checking that one of them lies above the threshold */
+const FIRST_LEVELS = 64;
 /** Richardson levels at most (the finest grid is 2^(LEVELS−1) times the first) */
 const MAX_LEVELS = 7;
 /** u counts as resolved on a coarse grid when the spectral amplitude it drops is below this (common practice) */
@@ -85,20 +87,26 @@ function finiteDifferenceLevels(length: number, u: Float64Array, n: number, coun
 }
 
 /**
- * All eigenvalues below `threshold`, ascending, extrapolated to h → 0 (module doc). Throws NumericalError when
- * MAX_LEVELS grids do not meet the tolerance.
+ * All eigenvalues below `threshold` (at most the lowest `maxLevels`), ascending, extrapolated to h → 0 (module doc).
+ * Throws NumericalError when MAX_LEVELS grids do not meet the tolerance.
  */
-export function boundEnergies(grid: Grid, u: Float64Array, threshold: number): BoundSpectrum {
+export function boundEnergies(grid: Grid, u: Float64Array, threshold: number, maxLevels = Infinity): BoundSpectrum {
   if (u.length !== grid.n) throw new RangeError(`bound states: potential length ${u.length} must equal grid points ${grid.n}`);
   let depth = 0;
   for (let j = 0; j < u.length; j++) depth = Math.max(depth, Math.abs(u[j]));
   let n = coarsestResolving(grid, u);
   while (grid.length / n > START_HK / Math.sqrt(Math.max(depth, 1e-300))) n *= 2;
   // how many levels to follow: those below the threshold on the first grid, and one more
-  const first = finiteDifferenceLevels(grid.length, u, n, Math.min(n, 64));
+  let asked = Math.min(n, FIRST_LEVELS, maxLevels + 1);
+  let first = finiteDifferenceLevels(grid.length, u, n, asked);
+  while (asked < Math.min(n, maxLevels + 1) && first.levels[asked - 1] < threshold) {
+    // every level asked for is bound: ask for more until one lies above the threshold
+    asked = Math.min(n, maxLevels + 1, 2 * asked);
+    first = finiteDifferenceLevels(grid.length, u, n, asked);
+  }
   let count = 0;
   while (count < first.levels.length && first.levels[count] < threshold) count++;
-  count = Math.min(count + 1, n);
+  count = Math.min(count + 1, first.levels.length, maxLevels);
   const tableau: Float64Array[] = [first.levels.slice(0, count)];
   let change = Infinity;
   let tolerance = 0;
@@ -115,6 +123,7 @@ export function boundEnergies(grid: Grid, u: Float64Array, threshold: number): B
     tolerance = Math.max(BOUND_REL_TOL * depth, ROUND_OFF * fd.scale);
     change = 0;
     for (let i = 0; i < count; i++) change = Math.max(change, Math.abs(best[i] - previous[i]));
+    if (!Number.isFinite(change)) break;
     tableau.splice(0, tableau.length, ...row);
     if (level >= 2 && change <= tolerance) {
       const energies = Array.from(best).filter((x) => x < threshold);
