@@ -68,6 +68,37 @@ function describeDescr(descr: string): string {
   return `dtype '${descr}' is not supported: allowed dtypes are ${SUPPORTED_DTYPES.join(', ')}`;
 }
 
+/** the header dict's three keys, each named once: dtype (one of DTYPES), C order, shape */
+function parseHeader(header: string, fail: (msg: string) => never): { descr: string; dtype: DtypeInfo; shape: number[] } {
+  for (const key of ['descr', 'fortran_order', 'shape']) {
+    const count = header.split(`'${key}'`).length - 1;
+    if (count > 1) fail(`NPY header names '${key}' ${count} times; a valid header names it once: ${JSON.stringify(header.trim())}`);
+  }
+  const descrMatch = /'descr'\s*:\s*'([^']*)'/.exec(header);
+  if (!descrMatch) {
+    if (/'descr'\s*:\s*\[/.test(header)) fail(`structured dtypes are not supported: allowed dtypes are ${SUPPORTED_DTYPES.join(', ')}`);
+    fail(`NPY header has no 'descr' entry: ${JSON.stringify(header.trim())}`);
+  }
+  const descr = descrMatch![1];
+  const dtype = DTYPES[descr];
+  if (!dtype) return fail(describeDescr(descr));
+
+  const fortranMatch = /'fortran_order'\s*:\s*(True|False)/.exec(header);
+  if (!fortranMatch) fail(`NPY header has no 'fortran_order' entry: ${JSON.stringify(header.trim())}`);
+  if (fortranMatch![1] === 'True') fail('fortran_order True is not supported: save a C-ordered array, e.g. np.save(path, np.ascontiguousarray(arr))');
+
+  const shapeMatch = /'shape'\s*:\s*\(([^)]*)\)/.exec(header);
+  if (!shapeMatch) fail(`NPY header has no 'shape' entry: ${JSON.stringify(header.trim())}`);
+  const shape: number[] = [];
+  for (const part of shapeMatch![1].split(',')) {
+    const t = part.trim().replace(/L$/, '');
+    if (t === '') continue;
+    if (!/^\d+$/.test(t)) fail(`NPY shape entry ${JSON.stringify(t)} is not a non-negative integer`);
+    shape.push(Number(t));
+  }
+  return { descr, dtype, shape };
+}
+
 /**
  * Decode an NPY file (versions 1.0 and 2.0; dtypes '<f8', '<f4', '<i4', '<i8'; C order only) into float64.
  * Anything else, a truncated file and any NaN/Inf value give a UserError naming `fileName`.
@@ -99,32 +130,7 @@ export function decodeNpy(bytes: Uint8Array, fileName: string): NpyArray {
   let header = '';
   for (let i = headerStart; i < dataStart; i++) header += String.fromCharCode(bytes[i]);
 
-  for (const key of ['descr', 'fortran_order', 'shape']) {
-    const count = header.split(`'${key}'`).length - 1;
-    if (count > 1) fail(`NPY header names '${key}' ${count} times; a valid header names it once: ${JSON.stringify(header.trim())}`);
-  }
-  const descrMatch = /'descr'\s*:\s*'([^']*)'/.exec(header);
-  if (!descrMatch) {
-    if (/'descr'\s*:\s*\[/.test(header)) fail(`structured dtypes are not supported: allowed dtypes are ${SUPPORTED_DTYPES.join(', ')}`);
-    fail(`NPY header has no 'descr' entry: ${JSON.stringify(header.trim())}`);
-  }
-  const descr = descrMatch![1];
-  const dtype = DTYPES[descr];
-  if (!dtype) fail(describeDescr(descr));
-
-  const fortranMatch = /'fortran_order'\s*:\s*(True|False)/.exec(header);
-  if (!fortranMatch) fail(`NPY header has no 'fortran_order' entry: ${JSON.stringify(header.trim())}`);
-  if (fortranMatch![1] === 'True') fail('fortran_order True is not supported: save a C-ordered array, e.g. np.save(path, np.ascontiguousarray(arr))');
-
-  const shapeMatch = /'shape'\s*:\s*\(([^)]*)\)/.exec(header);
-  if (!shapeMatch) fail(`NPY header has no 'shape' entry: ${JSON.stringify(header.trim())}`);
-  const shape: number[] = [];
-  for (const part of shapeMatch![1].split(',')) {
-    const t = part.trim().replace(/L$/, '');
-    if (t === '') continue;
-    if (!/^\d+$/.test(t)) fail(`NPY shape entry ${JSON.stringify(t)} is not a non-negative integer`);
-    shape.push(Number(t));
-  }
+  const { descr, dtype, shape } = parseHeader(header, fail);
   const count = shape.reduce((a, b) => a * b, 1);
   const needed = count * dtype.size;
   const have = bytes.length - dataStart;

@@ -111,14 +111,7 @@ export function uhlmannFidelity(evolved: readonly Float64Array[], p: readonly nu
     bre[a * n + b] = f * cr;
     bim[a * n + b] = f * ci;
   }
-  const big = new Matrix(2 * m, 2 * n);
-  for (let a = 0; a < m; a++) for (let b = 0; b < n; b++) {
-    big.set(a, b, bre[a * n + b]);
-    big.set(a + m, b + n, bre[a * n + b]);
-    big.set(a, b + n, -bim[a * n + b]);
-    big.set(a + m, b, bim[a * n + b]);
-  }
-  const trace = new SingularValueDecomposition(big, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal.reduce((acc, x) => acc + x, 0) / 2;
+  const trace = new SingularValueDecomposition(realEmbedding(bre, bim, m, n), { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal.reduce((acc, x) => acc + x, 0) / 2;
   return trace * trace;
 }
 
@@ -276,12 +269,20 @@ export function occupiedCoupling(op: SpectralOperator, terms: OperatorTerms, tra
  * 4th ed. 2013, §8.1).
  */
 function largestGramEigenvalue(re: Float64Array, im: Float64Array, n: number): number {
-  const big = new Matrix(2 * n, 2 * n);
-  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-    big.set(i, j, re[i * n + j]);
-    big.set(i + n, j + n, re[i * n + j]);
-    big.set(i, j + n, -im[i * n + j]);
-    big.set(i + n, j, im[i * n + j]);
+  return Math.max(0, ...new EigenvalueDecomposition(realEmbedding(re, im, n, n), { assumeSymmetric: true }).realEigenvalues);
+}
+
+/**
+ * The real 2m×2n matrix [[Re M, −Im M], [Im M, Re M]] of a complex m×n matrix M (row-major re/im): its singular
+ * values are those of M, each twice, and for Hermitian M so are its eigenvalues (Golub & Van Loan 2013, §8.1).
+ */
+function realEmbedding(re: Float64Array, im: Float64Array, m: number, n: number): Matrix {
+  const big = new Matrix(2 * m, 2 * n);
+  for (let a = 0; a < m; a++) for (let b = 0; b < n; b++) {
+    big.set(a, b, re[a * n + b]);
+    big.set(a + m, b + n, re[a * n + b]);
+    big.set(a, b + n, -im[a * n + b]);
+    big.set(a + m, b, im[a * n + b]);
   }
-  return Math.max(0, ...new EigenvalueDecomposition(big, { assumeSymmetric: true }).realEigenvalues);
+  return big;
 }
