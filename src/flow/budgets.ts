@@ -2,8 +2,8 @@
  * Budgets of a sequence, as pure functions of sampled frames u(ξ_j) (natural units; any common sampling).
  *
  * - Depth (laser power): the deepest value −min u over all frames against the starting frame's; the optical power
- *   of a dipole trap is proportional to its depth (Grimm, Weidemüller & Ovchinnikov, Adv. At. Mol. Opt. Phys. 42,
- *   95, 2000, eq. 10), so the ratio is the power the sequence needs relative to the starting trap.
+ *   of a far-detuned dipole trap is proportional to its depth (the dipole potential U ∝ I/Δ; review in Adv. At.
+ *   Mol. Opt. Phys. 42, 95, 2000, eq. 10), so the ratio is the power the sequence needs relative to the starting trap.
  * - Narrowest feature (optical resolution): the smallest full width at half depth of any well in any frame. A well
  *   is a local minimum u_m < 0 deeper than WELL_FLOOR of the frame's depth; its width runs between the points where
  *   u rises to u_m/2 (linear interpolation between samples), or to the neighbouring local maximum when u turns
