@@ -13,16 +13,10 @@ import { parseConfig } from '../src/io/config.ts';
 import { runCheck, writeCheckOutputs } from '../src/jobs/check.ts';
 import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
 import { runVerify, writeVerifyOutputs } from '../src/jobs/verify.ts';
+import { SMALL_SOLITON } from './fixtures.ts';
 
 // One soliton u = −2 sech²(ξ + 2) (exact KdV solution, physics.md §4) on a small grid: cheap to design and verify.
-const CONFIG = `name: formats
-units: { system: natural }
-grid: { length: 40, points: 256 }
-initial: { kind: sech2, depth: 2, width: 1, center: -2 }
-flow: { lambda_end: 0.2, frames: 5 }
-protocol: { duration: 0.4, ramp: sin2 }
-verify: { states: 2 }
-`;
+const CONFIG = SMALL_SOLITON('formats');
 
 function userError(f: () => unknown): UserError {
   try {

@@ -6,7 +6,8 @@
  */
 import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
-import { join } from 'node:path';
+import { basename, join } from 'node:path';
+import { UserError } from '../core/errors.ts';
 import { stringify } from 'yaml';
 import type { SummaryRow } from '../io/formats/read.ts';
 import { readCheckFile } from '../io/formats/check.ts';
@@ -14,6 +15,7 @@ import { readNpyFile } from '../io/formats/read.ts';
 import { readSequenceFile, type SequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile, type VerifyFile } from '../io/formats/verify.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { requireOneConfig } from '../io/run-folder.ts';
 import { toJson } from './design.ts';
 import { renderReport, type ReportFigure } from '../report/index.ts';
 import { designFigures, designSummaryRows, labTimeMap, type FrameArray } from '../report/panels/design.ts';
@@ -60,11 +62,18 @@ interface OutputFolder {
 }
 
 function readFolder(dir: string): OutputFolder {
+  const hasVerify = existsSync(join(dir, 'verify.json'));
+  // every file read must be the one its run recorded, and all of one configuration (io/run-folder.ts)
+  requireOneConfig(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : [])].filter((f) => existsSync(join(dir, f))));
   const seq = readSequenceFile(join(dir, 'sequence.json'));
   const potential = readNpyFile(join(dir, 'potential.npy'));
-  if (!existsSync(join(dir, 'verify.json'))) return { seq, potential, verify: null, traces: null };
+  if (!hasVerify) return { seq, potential, verify: null, traces: null };
   const verify = readVerifyFile(join(dir, 'verify.json'));
-  const tp = join(dir, verify.traces.file);
+  const file = verify.traces.file;
+  if (basename(file) !== file || file.startsWith('.')) {
+    throw new UserError(`${join(dir, 'verify.json')}: traces.file = ${JSON.stringify(file)} is not allowed: must name a file inside the folder`);
+  }
+  const tp = join(dir, file);
   return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null };
 }
 

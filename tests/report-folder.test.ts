@@ -1,0 +1,48 @@
+import { createHash } from 'node:crypto';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { parseConfig } from '../src/io/config.ts';
+import { configIdentity, MANIFEST_FILE } from '../src/io/run-folder.ts';
+import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
+import { renderFolder } from '../src/jobs/report.ts';
+import { runVerify, writeVerifyOutputs } from '../src/jobs/verify.ts';
+import { SMALL_SOLITON } from './fixtures.ts';
+
+const CONFIG = SMALL_SOLITON('folder');
+
+function folder(): { dir: string; config: ReturnType<typeof parseConfig> } {
+  const dir = mkdtempSync(join(tmpdir(), 'isotrap-report-folder-'));
+  const config = parseConfig(CONFIG, 'folder.yaml', dir);
+  const design = runDesign(config);
+  const id = configIdentity(config);
+  writeDesignOutputs(design, dir, false, id);
+  writeVerifyOutputs(runVerify(config, design, { traceSamples: 2 }), dir, false, id);
+  return { dir, config };
+}
+
+describe('report renders only whole, consistent runs', () => {
+  it('refuses a folder whose verify comes from another configuration, and a file changed after its run', () => {
+    const { dir, config } = folder();
+    expect(renderFolder(dir, { force: false, toolVersion: 'test' }).length).toBeGreaterThan(3);
+    // the same verify written again under another configuration's identity
+    const other = parseConfig(CONFIG.replace('duration: 0.4', 'duration: 0.5'), 'other.yaml', dir);
+    writeVerifyOutputs(runVerify(other, runDesign(config), { traceSamples: 2 }), dir, true, configIdentity(other));
+    expect(() => renderFolder(dir, { force: true, toolVersion: 'test' })).toThrow(/holds results of different configurations/);
+    writeFileSync(join(dir, 'potential.npy'), 'tampered');
+    expect(() => renderFolder(dir, { force: true, toolVersion: 'test' })).toThrow(/potential\.npy differs from the run that isotrap-run\.json records/);
+  });
+  it('reads traces only from inside the folder', () => {
+    const { dir } = folder();
+    // rewrite traces.file to point outside, and record the new bytes so that only the path check can refuse it
+    const vp = join(dir, 'verify.json');
+    const text = readFileSync(vp, 'utf8').replace('"file": "traces.npy"', '"file": "../../etc/passwd"');
+    writeFileSync(vp, text);
+    const mp = join(dir, MANIFEST_FILE);
+    const manifest = JSON.parse(readFileSync(mp, 'utf8'));
+    manifest.files['verify.json'].sha256 = createHash('sha256').update(text).digest('hex');
+    writeFileSync(mp, JSON.stringify(manifest));
+    expect(() => renderFolder(dir, { force: true, toolVersion: 'test' })).toThrow(/traces\.file = "\.\.\/\.\.\/etc\/passwd" is not allowed: must name a file inside the folder/);
+  });
+});
