@@ -210,6 +210,9 @@ describe('isotrap check: malformed input', () => {
     expect(() => runCheck({ input: join(dir, 'v.npy') })).toThrow(/units missing: lab units .* need the particle mass/);
     writeFileSync(join(dir, 'v.json'), JSON.stringify({ x: Array.from(g.x), lambda: [0, 2, 1], length_unit: 'ℓ', energy_unit: 'E₀' }));
     expect(() => runCheck({ input: join(dir, 'v.npy') })).toThrow(/λ must increase strictly .* frame 2/);
+    // a sidecar that is a folder, and a sequence that is a device, are input errors (POSIX: not regular files)
+    expect(() => runCheck({ input: join(dir, 'v.npy'), sidecar: dir })).toThrow(new RegExp(`sidecar ${dir} is not a regular file`));
+    expect(() => runCheck({ input: '/dev/zero' })).toThrow(UserError);
   });
   it('x with a non-power-of-two count whose last point repeats the first: the duplicated periodic end point is pointed out', () => {
     const dir = tmp();

@@ -26,7 +26,7 @@
  * frames are interpolated spectrally (band-limited, spectral/resample-any.ts) onto the next power of two of the
  * same box, and a warning says so.
  */
-import { existsSync, readFileSync, statSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { basename, dirname, extname, join } from 'node:path';
 import { parse as parseYaml } from 'yaml';
 import { UserError } from '../core/errors.ts';
@@ -37,6 +37,12 @@ import { makeUnitSystem, type UnitSystem } from '../units/scales.ts';
 import { SPECIES, SPECIES_NAMES, isSpeciesName } from '../units/species.ts';
 import { isPowerOfTwo, makeGrid, type Grid } from '../spectral/grid.ts';
 import { nextPowerOfTwo, resampleToPowerOfTwo } from '../spectral/resample-any.ts';
+import { readBoundedFile } from './files.ts';
+
+/** largest sidecar read (its x, λ and time lists of even the finest grids fit many times over; common practice) */
+const MAX_SIDECAR_BYTES = 64 * 2 ** 20;
+/** largest sequence file read: 512 MiB holds 1000 frames of 65,536 float64 points (common practice) */
+const MAX_SEQUENCE_BYTES = 512 * 2 ** 20;
 
 /** fewest frames: one interval for the flow fit */
 export const MIN_FRAMES = 2;
@@ -256,7 +262,7 @@ function optionalNumber(v: unknown, key: string, path: string): number | undefin
 }
 
 function readSidecar(path: string): Sidecar {
-  const text = readFileSync(path, 'utf8');
+  const text = readBoundedFile(path, MAX_SIDECAR_BYTES, 'sidecar').toString('utf8');
   let data: unknown;
   const ext = extname(path).toLowerCase();
   try {
@@ -350,7 +356,7 @@ interface RawSequence {
 
 /** a .npy array [frames, points] with x and λ from its sidecar */
 function readNpySequence(file: string, ext: string, sidecar: Sidecar | null): RawSequence {
-  const buf = readFileSync(file);
+  const buf = readBoundedFile(file, MAX_SEQUENCE_BYTES, 'sequence file');
   const arr = decodeNpy(new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength), file);
   if (arr.shape.length !== 2) {
     throw new UserError(`${file}: array shape (${arr.shape.join(', ')}) is not allowed: must be 2-D [frames, points]`);
@@ -395,7 +401,7 @@ function checkSidecarAgrees(file: string, sidecar: Sidecar | null, raw: RawSeque
 
 /** a .csv with x in column 1 and one column per frame, λ in the header */
 function readCsvSequence(file: string, sidecar: Sidecar | null): RawSequence {
-  const csv = readNumericCsv(readFileSync(file, 'utf8'), file);
+  const csv = readNumericCsv(readBoundedFile(file, MAX_SEQUENCE_BYTES, 'sequence file').toString('utf8'), file);
   const header = csv.header;
   if (!header) {
     throw new UserError(`${file}: the first row must be a header: a label for the x column, then each frame's λ, e.g. "x (µm),lambda=0,lambda=0.05,…"`);
