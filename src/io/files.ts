@@ -2,7 +2,7 @@
  * File output helpers: atomic writes and output-folder preparation that never deletes anything.
  */
 import { randomBytes } from 'node:crypto';
-import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { UserError } from '../core/errors.ts';
 
@@ -56,6 +56,14 @@ export function processAlive(pid: number): boolean {
 
 /** remove temporaries left in `dir` by writers that were killed mid-write (their process is gone) */
 export function removeStaleTemporaries(dir: string): string[] {
+  return removeLeftovers(dir, TEMPORARY_RE);
+}
+
+/**
+ * Remove the entries of `dir` whose name matches `pattern` (group 1: the writer's process id) and whose writer has
+ * died; returns their names. Entries of live writers are kept.
+ */
+export function removeLeftovers(dir: string, pattern: RegExp): string[] {
   const removed: string[] = [];
   let names: string[];
   try {
@@ -64,14 +72,10 @@ export function removeStaleTemporaries(dir: string): string[] {
     return removed;
   }
   for (const name of names) {
-    const m = TEMPORARY_RE.exec(name);
+    const m = pattern.exec(name);
     if (!m || processAlive(Number(m[1]))) continue;
-    try {
-      unlinkSync(join(dir, name));
-      removed.push(name);
-    } catch {
-      // another process removed it first
-    }
+    rmSync(join(dir, name), { recursive: true, force: true });
+    removed.push(name);
   }
   return removed;
 }

@@ -14,14 +14,15 @@
  * temporary name, rename, record completion last).
  */
 import { createHash, randomBytes } from 'node:crypto';
-import { closeSync, existsSync, mkdirSync, openSync, readFileSync, readdirSync, renameSync, rmSync, unlinkSync, writeSync } from 'node:fs';
+import { closeSync, existsSync, mkdirSync, openSync, readFileSync, renameSync, rmSync, unlinkSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
 import { UserError } from '../core/errors.ts';
-import { prepareOutputDir, processAlive, writeFileAtomic } from './files.ts';
+import { prepareOutputDir, processAlive, removeLeftovers, writeFileAtomic } from './files.ts';
 
 export const LOCK_FILE = '.isotrap-lock';
 export const MANIFEST_FILE = 'isotrap-run.json';
 const STAGING_PREFIX = '.isotrap-staging-';
+const STAGING_RE = /^\.isotrap-staging-(\d+)-[0-9a-f]+$/;
 export const MANIFEST_FORMAT = 'isotrap-run/1';
 
 export interface ManifestEntry {
@@ -87,13 +88,6 @@ function readFileSafe(path: string): string {
   }
 }
 
-/** staging folders of writers that died before committing */
-function removeStaleStaging(dir: string): void {
-  for (const name of readdirSync(dir)) {
-    const m = /^\.isotrap-staging-(\d+)-[0-9a-f]+$/.exec(name);
-    if (m && !processAlive(Number(m[1]))) rmSync(join(dir, name), { recursive: true, force: true });
-  }
-}
 
 /** the folder's manifest, or an empty one when there is none yet */
 export function readManifest(dir: string): RunManifest {
@@ -163,7 +157,7 @@ export class RunFolder {
     this.job = options.job;
     this.identity = options.identity;
     try {
-      removeStaleStaging(this.dir);
+      removeLeftovers(this.dir, STAGING_RE); // staging folders of writers that died before committing
       this.staging = join(this.dir, `${STAGING_PREFIX}${process.pid}-${randomBytes(4).toString('hex')}`);
       mkdirSync(this.staging);
     } catch (err) {

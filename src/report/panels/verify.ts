@@ -33,15 +33,25 @@ function fidelityFigure(v: VerifyFile, traces: FrameArray): ReportFigure {
   };
 }
 
-/** thermal-ensemble and Fermi-sea infidelities (null when verify computed neither) */
+/** thermal-ensemble and Fermi-sea infidelities, the same quantities as the summary (null when verify computed neither) */
 function ensemblesFigure(v: VerifyFile): ReportFigure | null {
   const ens: { label: string; values: { name: string; value: number }[] }[] = [];
-  if (v.thermal) ens.push({ label: `thermal ${v.thermal.temperature} ${v.thermal.unit}`, values: [{ name: 'cd', value: 1 - v.thermal.fidelity_cd }, { name: 'bare', value: 1 - v.thermal.fidelity_bare }] });
-  if (v.fermions) ens.push({ label: `Fermi sea N=${v.fermions.count}`, values: [{ name: 'cd', value: 1 - v.fermions.fidelity_cd }, { name: 'bare', value: 1 - v.fermions.fidelity_bare }] });
+  const pair = (cd: number, bare: number) => [{ name: 'cd', value: 1 - cd }, { name: 'bare', value: 1 - bare }];
+  const parts: string[] = [];
+  if (v.thermal) {
+    const T = `${v.thermal.temperature} ${v.thermal.unit}`;
+    ens.push({ label: `thermal ${T}, mean`, values: pair(v.thermal.fidelity_cd, v.thermal.fidelity_bare) });
+    ens.push({ label: `thermal ${T}, Uhlmann`, values: pair(v.thermal.uhlmann_cd, v.thermal.uhlmann_bare) });
+    parts.push(`the thermal ensemble at ${T} (the Boltzmann mean of the state fidelities, and the Uhlmann fidelity of the evolved and the final Gibbs state)`);
+  }
+  if (v.fermions) {
+    ens.push({ label: `Fermi sea N=${v.fermions.count}`, values: pair(v.fermions.fidelity_cd, v.fermions.fidelity_bare) });
+    parts.push(`the filled Fermi sea of ${v.fermions.count} fermions`);
+  }
   if (ens.length === 0) return null;
   return {
     id: 'ensembles',
-    caption: 'Infidelity of the thermal ensemble and of the filled Fermi sea after the ramp, with and without the correction.',
+    caption: `Infidelity 1 − F after the ramp, with and without the correction, of ${parts.join(' and of ')}; the values in the summary.`,
     svg: barChart({ xLabel: 'ensemble', yLabel: 'infidelity 1 − F', groups: ens, logY: true, width: 'single' }),
   };
 }
