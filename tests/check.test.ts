@@ -1,4 +1,4 @@
-import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -11,7 +11,8 @@ import { spectrum } from '../src/spectral/ops.ts';
 import { RealFFT } from '../src/spectral/fft.ts';
 import { unitSystemOfSequence } from '../src/io/external-sequence.ts';
 import { fornbergWeights } from '../src/check/fornberg.ts';
-import { checkExitCode, runCheck, writeCheckOutputs } from '../src/jobs/check.ts';
+import { CHECK_FILES, checkExitCode, checkRequestText, runCheck, writeCheckOutputs } from '../src/jobs/check.ts';
+import { configHash, requireOneConfig } from '../src/io/run-folder.ts';
 
 const L = 40;
 const N = 256;
@@ -98,6 +99,11 @@ describe('isotrap check: admissible sequences', () => {
     expect(existsSync(files[1]) && existsSync(files[2])).toBe(true);
     // writing again without force refuses (the output folder already holds check.json)
     expect(() => writeCheckOutputs(r, join(dir, 'out'), false)).toThrow(/already exist/);
+    // the folder is one run: every file in the manifest with its SHA-256 and the hash of the request (io/run-folder.ts)
+    const entries = requireOneConfig(join(dir, 'out'), [...CHECK_FILES]);
+    expect(entries.map((e) => e.job)).toEqual(['check', 'check', 'check', 'check']);
+    expect(entries[0].config_hash).toBe(configHash(checkRequestText(r.report)));
+    expect(readdirSync(join(dir, 'out')).filter((f) => f.startsWith('.isotrap'))).toEqual([]);
   });
 
   it('a lab-units CSV of the split with a drift gives Δτ = Δλ and c = the drift in µm per unit τ', () => {

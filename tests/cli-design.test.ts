@@ -1,5 +1,5 @@
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -69,4 +69,40 @@ describe('isotrap design on the command line', () => {
       expect(existsSync(join(dir, 'outputs'))).toBe(false);
     });
   }
+});
+
+describe('a grid that does not resolve the potential fails the run (exit 1), names the keys, writes nothing', () => {
+  // The spectral tail (top-of-band amplitude relative to the largest mode) of a resolved smooth field decays to
+  // round-off (Boyd, Chebyshev and Fourier Spectral Methods, 2001, §2.6); 1e-3 is the refusal level (common practice).
+  const cases: [string, string, RegExp][] = [
+    ['grid.length 1e9: one sample per 2e6 widths', GOOD.replace('length: 40', 'length: 1e9'), /initial potential.*grid\.length 1000000000 \/ grid\.points 512.*raise grid\.points or shorten grid\.length, or widen initial\.width/],
+    ['initial.width 0.001: narrower than the grid step', GOOD.replace('width: 1,', 'width: 0.001,'), /initial potential.*spectral tail.*widen initial\.width \(0\.001/],
+    // −42 sech²ξ sheds solitons up to κ = 6 (Pöschl–Teller levels −(6−n)², physics.md §4), width 1/6 ℓ, unresolved by a 0.23 ℓ step
+    ['solitons narrower than the grid step appear along the flow', GOOD.replace('points: 512', 'points: 256').replace('length: 40', 'length: 60').replace('depth: 6', 'depth: 42').replace('lambda_end: 0.1', 'lambda_end: 0.2'), /designed sequence: the last frame's spectral tail .* raise grid\.points or shorten grid\.length$/m],
+  ];
+  for (const [what, text, message] of cases) {
+    it(what, () => {
+      const dir = scratch();
+      writeFileSync(join(dir, 'c.yaml'), text);
+      const r = isotrap(['design', 'c.yaml', '--quiet'], dir);
+      expect(r.code, r.stderr).toBe(1);
+      expect(r.stderr).toMatch(message);
+      expect(r.stderr).not.toMatch(/\n\s+at /);
+      expect(existsSync(join(dir, 'outputs'))).toBe(false);
+    });
+  }
+});
+
+describe('isotrap check on the command line', () => {
+  it('refuses existing outputs before it reads or computes anything (exit 2, existing file untouched)', () => {
+    const dir = scratch();
+    // an unreadable input: if the output check came after reading, the message would be about the input
+    writeFileSync(join(dir, 'seq.csv'), 'not,a,sequence\n');
+    mkdirSync(join(dir, 'seq-check'));
+    writeFileSync(join(dir, 'seq-check', 'check.json'), 'kept');
+    const r = isotrap(['check', 'seq.csv', '--quiet'], dir);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/seq-check\/check\.json already exists: pass --force/);
+    expect(readFileSync(join(dir, 'seq-check', 'check.json'), 'utf8')).toBe('kept');
+  });
 });

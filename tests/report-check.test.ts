@@ -38,5 +38,8 @@ describe('report of a check folder', () => {
     expect(text).toMatch(/intervals 2–3 \(frames 2–4\)/);
     // re-rendering refuses to overwrite without force (the folder's own rule for every output)
     expect(() => renderFolder(out, { force: false, toolVersion: 'test' })).toThrow(/already exist/);
+    // a check file changed after its run (here repaired.npy from another tool) is refused, not rendered
+    writeFileSync(join(out, 'repaired.npy'), readFileSync(join(dir, 'seq.npy')));
+    expect(() => renderFolder(out, { force: true, toolVersion: 'test' })).toThrow(/repaired\.npy differs from the run that isotrap-run\.json records/);
   });
 });

@@ -33,6 +33,26 @@ describe('report renders only whole, consistent runs', () => {
     writeFileSync(join(dir, 'potential.npy'), 'tampered');
     expect(() => renderFolder(dir, { force: true, toolVersion: 'test' })).toThrow(/potential\.npy differs from the run that isotrap-run\.json records/);
   });
+  it('records its files under the rendered run, and refuses a run committed while it rendered', () => {
+    const { dir, config } = folder();
+    const files = renderFolder(dir, { force: false, toolVersion: 'test' });
+    const manifest = JSON.parse(readFileSync(join(dir, MANIFEST_FILE), 'utf8'));
+    const html = manifest.files['report.html'];
+    expect(html.job).toBe('report');
+    expect(html.run).toBe(manifest.files['sequence.json'].run);
+    expect(html.config_hash).toBe(manifest.files['verify.json'].config_hash);
+    expect(files.length).toBe(Object.values(manifest.files).filter((e) => (e as { job: string }).job === 'report').length);
+    // another run commits its verify after the report read the folder and before it takes the lock
+    const other = parseConfig(CONFIG.replace('duration: 0.4', 'duration: 0.5'), 'other.yaml', dir);
+    const concurrent = {
+      toolVersion: 'test',
+      get force() {
+        writeVerifyOutputs(runVerify(other, runDesign(config), { traceSamples: 2 }), dir, true, configIdentity(other));
+        return true;
+      },
+    };
+    expect(() => renderFolder(dir, concurrent)).toThrow(/verify\.json.*changed while the report was rendered/);
+  });
   it('reads traces only from inside the folder', () => {
     const { dir } = folder();
     // rewrite traces.file to point outside, and record the new bytes so that only the path check can refuse it

@@ -208,6 +208,16 @@ function retainedSpectrum(op: FlowOperator, u0: Float64Array): { v: Float64Array
   return { v, discardedTail: kept > 0 ? Math.sqrt(discarded / kept) : 0 };
 }
 
+/**
+ * Resolution of a potential u on the flow's grid: the share of its spectrum beyond the dealiased band
+ * (`discardedTail`, as in retainedSpectrum) and the top-of-band indicator of what remains (FlowOperator.tail).
+ */
+export function spectralResolution(grid: Grid, eq: FlowEquation, u: Float64Array): { discardedTail: number; tail: number } {
+  const op = new FlowOperator(grid, eq);
+  const { v, discardedTail } = retainedSpectrum(op, u);
+  return { discardedTail, tail: op.tail(v) };
+}
+
 /** ETDRK4 coefficient sets by step size (steps live on a ladder, so few distinct sizes occur) */
 class CoefficientCache {
   private readonly cache = new Map<number, Etdrk4Coefficients>();

@@ -11,8 +11,8 @@
  * not use it except to resolve the one-soliton degeneracy (Δτ = Δλ, so the drift follows from the displacement)
  * and to report how far the fitted τ_k are from λ_k − λ_0.
  */
-import { join } from 'node:path';
-import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
+import { join, resolve } from 'node:path';
+import { newRunIdentity, writeRun } from '../io/run-folder.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { UserError } from '../core/errors.ts';
 import { summarise, FLOW_TOLERANCE, type SequenceFit } from '../check/flowfit.ts';
@@ -392,11 +392,24 @@ export function checkExitCode(result: CheckResult): 0 | 1 {
 /**
  * Write check.json, repaired.npy, repaired.json (a sidecar in the `design` format, so the repaired sequence can
  * itself be checked) and input.npy (the frames as judged, on the integration grid, for `isotrap report`) into
- * dir; refuses to overwrite without force. Returns the paths.
+ * dir as one run (io/run-folder.ts: locked, staged, recorded in the manifest with the hash of checkRequestText);
+ * refuses to overwrite without force. Returns the paths.
  */
 export function writeCheckOutputs(result: CheckResult, dir: string, force: boolean): string[] {
-  const outDir = prepareOutputDir(dir, { force, produces: [...CHECK_FILES] });
-  const files = CHECK_FILES.map((f) => join(outDir, f));
+  const files = CHECK_FILES.map((f) => join(resolve(dir), f));
+  const identity = newRunIdentity(checkRequestText(result.report));
+  return writeRun(dir, { force, produces: CHECK_FILES, job: 'check', identity }, (out) => {
+    for (const [name, data] of stageCheck(result, files)) out.write(name, data);
+  });
+}
+
+/** what a check was asked (input, sidecar, tolerance, units) as text: its hash identifies the check's run folder */
+export function checkRequestText(r: CheckReport): string {
+  return toJson({ input: r.input, sidecar: r.sidecar, tolerance: r.tolerance, units: r.units }, 2);
+}
+
+/** the bytes of each check file (absolute paths `files` are recorded in check.json) */
+function stageCheck(result: CheckResult, files: readonly string[]): [string, string | Uint8Array][] {
   const { sequence: seq, repair } = result;
   const n = seq.grid.n;
   /** frames in the sequence's energy unit as one [frames, points] .npy */
@@ -408,8 +421,6 @@ export function writeCheckOutputs(result: CheckResult, dir: string, force: boole
     return encodeNpy(flat, [frames.length, n]);
   };
   result.report.repaired.files = [files[1], files[2]];
-  writeFileAtomic(files[1], npy(repair.frames));
-  writeFileAtomic(files[3], npy(seq.frames));
   const sidecar = {
     format: 'isotrap-sequence/1',
     x: seq.xUser.length === n ? seq.xUser : Array.from(seq.grid.x, (x) => seq.system.lengthFromNatural(x + seq.offset)),
@@ -425,7 +436,10 @@ export function writeCheckOutputs(result: CheckResult, dir: string, force: boole
     repaired_from: seq.file,
     repair: { dtau: result.report.intervals.map((it) => it.dtau), drift: result.report.intervals.map((it) => it.drift), drift_unit: result.report.units.drift },
   };
-  writeFileAtomic(files[2], toJson(sidecar));
-  writeFileAtomic(files[0], toJson(result.report, 2));
-  return files;
+  return [
+    [CHECK_FILES[1], npy(repair.frames)],
+    [CHECK_FILES[3], npy(seq.frames)],
+    [CHECK_FILES[2], toJson(sidecar)],
+    [CHECK_FILES[0], toJson(result.report, 2)],
+  ];
 }

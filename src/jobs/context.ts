@@ -2,11 +2,12 @@
  * Shared set-up of a job from a validated config: the unit system, the natural-units grid and the initial
  * potential u(ξ, 0). Everything numerical below this layer works in natural units (physics.md §3).
  */
-import { UserError } from '../core/errors.ts';
+import { NumericalError, UserError } from '../core/errors.ts';
 import { unitSystemOf, type Config } from '../io/config.ts';
 import { readSamplesFile } from '../io/samples.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample } from '../spectral/ops.ts';
+import { naturalFlowEquation, spectralResolution } from '../flow/kdv.ts';
 import { nSolitonPotential } from '../flow/solitons.ts';
 import { sech2Trap, wellScale, wellsTrap } from '../flow/traps.ts';
 import { dispersionNumber, type UnitSystem } from '../units/scales.ts';
@@ -30,6 +31,9 @@ export interface JobContext {
 
 /** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
 export const EDGE_DECAY = 1e-6;
+/** a spectral tail above this (relative amplitude at the top of the grid's band) means the sampled potential is not
+ * the potential asked for: relative errors of 0.1 % or more everywhere downstream (common practice) */
+export const UNRESOLVED_TAIL = 1e-3;
 /** sample x positions must match the config's box to this fraction of a grid step */
 export const SAMPLE_GRID_MATCH = 1e-6;
 
@@ -96,6 +100,26 @@ function checkCentresInBox(config: Config): void {
   }
 }
 
+/** what to change when the grid does not resolve the potential (exit 1: the result would be meaningless) */
+export function resolutionAdvice(config: Config, units: UnitSystem, initial: boolean): string {
+  const g = config.grid;
+  const widthKey = initial && config.initial.kind === 'sech2' ? `, or widen initial.width (${config.initial.width} ${units.labels.length})` : '';
+  return `the grid spacing is ${(g.length / g.points).toPrecision(3)} ${units.labels.length} (grid.length ${g.length} / grid.points ${g.points}): raise grid.points or shorten grid.length${widthKey}`;
+}
+
+/** refuse an initial potential that the grid does not resolve (spectral indicators of flow/kdv.ts) */
+function requireResolved(config: Config, units: UnitSystem, grid: Grid, u0: Float64Array): void {
+  const eq = naturalFlowEquation(config.flow.dispersion, units.lengthToNatural(config.flow.drift));
+  const { discardedTail, tail } = spectralResolution(grid, eq, u0);
+  const worst = Math.max(discardedTail, tail);
+  if (worst > UNRESOLVED_TAIL) {
+    throw new NumericalError(
+      `the grid does not resolve the initial potential of ${config.meta.source}: its spectral tail is ${worst.toExponential(2)} (> ${UNRESOLVED_TAIL}), ` +
+        `so any sequence computed on it would be wrong; ${resolutionAdvice(config, units, true)}`,
+    );
+  }
+}
+
 export function makeContext(config: Config): JobContext {
   checkCentresInBox(config);
   const units = unitSystemOf(config.units);
@@ -116,6 +140,7 @@ export function makeContext(config: Config): JobContext {
   }
   const { depth, width } = wellScale(grid, u0);
   if (!(depth > 0)) throw new UserError(`the initial potential has no well (its minimum is ${units.energyFromNatural(-depth)} ${units.labels.energy} ≥ 0): isotrap designs traps, so at least one value must be negative`);
+  requireResolved(config, units, grid, u0);
   const delta2 = Number.isFinite(width) ? dispersionNumber(depth, width) : NaN;
   const speciesLabel = config.units.system === 'lab' ? config.units.label : null;
   const xUser = grid.x.map((xi) => units.lengthFromNatural(xi));

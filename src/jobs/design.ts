@@ -13,7 +13,8 @@ import { boundStates, spectrumTrack, type BoundStates, type SpectrumTrack } from
 import { solitonFromBoundState } from '../flow/solitons.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
-import { frameLambdas, makeContext, type JobContext } from './context.ts';
+import { frameLambdas, makeContext, resolutionAdvice, UNRESOLVED_TAIL, type JobContext } from './context.ts';
+import { NumericalError } from '../core/errors.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 import { configIdentity, writeRun, type RunFolder } from '../io/run-folder.ts';
 export type { DesignSummary, SolitonPrediction };
@@ -78,6 +79,11 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
   const frames = frameLambdas(flowCfg);
   const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress });
+  if (!run.breaking && run.tail > UNRESOLVED_TAIL) {
+    throw new NumericalError(
+      `the grid does not resolve the designed sequence: the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${UNRESOLVED_TAIL}) at λ = ${flowCfg.lambda_end}; ${resolutionAdvice(config, units, false)}`,
+    );
+  }
   const warnings = [...ctx.warnings];
 
   const bound = boundStates(grid, u0);

@@ -11,11 +11,12 @@ import { UserError } from '../core/errors.ts';
 import { stringify } from 'yaml';
 import type { SummaryRow } from '../io/formats/read.ts';
 import { readCheckFile } from '../io/formats/check.ts';
+import { checkRequestText } from './check.ts';
 import { readNpyFile } from '../io/formats/read.ts';
 import { readSequenceFile, type SequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile, type VerifyFile } from '../io/formats/verify.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
-import { requireOneConfig } from '../io/run-folder.ts';
+import { requireOneConfig, verifiedEntries, writeRun, type ManifestEntry } from '../io/run-folder.ts';
 import { toJson } from './design.ts';
 import { renderReport, type ReportFigure } from '../report/index.ts';
 import { designFigures, designSummaryRows, labTimeMap, type FrameArray } from '../report/panels/design.ts';
@@ -59,22 +60,34 @@ interface OutputFolder {
   potential: FrameArray;
   verify: VerifyFile | null;
   traces: FrameArray | null;
+  sources: Sources;
+}
+
+/** the files a report renders and the manifest entries they had when read */
+interface Sources {
+  names: string[];
+  entries: ManifestEntry[];
+}
+
+/** read the manifest entries of `names`, all of one configuration (io/run-folder.ts) */
+function readSources(dir: string, names: string[]): Sources {
+  return { names, entries: requireOneConfig(dir, names) };
 }
 
 function readFolder(dir: string): OutputFolder {
   const hasVerify = existsSync(join(dir, 'verify.json'));
   // every file read must be the one its run recorded, and all of one configuration (io/run-folder.ts)
-  requireOneConfig(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : [])].filter((f) => existsSync(join(dir, f))));
+  const sources = readSources(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : [])].filter((f) => existsSync(join(dir, f))));
   const seq = readSequenceFile(join(dir, 'sequence.json'));
   const potential = readNpyFile(join(dir, 'potential.npy'));
-  if (!hasVerify) return { seq, potential, verify: null, traces: null };
+  if (!hasVerify) return { seq, potential, verify: null, traces: null, sources };
   const verify = readVerifyFile(join(dir, 'verify.json'));
   const file = verify.traces.file;
   if (basename(file) !== file || file.startsWith('.')) {
     throw new UserError(`${join(dir, 'verify.json')}: traces.file = ${JSON.stringify(file)} is not allowed: must name a file inside the folder`);
   }
   const tp = join(dir, file);
-  return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null };
+  return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null, sources };
 }
 
 function folderFigures(f: OutputFolder): ReportFigure[] {
@@ -118,30 +131,41 @@ function folderHtml(f: OutputFolder, figures: ReportFigure[], opts: ReportOption
 }
 
 /** the figures and page of a check folder (check.json, input.npy, repaired.npy) */
-function checkFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[]; html: string } {
+function checkFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[]; html: string; sources: Sources } {
+  const sources = readSources(dir, ['check.json', 'input.npy', 'repaired.npy']);
   const r = readCheckFile(join(dir, 'check.json'));
   const figures = checkFigures(r, readNpyFile(join(dir, 'input.npy')), readNpyFile(join(dir, 'repaired.npy')));
-  const configText = toJson({ input: r.input, sidecar: r.sidecar, tolerance: r.tolerance, units: r.units }, 2);
-  return { figures, html: pageHtml(`isotrap check: ${r.input}`, checkSummaryRows(r), figures, configText, opts.runSeconds ?? 0, r.warnings, opts) };
+  const configText = checkRequestText(r);
+  return { figures, html: pageHtml(`isotrap check: ${r.input}`, checkSummaryRows(r), figures, configText, opts.runSeconds ?? 0, r.warnings, opts), sources };
 }
 
-/** Render all figures of an output folder (design/verify or check) into DIR/*.svg and DIR/report.html; returns the files written. */
+/**
+ * Render all figures of an output folder (design/verify or check) into DIR/*.svg and DIR/report.html as one
+ * commit of the rendered run (io/run-folder.ts); under the folder's lock the sources are checked again, so a run
+ * that committed while the report was being rendered is never mixed with it. Returns the files written.
+ */
 export function renderFolder(dir: string, opts: ReportOptions): string[] {
   let figures: ReportFigure[];
   let html: () => string;
+  let sources: Sources;
   if (!existsSync(join(dir, 'sequence.json')) && existsSync(join(dir, 'check.json'))) {
     const c = checkFolder(dir, opts);
     figures = c.figures;
     html = () => c.html;
+    sources = c.sources;
   } else {
     const folder = readFolder(dir);
     figures = folderFigures(folder);
     html = () => folderHtml(folder, figures, opts);
+    sources = folder.sources;
   }
-  prepareOutputDir(dir, { force: opts.force, produces: [...figures.map((f) => `${f.id}.svg`), 'report.html'] });
-  const written = writeSvgs(figures, dir);
-  const hp = join(dir, 'report.html');
-  writeFileAtomic(hp, html());
-  written.push(hp);
-  return written;
+  const first = sources.entries[0];
+  const produces = [...figures.map((f) => `${f.id}.svg`), 'report.html'];
+  return writeRun(dir, { force: opts.force, produces, job: 'report', identity: { run: first.run, configHash: first.config_hash } }, (out) => {
+    const now = verifiedEntries(dir, sources.names);
+    const changed = sources.names.filter((_, i) => now[i].sha256 !== sources.entries[i].sha256);
+    if (changed.length > 0) throw new UserError(`${changed.map((n) => join(dir, n)).join(', ')} changed while the report was rendered (another run committed): run isotrap report ${dir} again`);
+    for (const f of figures) out.write(`${f.id}.svg`, f.svg);
+    out.write('report.html', html());
+  });
 }

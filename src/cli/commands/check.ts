@@ -1,7 +1,8 @@
 /** `isotrap check <sequence>`: admissibility of a potential sequence from elsewhere. */
 import { basename, dirname, extname, join } from 'node:path';
 import { UserError } from '../../core/errors.ts';
-import { checkExitCode, runCheckParallel, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
+import { checkOutputDir } from '../../io/files.ts';
+import { CHECK_FILES, checkExitCode, runCheckParallel, writeCheckOutputs, type CheckReport } from '../../jobs/check.ts';
 import { toJson } from '../../jobs/design.ts';
 import { isRampKind, RAMP_KINDS } from '../../protocol/ramp.ts';
 import { numberOption, type CommonOptions } from '../options.ts';
@@ -70,6 +71,8 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
 }
 
 export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
+  const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
+  checkOutputDir(dir, { force: opts.force ?? false, produces: CHECK_FILES }); // refuse before computing
   const progress = makeProgress('check', opts.quiet ?? false);
   const result = await runCheckParallel({
     input,
@@ -86,7 +89,6 @@ export async function checkCommand(input: string, opts: CheckCliOptions): Promis
     onProgress: (done, total) => progress.update(done / total),
   });
   progress.stop();
-  const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
   const files = writeCheckOutputs(result, dir, opts.force ?? false);
   const r = result.report;
   if (opts.json) process.stdout.write(toJson(r, 2) + '\n');
