@@ -5,6 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { encodeNpy } from '../src/io/npy.ts';
 import { parseConfig } from '../src/io/config.ts';
 import { runDesign } from '../src/jobs/design.ts';
+import { userErrorOf } from './user-error.ts';
 
 const cfg = (initial: string, flow = 'flow: { dispersion: quantum, lambda_end: 0.05, frames: 2, tolerance: 1e-8 }', grid = 'grid: { length: 40, points: 512 }') =>
   parseConfig(`name: t\n${grid}\ninitial: ${initial}\n${flow}\n`, 'test.yaml', '.');
@@ -68,5 +69,15 @@ describe('well centres outside the box', () => {
     const run = (initial: string) => () => runDesign(cfg(initial));
     expect(run('{ kind: sech2, depth: 6, width: 1, center: 1000000 }')).toThrow('test.yaml: initial.center = 1000000 is not allowed: must lie inside the box, −20 … 20 (± grid.length/2)');
     expect(run('{ kind: solitons, solitons: [{ kappa: 1, center: 0 }, { kappa: 2, center: -21 }] }')).toThrow(/initial\.solitons\[1\]\.center = -21 is not allowed/);
+  });
+});
+
+describe('initial potentials that are not traps in the box', () => {
+  it('a well wider than the box (flat at the edges) and a well narrower than any sample are refused naming their keys', () => {
+    // bound states are counted below V = 0, the value far from the wells (physics.md §3): a potential that keeps its
+    // depth at the box edge has no such reference, and a well that falls between samples is not on the grid at all
+    const run = (initial: string) => () => runDesign(cfg(initial));
+    expect(userErrorOf(run('{ kind: sech2, depth: 6, width: 1e300, center: 0 }'))).toMatch(/test\.yaml: the initial potential is 1\.00 of its extremum at the box edge.*initial\.width 1e\+300, grid\.length 40/);
+    expect(userErrorOf(run('{ kind: sech2, depth: 6, width: 1e-300, center: 0.01 }'))).toMatch(/test\.yaml: the initial potential has no well on the grid.*initial\.depth 6, initial\.width 1e-300/);
   });
 });

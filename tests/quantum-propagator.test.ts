@@ -197,6 +197,15 @@ describe('global error control: converged to its budget or refused', () => {
     const r = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-8, errorControl: 'global' });
     expect(r.stats.estimatedAmplitudeError).toBeLessThanOrEqual(Math.sqrt(1e-8));
   });
+  it('accepts levels that agree to round-off (a static free particle: H = k², integrated in closed form)', () => {
+    // u = 0 and λ̇ = 0: every level gives exp(−ik²T) ψ̂ to round-off (the exact k-diagonal part of etd4, physics.md
+    // §8), so no convergence ratio is measurable; the propagation must still end at once, not run to the cap
+    const zero = (_tau: number, out: Float64Array): void => { out.fill(0); };
+    const still = makeRamp('sin2', 1, 0);
+    const r = propagate(kdvDrive(g, zero, still, 1), init, 0, 1, { tol: 1e-8, errorControl: 'global' });
+    expect(r.stats.levels).toEqual([64, 128]);
+    expect(r.stats.estimatedAmplitudeError).toBeLessThan(1e-12);
+  });
   it('refuses with a NumericalError when the level cap comes first', () => {
     expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(NumericalError);
     expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(/did not reach its time-stepping budget/);

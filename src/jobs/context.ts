@@ -31,6 +31,9 @@ export interface JobContext {
 
 /** a potential is "decayed" at the box edge when it is below this fraction of its extremum (common practice) */
 export const EDGE_DECAY = 1e-6;
+/** at or above this fraction of its extremum at the box edge the potential is not a trap in the box: energies are
+ *  measured from V = 0 far from the wells (bound states lie below 0), so a level floor there is refused */
+export const EDGE_REFUSE = 0.5;
 /** a spectral tail above this (relative amplitude at the top of the grid's band) means the sampled potential is not
  * the potential asked for: relative errors of 0.1 % or more everywhere downstream (common practice) */
 export const UNRESOLVED_TAIL = 1e-3;
@@ -100,6 +103,21 @@ function checkCentresInBox(config: Config): void {
   }
 }
 
+/** the keys that shape the initial potential, with their values, for messages */
+function initialKeys(config: Config): string {
+  const init = config.initial;
+  switch (init.kind) {
+    case 'sech2':
+      return `initial.depth ${init.depth}, initial.width ${init.width}`;
+    case 'wells':
+      return init.wells.map((w, i) => `initial.wells[${i}].depth ${w.depth}, .width ${w.width}`).join('; ');
+    case 'solitons':
+      return init.solitons.map((w, i) => `initial.solitons[${i}].kappa ${w.kappa}`).join(', ');
+    case 'samples':
+      return `initial.file ${init.file}`;
+  }
+}
+
 /** what to change when the grid does not resolve the potential (exit 1: the result would be meaningless) */
 export function resolutionAdvice(config: Config, units: UnitSystem, initial: boolean): string {
   const g = config.grid;
@@ -132,6 +150,12 @@ export function makeContext(config: Config): JobContext {
     peak = Math.max(peak, Math.abs(v));
   }
   const edge = Math.max(Math.abs(u0[0]), Math.abs(u0[u0.length - 1]));
+  if (peak > 0 && edge >= EDGE_REFUSE * peak) {
+    throw new UserError(
+      `${config.meta.source}: the initial potential is ${(edge / peak).toPrecision(3)} of its extremum at the box edge: it does not decay inside the box ` +
+        `(${initialKeys(config)}, grid.length ${config.grid.length}); isotrap measures energies from V = 0 far from the wells, so widen the box, narrow the wells, or shift sampled values so V → 0 at the edges`,
+    );
+  }
   if (peak > 0 && edge > EDGE_DECAY * peak) {
     warnings.push(
       `the initial potential is ${(edge / peak).toExponential(1)} of its extremum at the box edge (> ${EDGE_DECAY}): ` +
@@ -139,7 +163,7 @@ export function makeContext(config: Config): JobContext {
     );
   }
   const { depth, width } = wellScale(grid, u0);
-  if (!(depth > 0)) throw new UserError(`the initial potential has no well (its minimum is ${units.energyFromNatural(-depth)} ${units.labels.energy} ≥ 0): isotrap designs traps, so at least one value must be negative`);
+  if (!(depth > 0)) throw new UserError(`${config.meta.source}: the initial potential has no well on the grid (its minimum is ${units.energyFromNatural(-depth)} ${units.labels.energy} ≥ 0; ${initialKeys(config)}): isotrap designs traps, so at least one sampled value must be negative`);
   requireResolved(config, units, grid, u0);
   const delta2 = Number.isFinite(width) ? dispersionNumber(depth, width) : NaN;
   const speciesLabel = config.units.system === 'lab' ? config.units.label : null;

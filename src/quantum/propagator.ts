@@ -43,6 +43,10 @@ const KRYLOV_TOL_FLOOR = 1e-13;
 const GLOBAL_INITIAL_STEPS = 64;
 const GLOBAL_MAX_STEPS = 1 << 16;
 const GLOBAL_MIN_RATIO = 2;
+/** two successive levels whose states agree to this relative amplitude agree to round-off (a few hundred FFTs of
+ *  unit vectors, as KRYLOV_TOL_FLOOR): no ratio is measurable and the finer level is accepted with that difference
+ *  as its error (common practice) */
+const GLOBAL_ROUNDOFF_AGREEMENT = 1e-12;
 /** predicted next level: margin on the predicted count, and the smallest growth (keeps f^p − 1 well conditioned) */
 const GLOBAL_MARGIN = 1.2;
 const GLOBAL_MIN_GROWTH = 1.25;
@@ -222,8 +226,8 @@ export class Propagator {
         let d = 0;
         for (let i = 0; i < res.states.length; i++) d = Math.max(d, perpendicularDifference(prev.states[i], res.states[i]) / norm2(initial[i]));
         if (!Number.isFinite(d)) throw new NumericalError(`Schrödinger propagation produced non-finite states at ${n} steps`);
-        if (d === 0) {
-          estimate = 0;
+        if (d <= GLOBAL_ROUNDOFF_AGREEMENT) {
+          estimate = d;
           accept = true;
         } else if (ratio === 2 && levels.length >= 3 && levels[levels.length - 2] === 2 * levels[levels.length - 3]) {
           // two doublings in a row: ρ = d_{k−1}/d_k, error of the finest level ≈ d_k/(ρ − 1); update the order
