@@ -4,6 +4,7 @@ import { UserError } from '../src/core/errors.ts';
 import { parseCompareConfig } from '../src/io/config-compare.ts';
 import { runCompare, withQuantumDrives } from '../src/jobs/compare.ts';
 import { toJson } from '../src/jobs/design.ts';
+import { compareFigures } from '../src/report/panels/compare.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 
 const sech2 = (z: number) => 1 / Math.cosh(z) ** 2;
@@ -114,6 +115,20 @@ describe('runCompare (src/jobs/compare.ts)', () => {
     const uc = new Float64Array(r.ctx.grid.n);
     r.classicalAt(0, uc);
     expect(Math.max(...uc.map((v, j) => Math.abs(v - r.ctx.u0[j])))).toBeLessThan(1e-12);
+  });
+
+  it('draws both sequences in one x window around the trap, inside the box, and says so', () => {
+    // the trap −2 sech²(x/1.5) lives within a few widths of 0; the box is 40 long (src/report/crop.ts)
+    const maps = compareFigures(s).filter((f) => f.id === 'compare-quantum' || f.id === 'compare-classical');
+    expect(maps).toHaveLength(2);
+    for (const m of maps) {
+      const [, lo, hi] = /x cropped to (\S+) … (\S+) /.exec(m.caption)!.map(Number);
+      expect(lo).toBeGreaterThan(-20);
+      expect(hi).toBeLessThan(20);
+      expect(lo).toBeLessThan(-2 * width);
+      expect(hi).toBeGreaterThan(2 * width);
+      expect(m.caption).toContain('the box is -20 … 20');
+    }
   });
 
   it('rejects bad compare keys with a message naming key, value and what is allowed', () => {

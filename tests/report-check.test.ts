@@ -36,6 +36,8 @@ describe('report of a check folder', () => {
     const text = html.body.textContent ?? '';
     expect(text).toContain('NOT admissible');
     expect(text).toMatch(/intervals 2–3 \(frames 2–4\)/);
+    // both maps share one x window around the solitons, inside the box of 40 ℓ (src/report/crop.ts)
+    expect(text).toMatch(/same colour scale and x window in both maps\)\. x cropped to .*; the box is -20 … 20 ℓ\./);
     // re-rendering refuses to overwrite without force (the folder's own rule for every output)
     expect(() => renderFolder(out, { force: false, toolVersion: 'test' })).toThrow(/already exist/);
     // a check file changed after its run (here repaired.npy from another tool) is refused, not rendered

@@ -2,7 +2,8 @@ import { createHash } from 'node:crypto';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { describe, expect, it, vi } from 'vitest';
+import { main } from '../src/cli/main.ts';
 import { parseConfig } from '../src/io/config.ts';
 import { configIdentity, MANIFEST_FILE } from '../src/io/run-folder.ts';
 import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
@@ -23,9 +24,17 @@ function folder(): { dir: string; config: ReturnType<typeof parseConfig> } {
 }
 
 describe('report renders only whole, consistent runs', () => {
-  it('refuses a folder whose verify comes from another configuration, and a file changed after its run', () => {
+  it('refuses a folder whose verify comes from another configuration, and a file changed after its run', async () => {
     const { dir, config } = folder();
     expect(renderFolder(dir, { force: false, toolVersion: 'test' }).length).toBeGreaterThan(3);
+    // `isotrap report DIR --figures slides` re-renders every figure as a 254 mm slide panel (style.ts)
+    const out = vi.spyOn(process.stdout, 'write').mockImplementation(() => true);
+    try {
+      expect(await main(['node', 'isotrap', 'report', dir, '--force', '--figures', 'slides'])).toBe(0);
+    } finally {
+      out.mockRestore();
+    }
+    for (const f of ['spacetime.svg', 'excess.svg', 'fidelity.svg']) expect(readFileSync(join(dir, f), 'utf8')).toMatch(/^<svg[^>]* data-figure-size="slides"[^>]* width="254mm"/);
     // the same verify written again under another configuration's identity
     const other = parseConfig(CONFIG.replace('duration: 0.4', 'duration: 0.5'), 'other.yaml', dir);
     writeVerifyOutputs(runVerify(other, runDesign(config), { traceSamples: 2 }), dir, true, configIdentity(other));

@@ -63,14 +63,15 @@ export function parsePath(d: string): number[][][] {
   return subs;
 }
 
-/** Numeric value of a tick label as shown: U+2212 minus, and "10" followed by a superscript tspan = 10^e. */
+/** Numeric value of a tick label as shown: U+2212 minus, and "10" (or "−10") followed by a superscript tspan = ±10^e. */
 export function tickLabelValue(text: Element): number {
   const tspans = text.getElementsByTagName('tspan');
   const minus = (s: string): string => s.replace(/\u2212/g, '-').trim();
   if (tspans.length === 1) {
-    const base = minus(text.firstChild?.nodeValue ?? '');
+    // "−10" with a superscript e is −(10^e)
+    const base = Number(minus(text.firstChild?.nodeValue ?? ''));
     const exp = Number(minus(tspans[0].textContent ?? ''));
-    return Math.pow(Number(base), exp);
+    return Math.sign(base) * Math.pow(Math.abs(base), exp);
   }
   return Number(minus(text.textContent ?? ''));
 }

@@ -12,7 +12,7 @@ import { latticeCommand } from './commands/lattice.ts';
 import { reportCommand } from './commands/report.ts';
 import { runCommand } from './commands/run.ts';
 import { verifyCommand } from './commands/verify.ts';
-import { version, type CommonOptions } from './options.ts';
+import { FIGURES_HELP, version, type CommonOptions } from './options.ts';
 
 /** the check command's options */
 function checkProgram(program: Command, exit: (code: number) => void): void {
@@ -57,9 +57,9 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     common(program.command(name).argument('<config>', argument).description(description)).action(async (config: string, opts: CommonOptions) => handlers.exit(await run(config, opts)));
   scenarioCommand('design', 'integrate the KdV (or Hopf) flow from the configured trap', 'YAML scenario', designCommand);
   scenarioCommand('verify', 'Schrödinger proof: eigenstates, thermal ensembles and Fermi seas with and without the cubic correction', 'YAML scenario with protocol (and verify) sections', verifyCommand);
-  scenarioCommand('run', 'design → verify → report into one output folder', 'YAML scenario', runCommand);
-  scenarioCommand('lattice', 'tight-binding realisation of the design: on-site energies, tunnellings and Peierls couplings, verified on the lattice', 'YAML scenario with a lattice section', latticeCommand);
-  scenarioCommand('compare', 'quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check', 'YAML scenario', compareCommand);
+  scenarioCommand('run', 'design → verify → report into one output folder', 'YAML scenario', runCommand).option('--figures <size>', FIGURES_HELP);
+  scenarioCommand('lattice', 'tight-binding realisation of the design: on-site energies, tunnellings and Peierls couplings, verified on the lattice', 'YAML scenario with a lattice section', latticeCommand).option('--figures <size>', FIGURES_HELP);
+  scenarioCommand('compare', 'quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check', 'YAML scenario', compareCommand).option('--figures <size>', FIGURES_HELP);
   checkProgram(program, handlers.exit);
   program
     .command('report')
@@ -67,6 +67,7 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .description('re-render the figures and report.html of an output folder without recomputing')
     .option('--force', 'overwrite figures already there')
     .option('--json', 'print the written files as JSON')
+    .option('--figures <size>', FIGURES_HELP)
     .action(async (dir: string, opts: CommonOptions) => handlers.exit(await reportCommand(dir, opts)));
   return program;
 }

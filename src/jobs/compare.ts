@@ -35,6 +35,7 @@ import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { driveWithCorrection } from '../quantum/correction.ts';
 import { scalesText, toJson } from './design.ts';
 import { compareFigures, writeFigures } from './report.ts';
+import type { FigureSize } from '../report/style.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
 import { writeRun, type RunIdentity } from '../io/run-folder.ts';
@@ -353,6 +354,6 @@ export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions
 }
 
 /** Write the compare figures (jobs/report.ts) into dir; returns the paths written. */
-export function writeCompareFigures(summary: CompareSummary, dir: string, force: boolean): string[] {
-  return writeFigures(compareFigures(summary), dir, force);
+export function writeCompareFigures(summary: CompareSummary, dir: string, force: boolean, size: FigureSize = 'paper'): string[] {
+  return writeFigures(compareFigures(summary, size), dir, force);
 }

@@ -17,8 +17,7 @@ import { readSequenceFile, type SequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile, type VerifyFile } from '../io/formats/verify.ts';
 import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { requireOneConfig, verifiedEntries, writeRun, type ManifestEntry } from '../io/run-folder.ts';
-import { toJson } from './design.ts';
-import { renderReport, type ReportFigure } from '../report/index.ts';
+import { renderReport, type FigureSize, type ReportFigure } from '../report/index.ts';
 import { designFigures, designSummaryRows, labTimeMap, type FrameArray } from '../report/panels/design.ts';
 import { latticeFigures } from '../report/panels/lattice.ts';
 import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
@@ -44,14 +43,16 @@ export function writeFigures(figures: ReportFigure[], dir: string, force: boolea
 }
 
 /** write the lattice figures into dir (atomically; refuses to overwrite without force) */
-export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean): string[] {
-  return writeFigures(latticeFigures(result.summary, result.tables), dir, force);
+export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean, size: FigureSize = 'paper'): string[] {
+  return writeFigures(latticeFigures(result.summary, result.tables, size), dir, force);
 }
 
 export interface ReportOptions {
   force: boolean;
   runSeconds?: number;
   toolVersion: string;
+  /** figure size (report/style.ts): paper (default) or slides */
+  figures?: FigureSize;
 }
 
 /** the files of a finished output folder that the report reads */
@@ -90,12 +91,12 @@ function readFolder(dir: string): OutputFolder {
   return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null, sources };
 }
 
-function folderFigures(f: OutputFolder): ReportFigure[] {
-  const figures = designFigures(f.seq, f.potential);
+function folderFigures(f: OutputFolder, size: FigureSize): ReportFigure[] {
+  const figures = designFigures(f.seq, f.potential, size);
   if (f.verify) {
-    const lab = labTimeMap(f.seq, f.potential, f.verify);
+    const lab = labTimeMap(f.seq, f.potential, f.verify, size);
     if (lab) figures.push(lab);
-    figures.push(...verifyFigures(f.verify, f.traces));
+    figures.push(...verifyFigures(f.verify, f.traces, size));
   }
   return figures;
 }
@@ -134,7 +135,7 @@ function folderHtml(f: OutputFolder, figures: ReportFigure[], opts: ReportOption
 function checkFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[]; html: string; sources: Sources } {
   const sources = readSources(dir, ['check.json', 'input.npy', 'repaired.npy']);
   const r = readCheckFile(join(dir, 'check.json'));
-  const figures = checkFigures(r, readNpyFile(join(dir, 'input.npy')), readNpyFile(join(dir, 'repaired.npy')));
+  const figures = checkFigures(r, readNpyFile(join(dir, 'input.npy')), readNpyFile(join(dir, 'repaired.npy')), opts.figures);
   const configText = checkRequestText(r);
   return { figures, html: pageHtml(`isotrap check: ${r.input}`, checkSummaryRows(r), figures, configText, opts.runSeconds ?? 0, r.warnings, opts), sources };
 }
@@ -155,7 +156,7 @@ export function renderFolder(dir: string, opts: ReportOptions): string[] {
     sources = c.sources;
   } else {
     const folder = readFolder(dir);
-    figures = folderFigures(folder);
+    figures = folderFigures(folder, opts.figures ?? 'paper');
     html = () => folderHtml(folder, figures, opts);
     sources = folder.sources;
   }

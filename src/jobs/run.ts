@@ -6,6 +6,7 @@ import { AcceptanceFailure } from '../core/errors.ts';
 import type { Config } from '../io/config.ts';
 import { checkOutputDir } from '../io/files.ts';
 import { configIdentity } from '../io/run-folder.ts';
+import type { FigureSize } from '../report/style.ts';
 import { DESIGN_FILES, runDesign, writeDesignOutputs, type DesignResult } from './design.ts';
 import { renderFolder } from './report.ts';
 import { runVerify, VERIFY_FILES, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
@@ -18,6 +19,8 @@ export interface PipelineOptions {
   report: boolean;
   /** recorded in the report's provenance */
   toolVersion: string;
+  /** figure size of the report (report/style.ts): paper (default) or slides */
+  figures?: FigureSize;
   onProgress?: (stage: 'design' | 'verify', fraction: number) => void;
 }
 
@@ -41,6 +44,6 @@ export function runPipeline(config: Config, opts: PipelineOptions): PipelineResu
   }
   const verify = runVerify(config, design, { onProgress: (f) => progress('verify', f) });
   const files = [...writeDesignOutputs(design, opts.dir, opts.force, identity), ...writeVerifyOutputs(verify, opts.dir, opts.force, identity)];
-  if (opts.report) files.push(...renderFolder(opts.dir, { force: opts.force, toolVersion: opts.toolVersion, runSeconds: (performance.now() - started) / 1000 }));
+  if (opts.report) files.push(...renderFolder(opts.dir, { force: opts.force, toolVersion: opts.toolVersion, runSeconds: (performance.now() - started) / 1000, figures: opts.figures }));
   return { design, verify, files };
 }

@@ -2,13 +2,18 @@
  * Grouped bar chart primitive as a standalone SVG string (conventions in report/index.ts).
  */
 import type { ContinuousScale, D3Selection } from 'd3-node';
-import { checkHeight, checkLabel, checkWidth, drawFrame, drawTitle, finishBelow, linearDomain, logDomain, makeYScale, titleHeight } from './chart-frame.ts';
+import { checkLabel, checkWidth, drawFrame, drawTitle, figureCanvas, finishBelow, linearDomain, logDomain, makeYScale, titleHeight } from './chart-frame.ts';
 import type { LegendEntry } from './legend.ts';
-import { FONT_PT, STROKE, type FigureWidth, estimateTextWidthPx, figureWidthMm, mmToPx, ptToPx, seriesColor } from './style.ts';
-import { type PlotRect, addText, bottomAxisHeight, createCanvas, dataNum, drawAxis, idRef, linearTicks, logTicks, px, sideAxisWidth, sideLabelOffset } from './svg.ts';
+import { FONT_PT, STROKE, type FigureSize, type FigureWidth, estimateTextWidthPx, ptToPx, seriesColor } from './style.ts';
+import { type Canvas, type PlotRect, addText, bottomAxisHeight, dataNum, drawAxis, idRef, linearTicks, logTicks, px, sideAxisWidth, sideLabelOffset, symlogTicks } from './svg.ts';
 
 /** Factor between the smallest positive bar and the bottom of a log axis (≈ 0.5 decade, common practice). */
 const BAR_LOG_HEADROOM = 3;
+/**
+ * A symmetric-log axis reaches at most this many decades below its largest |value|: smaller values are below
+ * double-precision round-off (2.2e-16) relative to it.
+ */
+const SYMLOG_MAX_DECADES = 16;
 /** Hatch directions (degrees) per series index so bars also differ in greyscale; null = plain fill. */
 const HATCH_ANGLES: readonly (number | null)[] = [null, 45, -45, 0, 90, 22.5, -67.5, 67.5];
 /** rotation of group labels that do not fit their band, degrees */
@@ -28,9 +33,16 @@ export interface BarChartOptions {
   yLabel: string;
   groups: BarGroup[];
   logY?: boolean;
+  /**
+   * Symmetric-log y axis with this linear threshold c (a power of ten, e.g. from symlogConstant): bars keep
+   * their sign (below the zero line when negative), linear for |value| < c, logarithmic beyond.
+   */
+  symlogY?: number;
   width?: FigureWidth;
   annotations?: string[];
   heightMm?: number;
+  /** paper (default) or slides (style.ts) */
+  size?: FigureSize;
 }
 
 /** argument checks of barChart (RangeError: a caller's mistake); returns the value names in first-seen order */
@@ -38,6 +50,10 @@ function checkBarOptions(opts: BarChartOptions): { width: FigureWidth; xLabel: s
   const width = checkWidth('barChart.width', opts.width ?? 'single');
   const xLabel = checkLabel('barChart.xLabel', opts.xLabel);
   const yLabel = checkLabel('barChart.yLabel', opts.yLabel);
+  const k = opts.symlogY;
+  if (k !== undefined && (opts.logY === true || !(k > 0 && Number.isFinite(k)))) {
+    throw new RangeError(`barChart.symlogY must be a positive finite threshold and excludes logY, got ${JSON.stringify(k)} (logY ${opts.logY === true})`);
+  }
   if (!Array.isArray(opts.groups) || opts.groups.length === 0) {
     throw new RangeError(`barChart.groups must be a non-empty list, got ${JSON.stringify(opts.groups?.length ?? opts.groups)}`);
   }
@@ -50,6 +66,31 @@ function checkBarOptions(opts: BarChartOptions): { width: FigureWidth; xLabel: s
     }
   }
   return { width, xLabel, yLabel, names };
+}
+
+/**
+ * Linear threshold c of a symmetric-log axis for these values: the power of ten at or below the smallest
+ * non-zero |value|, but at most SYMLOG_MAX_DECADES below the largest (1 when no value is finite and non-zero).
+ */
+export function symlogConstant(values: readonly number[]): number {
+  const mags = values.filter((v) => Number.isFinite(v) && v !== 0).map(Math.abs);
+  if (mags.length === 0) return 1;
+  const top = Math.ceil(Math.log10(Math.max(...mags)) - 1e-9);
+  const bottom = Math.floor(Math.log10(Math.min(...mags)) + 1e-9);
+  return Number(`1e${Math.max(bottom, top - SYMLOG_MAX_DECADES)}`); // exact decimal power of ten
+}
+
+/**
+ * Symmetric-log scale y = sign(v)·log(1 + |v|/c) (the bi-symmetric log transform: Webber, Meas. Sci. Technol. 24,
+ * 027001 (2013); d3-scale's scaleSymlog) on a domain widened to whole decades c·10^k on each side that has data.
+ */
+function symlogScale(c: Canvas, groups: readonly BarGroup[], k: number, range: [number, number]): ContinuousScale {
+  let lo = 0;
+  let hi = 0;
+  for (const g of groups) for (const v of g.values) if (Number.isFinite(v.value)) [lo, hi] = [Math.min(lo, v.value), Math.max(hi, v.value)];
+  const decadeEnd = (m: number): number => (m > 0 ? Math.max(k, Math.pow(10, Math.ceil(Math.log10(m) - 1e-9))) : 0);
+  const dom: [number, number] = lo === 0 && hi === 0 ? [-k, k] : [-decadeEnd(-lo), decadeEnd(hi)];
+  return c.d3.scaleSymlog().constant(k).domain(dom).range(range);
 }
 
 /** y domain: includes zero on a linear axis; on a log axis leaves BAR_LOG_HEADROOM below the smallest bar */
@@ -148,8 +189,9 @@ function drawGroup(xAxis: D3Selection, bars: D3Selection, g: BarGroup, gi: numbe
 
 /**
  * Grouped bar chart: one group per label along x, one bar per value name inside each group (Okabe–Ito colour
- * plus hatch per name). Linear axes include zero; on a log axis bars start at the bottom of the axis and values
- * ≤ 0 or non-finite are not drawn but listed as <g class="bar-missing" data-reason=…>. Each bar <rect> carries
+ * plus hatch per name). Linear and symmetric-log axes include zero and bars keep their sign; on a log axis bars
+ * start at the bottom of the axis and values ≤ 0 or non-finite are not drawn but listed as
+ * <g class="bar-missing" data-reason=…>. Each bar <rect> carries
  * data-group, data-series, data-value.
  */
 export function barChart(opts: BarChartOptions): string {
@@ -157,11 +199,11 @@ export function barChart(opts: BarChartOptions): string {
   const logY = opts.logY === true;
   const ok = logY ? (v: number): boolean => Number.isFinite(v) && v > 0 : (v: number): boolean => Number.isFinite(v);
   const dom = valueDomain(opts.groups, logY, ok);
+  const symC = opts.symlogY;
 
-  const W = mmToPx(figureWidthMm(width));
-  const H0 = mmToPx(checkHeight('barChart.heightMm', opts.heightMm, width));
-  const c = createCanvas(W, 'bar');
+  const { c, W, H0 } = figureCanvas('bar', 'barChart', width, opts.heightMm, opts.size);
   c.root.attr('data-series-count', String(names.length)).attr('data-group-count', String(opts.groups.length)).attr('data-log-y', String(logY));
+  if (symC !== undefined) c.root.attr('data-symlog-constant', dataNum(symC));
   const top = titleHeight(opts.title);
 
   // group labels are rotated when they do not fit their band
@@ -171,8 +213,8 @@ export function barChart(opts: BarChartOptions): string {
   const labelDrop = rotate ? maxLabelW * Math.sin((LABEL_ROTATION * Math.PI) / 180) + ptToPx(FONT_PT.tick) : ptToPx(FONT_PT.tick);
   const plotH = H0 - top - (bottomAxisHeight() - ptToPx(FONT_PT.tick) + labelDrop);
   if (plotH < 30) throw new RangeError(`barChart: group labels are too long for the figure height (longest ${JSON.stringify(opts.groups.find((g) => estimateTextWidthPx(g.label, FONT_PT.tick) === maxLabelW)?.label)})`);
-  const yScale = makeYScale(c, logY, dom, { left: 0, top, width: 1, height: plotH });
-  const yTicks = logY ? logTicks(yScale, plotH) : linearTicks(yScale, plotH);
+  const yScale = symC !== undefined ? symlogScale(c, opts.groups, symC, [top + plotH, top]) : makeYScale(c, logY, dom, { left: 0, top, width: 1, height: plotH });
+  const yTicks = symC !== undefined ? symlogTicks(yScale, symC) : logY ? logTicks(yScale, plotH) : linearTicks(yScale, plotH);
   const left = sideAxisWidth(yTicks) + 3;
   const plot: PlotRect = { left, top, width: W - left - 8, height: plotH };
 

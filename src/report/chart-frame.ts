@@ -5,8 +5,8 @@
  */
 import type { ContinuousScale, D3Selection } from 'd3-node';
 import { drawLegend, legendGridSize, type LegendEntry } from './legend.ts';
-import { FONT_PT, STROKE, type FigureWidth, defaultHeightMm, estimateTextWidthPx, ptToPx, seriesDash } from './style.ts';
-import { type Canvas, type PlotRect, addText, finish, idRef, px } from './svg.ts';
+import { FIGURE_SIZES, FONT_PT, STROKE, type FigureSize, type FigureWidth, defaultHeightMm, estimateTextWidthPx, figureLayoutPx, isFigureSize, ptToPx, seriesDash } from './style.ts';
+import { type Canvas, type PlotRect, addText, createCanvas, finish, idRef, px } from './svg.ts';
 
 /** Fraction of the y span added above and below the data in line charts (matplotlib's default is 5 %). */
 const Y_MARGIN = 0.04;
@@ -67,6 +67,18 @@ export function checkHeight(key: string, h: number | undefined, width: FigureWid
   if (h === undefined) return defaultHeightMm(width);
   if (!Number.isFinite(h) || h < 20 || h > 250) throw new RangeError(`${key} must be a number of mm in [20, 250], got ${h}`);
   return h;
+}
+
+/**
+ * The canvas of a figure after the checks of its size options: width W and plot-block height H0 in viewBox px
+ * (style.ts figureLayoutPx; heightMm is printed mm, the default is the size's own).
+ */
+export function figureCanvas(kind: string, key: string, width: FigureWidth, heightMm: number | undefined, size: FigureSize | undefined): { c: Canvas; W: number; H0: number } {
+  const s = size ?? 'paper';
+  if (!isFigureSize(s)) throw new RangeError(`${key}.size must be one of ${FIGURE_SIZES.join(', ')}, got ${JSON.stringify(s)}`);
+  const h = heightMm === undefined ? undefined : checkHeight(`${key}.heightMm`, heightMm, width);
+  const { widthPx, heightPx } = figureLayoutPx(s, width, h);
+  return { c: createCanvas(widthPx, kind, s), W: widthPx, H0: heightPx };
 }
 
 /** Padded domain for a range of finite values (lo ≤ hi), widened if degenerate; linear axes. */

@@ -27,6 +27,8 @@ declare module 'd3-node' {
   export interface D3Module {
     scaleLinear(): ContinuousScale;
     scaleLog(): ContinuousScale;
+    /** d3-scale's symmetric log: sign(v)·log1p(|v|/c) with linear threshold c = constant(c) */
+    scaleSymlog(): ContinuousScale & { constant(c: number): ContinuousScale };
     format(specifier: string): (value: number) => string;
     select(node: Element): D3Selection;
   }

@@ -7,12 +7,12 @@
  * many viewers), and parsing stays fast. Axes, labels, ticks and colour-bar labels remain vector.
  */
 import type { ContinuousScale, D3Selection } from 'd3-node';
-import { checkHeight, checkLabel, checkWidth, checkXY, clipGroup, drawFrame, drawTitle, finishBelow, titleHeight } from './chart-frame.ts';
+import { checkLabel, checkWidth, checkXY, clipGroup, drawFrame, drawTitle, figureCanvas, finishBelow, titleHeight } from './chart-frame.ts';
 import type { LegendEntry } from './legend.ts';
 import { buildPath, countUnplottable } from './path.ts';
 import { encodePngRgba, pngDataUri } from './png.ts';
-import { STROKE, type FigureWidth, figureWidthMm, mmToPx, seriesColor, seriesDash, viridisLut } from './style.ts';
-import { type Canvas, type PlotRect, type Tick, XLINK_NS, bottomAxisHeight, bottomLabelOffset, createCanvas, dataNum, drawAxis, linearTicks, px, sideAxisWidth, sideLabelOffset } from './svg.ts';
+import { STROKE, type FigureSize, type FigureWidth, seriesColor, seriesDash, viridisLut } from './style.ts';
+import { type Canvas, type PlotRect, type Tick, XLINK_NS, bottomAxisHeight, bottomLabelOffset, dataNum, drawAxis, linearTicks, px, sideAxisWidth, sideLabelOffset } from './svg.ts';
 
 /** Default heatmap cell cap (columns along x, rows along y); keeps files far below 2 MB (see module doc). */
 export const DEFAULT_MAX_CELLS = { x: 300, y: 200 } as const;
@@ -53,6 +53,8 @@ export interface HeatmapOptions {
   /** Colour-scale range; default: finite min/max of the displayed (averaged) cells. */
   zRange?: [number, number];
   heightMm?: number;
+  /** paper (default) or slides (style.ts) */
+  size?: FigureSize;
   annotations?: string[];
 }
 
@@ -279,9 +281,7 @@ export function heatmap(opts: HeatmapOptions): string {
   const lut = viridisLut(LUT_SIZE);
   const png = cellsPng(ba, zr.zlo, zr.zhi, lut);
 
-  const W = mmToPx(figureWidthMm(width));
-  const H0 = mmToPx(checkHeight('heatmap.heightMm', opts.heightMm, width));
-  const c = createCanvas(W, 'heatmap');
+  const { c, W, H0 } = figureCanvas('heatmap', 'heatmap', width, opts.heightMm, opts.size);
   const top = titleHeight(opts.title);
   const plotH = H0 - top - bottomAxisHeight();
   const xlo = opts.x[0] - dx / 2;

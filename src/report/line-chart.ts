@@ -3,7 +3,6 @@
  */
 import type { ContinuousScale, D3Selection } from 'd3-node';
 import {
-  checkHeight,
   checkLabel,
   checkWidth,
   checkXY,
@@ -11,6 +10,7 @@ import {
   drawAnnotations,
   drawFrame,
   drawTitle,
+  figureCanvas,
   linearDomain,
   logDomain,
   makeYScale,
@@ -20,13 +20,13 @@ import {
 } from './chart-frame.ts';
 import { drawLegend, legendBoxSize, legendGridSize, type LegendEntry } from './legend.ts';
 import { anySegmentHits, buildPath, countUnplottable } from './path.ts';
-import { STROKE, type FigureWidth, figureWidthMm, mmToPx, seriesColor } from './style.ts';
+import { STROKE, type FigureSize, type FigureWidth, seriesColor } from './style.ts';
 import {
   type Canvas,
   type PlotRect,
+  type Tick,
   bottomAxisHeight,
   bottomLabelOffset,
-  createCanvas,
   dataNum,
   drawAxis,
   finish,
@@ -62,10 +62,14 @@ export interface LineChartOptions {
   yLabel: string;
   series: LineSeries[];
   logY?: boolean;
+  /** logarithmic x axis (points with x ≤ 0 are not drawn) */
+  logX?: boolean;
   width: FigureWidth;
   annotations?: string[];
   /** Plot-block height in mm (legend outside / annotations add to it); default from style.ts. */
   heightMm?: number;
+  /** paper (default) or slides (style.ts) */
+  size?: FigureSize;
 }
 
 type Plottable = (xv: number, yv: number) => boolean;
@@ -96,16 +100,18 @@ function seriesExtent(series: readonly LineSeries[], plottable: Plottable): Exte
 }
 
 /** Plot rectangle, scales and ticks: y ticks first (their label widths set the left margin). */
-function layoutAxes(c: Canvas, e: Extent, logY: boolean, W: number, top: number, plotH: number) {
-  const yScale = makeYScale(c, logY, padDomain(logY ? logDomain(e.ymin, e.ymax) : linearDomain(e.ymin, e.ymax), logY), { left: 0, top, width: 1, height: plotH });
-  const yTicks = logY ? logTicks(yScale, plotH) : linearTicks(yScale, plotH);
+function layoutAxes(c: Canvas, e: Extent, log: { x: boolean; y: boolean }, W: number, top: number, plotH: number) {
+  const yScale = makeYScale(c, log.y, padDomain(log.y ? logDomain(e.ymin, e.ymax) : linearDomain(e.ymin, e.ymax), log.y), { left: 0, top, width: 1, height: plotH });
+  const yTicks = log.y ? logTicks(yScale, plotH) : linearTicks(yScale, plotH);
   const left = sideAxisWidth(yTicks) + 3;
-  const xScale0 = c.d3.scaleLinear().domain(linearDomain(e.xmin, e.xmax)).nice();
-  const lastXLabel = linearTicks(xScale0.range([0, W - left]), W - left).at(-1)?.label ?? '';
+  const xScaleOver = (from: number, to: number): ContinuousScale =>
+    (log.x ? c.d3.scaleLog().domain(logDomain(e.xmin, e.xmax)) : c.d3.scaleLinear().domain(linearDomain(e.xmin, e.xmax))).range([from, to]).nice();
+  const xTicksOf = (s: ContinuousScale, length: number): Tick[] => (log.x ? logTicks(s, length) : linearTicks(s, length));
+  const lastXLabel = xTicksOf(xScaleOver(0, W - left), W - left).filter((t) => t.label).at(-1)?.label ?? '';
   const right = Math.max(8, tickLabelWidth(lastXLabel) / 2 + 3);
   const plot: PlotRect = { left, top, width: W - left - right, height: plotH };
-  const xScale = c.d3.scaleLinear().domain(linearDomain(e.xmin, e.xmax)).range([plot.left, plot.left + plot.width]).nice();
-  const xTicks = linearTicks(xScale, plot.width);
+  const xScale = xScaleOver(plot.left, plot.left + plot.width);
+  const xTicks = xTicksOf(xScale, plot.width);
   return { plot, xScale, xTicks, yScale, yTicks };
 }
 
@@ -216,19 +222,16 @@ function checkLineOptions(opts: LineChartOptions): { width: FigureWidth; xLabel:
 export function lineChart(opts: LineChartOptions): string {
   const { width, xLabel, yLabel } = checkLineOptions(opts);
   const logY = opts.logY === true;
-  const plottable: Plottable = logY
-    ? (xv: number, yv: number): boolean => Number.isFinite(xv) && Number.isFinite(yv) && yv > 0
-    : (xv: number, yv: number): boolean => Number.isFinite(xv) && Number.isFinite(yv);
+  const logX = opts.logX === true;
+  const plottable: Plottable = (xv: number, yv: number): boolean => Number.isFinite(xv) && Number.isFinite(yv) && (!logY || yv > 0) && (!logX || xv > 0);
   const extent = seriesExtent(opts.series, plottable);
 
-  const W = mmToPx(figureWidthMm(width));
-  const H0 = mmToPx(checkHeight('lineChart.heightMm', opts.heightMm, width));
-  const c = createCanvas(W, 'line');
-  c.root.attr('data-series-count', String(opts.series.length)).attr('data-log-y', String(logY));
+  const { c, W, H0 } = figureCanvas('line', 'lineChart', width, opts.heightMm, opts.size);
+  c.root.attr('data-series-count', String(opts.series.length)).attr('data-log-y', String(logY)).attr('data-log-x', String(logX));
   if (!(extent.xmin <= extent.xmax)) c.root.attr('data-empty', 'true');
 
   const top = titleHeight(opts.title);
-  const { plot, xScale, xTicks, yScale, yTicks } = layoutAxes(c, extent, logY, W, top, H0 - top - bottomAxisHeight());
+  const { plot, xScale, xTicks, yScale, yTicks } = layoutAxes(c, extent, { x: logX, y: logY }, W, top, H0 - top - bottomAxisHeight());
   drawTitle(c, opts.title);
   drawAxis(c.root, 'bottom', xScale, xTicks, plot, xLabel, 'x', bottomLabelOffset());
   drawAxis(c.root, 'left', yScale, yTicks, plot, yLabel, 'y', sideLabelOffset(yTicks));

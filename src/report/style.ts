@@ -44,6 +44,41 @@ export function defaultHeightMm(width: FigureWidth): number {
   return width === 'single' ? 60 : 80;
 }
 
+/** Figure sizes: 'paper' draws at the journal sizes above; 'slides' draws every figure as one projector panel. */
+export const FIGURE_SIZES = ['paper', 'slides'] as const;
+export type FigureSize = (typeof FIGURE_SIZES)[number];
+
+export function isFigureSize(v: unknown): v is FigureSize {
+  return typeof v === 'string' && (FIGURE_SIZES as readonly string[]).includes(v);
+}
+
+/** Slide panel width, 254 mm (10 in): a 16:9 slide is 13.33 in × 7.5 in, leaving margins and a title line (common practice). */
+export const SLIDE_WIDTH_MM = 254;
+/** Slide panels are 16:9 (plot block; a legend or notes below add to it), the widescreen slide format (common practice). */
+export const SLIDE_ASPECT = 16 / 9;
+/**
+ * Slide figures are the paper layout magnified by this factor (text, strokes, ticks and markers alike), so the
+ * smallest text, 7 pt tick labels, shows at 16 pt and axis labels at 18 pt on the 254 mm panel; projected text
+ * should be at least 14 pt to be read from the back of a room (common practice).
+ */
+export const SLIDE_MAGNIFICATION = 16 / 7;
+
+/** Print scale of a figure size: mm on paper (or slide) per viewBox px. */
+export function mmPerPx(size: FigureSize): number {
+  return (MM_PER_INCH / PX_PER_INCH) * (size === 'slides' ? SLIDE_MAGNIFICATION : 1);
+}
+
+/**
+ * Layout size of a figure in viewBox px: its width, and the plot-block height (heightMm, printed mm, or the
+ * default). Paper: the column width of `width`. Slides: one 16:9 panel of SLIDE_WIDTH_MM whatever `width`.
+ */
+export function figureLayoutPx(size: FigureSize, width: FigureWidth, heightMm: number | undefined): { widthPx: number; heightPx: number } {
+  const scale = mmPerPx(size);
+  const wMm = size === 'slides' ? SLIDE_WIDTH_MM : figureWidthMm(width);
+  const hMm = heightMm ?? (size === 'slides' ? SLIDE_WIDTH_MM / SLIDE_ASPECT : defaultHeightMm(width));
+  return { widthPx: wMm / scale, heightPx: hMm / scale };
+}
+
 /** Font sizes in pt at print size; all ≥ MIN_FONT_PT. */
 export const FONT_PT = {
   tick: 7,

@@ -4,7 +4,7 @@
  */
 import { D3Node } from 'd3-node';
 import type { ContinuousScale, D3Module, D3Selection } from 'd3-node';
-import { FONT_FAMILY, FONT_PT, STROKE, estimateTextWidthPx, pxToMm, ptToPx } from './style.ts';
+import { FONT_FAMILY, FONT_PT, STROKE, type FigureSize, estimateTextWidthPx, mmPerPx, ptToPx } from './style.ts';
 
 export const SVG_NS = 'http://www.w3.org/2000/svg';
 export const XLINK_NS = 'http://www.w3.org/1999/xlink';
@@ -40,24 +40,27 @@ export interface Canvas {
   readonly root: D3Selection;
   readonly widthPx: number;
   readonly heightPx: number;
+  /** printed mm per viewBox px (style.ts mmPerPx of the figure size) */
+  readonly mmPerPx: number;
 }
 
 /**
- * Create an SVG root whose viewBox is in px at 96 dpi; width/height attributes are set in mm by `finish`
- * (height may grow while laying out legends and annotations).
+ * Create an SVG root whose viewBox is in px at 96 dpi (magnified for slides, style.ts); width/height attributes
+ * are set in mm by `finish` (height may grow while laying out legends and annotations).
  */
-export function createCanvas(widthPx: number, kind: string): Canvas {
+export function createCanvas(widthPx: number, kind: string, size: FigureSize = 'paper'): Canvas {
   const dn = new D3Node();
   const root = dn.d3Element.append('svg');
   const el = root.node() as Element;
   el.setAttributeNS(XMLNS_NS, 'xmlns:xlink', XLINK_NS);
   root
     .attr('data-figure', kind)
+    .attr('data-figure-size', size)
     .attr('font-family', FONT_FAMILY)
     .attr('font-size', fontPx(FONT_PT.tick))
     .attr('fill', 'none')
     .attr('stroke', 'none');
-  return { dn, d3: dn.d3, root, widthPx, heightPx: 0 };
+  return { dn, d3: dn.d3, root, widthPx, heightPx: 0, mmPerPx: mmPerPx(size) };
 }
 
 /** FNV-1a 32-bit hash (Fowler, Noll & Vo; public-domain reference), used only to derive unique ids. */
@@ -80,8 +83,8 @@ export function finish(c: Canvas, heightPx: number): string {
   const el = c.root.node() as Element;
   c.root
     .attr('viewBox', `0 0 ${px(c.widthPx)} ${px(heightPx)}`)
-    .attr('width', `${px(pxToMm(c.widthPx))}mm`)
-    .attr('height', `${px(pxToMm(heightPx))}mm`);
+    .attr('width', `${px(c.widthPx * c.mmPerPx)}mm`)
+    .attr('height', `${px(heightPx * c.mmPerPx)}mm`);
   const bg = c.dn.document.createElementNS(SVG_NS, 'rect');
   bg.setAttribute('class', 'background');
   bg.setAttribute('width', px(c.widthPx));
@@ -181,15 +184,41 @@ export function logTicks(scale: ContinuousScale, lengthPx: number): Tick[] {
   return ticks.sort((p, q) => p.value - q.value);
 }
 
-/** Write a tick label; "10^e" becomes 10 with a superscript exponent (tspan), with a real minus sign. */
+/** Least distance between labelled ticks of a symmetric-log axis, in tick-label heights (legibility; common practice). */
+const SYMLOG_LABEL_GAP = 1.6;
+
+/**
+ * Ticks of a symmetric-log axis with linear threshold c (a power of ten): 0 and ±c·10^k out to the domain ends;
+ * going out from 0, a decade is labelled when it lies SYMLOG_LABEL_GAP label heights from the last label, the
+ * others are minor ticks.
+ */
+export function symlogTicks(scale: ContinuousScale, c: number): Tick[] {
+  const [a, b] = scale.domain();
+  const ec = Math.round(Math.log10(c));
+  const gap = SYMLOG_LABEL_GAP * ptToPx(FONT_PT.tick);
+  const ticks: Tick[] = [{ value: 0, label: '0', major: true }];
+  for (const sign of [1, -1]) {
+    const end = Math.max(sign * a, sign * b);
+    let last = scale(0);
+    for (let e = ec; end > 0 && Number(`1e${e}`) <= end * (1 + 1e-12); e++) {
+      const v = sign * Number(`1e${e}`);
+      const major = Math.abs(scale(v) - last) >= gap;
+      if (major) last = scale(v);
+      ticks.push({ value: v, label: major ? `${sign < 0 ? '-' : ''}10^${e}` : '', major });
+    }
+  }
+  return ticks.sort((p, q) => p.value - q.value);
+}
+
+/** Write a tick label; "10^e" (or "-10^e") becomes 10 with a superscript exponent (tspan), with real minus signs. */
 function writeTickLabel(t: D3Selection, label: string): void {
-  const m = /^10\^(-?\d+)$/.exec(label);
+  const m = /^(-?)10\^(-?\d+)$/.exec(label);
   if (!m) {
-    t.text(label);
+    t.text(label.replace(/^-/, '\u2212'));
     return;
   }
-  t.text('10');
-  const exp = m[1].replace('-', '\u2212');
+  t.text(m[1] ? '\u221210' : '10');
+  const exp = m[2].replace('-', '\u2212');
   t.append('tspan')
     .attr('dy', px(-ptToPx(FONT_PT.tick) * 0.4))
     .attr('font-size', fontPx(FONT_PT.tick))
@@ -198,8 +227,8 @@ function writeTickLabel(t: D3Selection, label: string): void {
 
 /** Estimated width of a formatted tick label in px. */
 export function tickLabelWidth(label: string): number {
-  const m = /^10\^(-?\d+)$/.exec(label);
-  const chars = m ? 2 + m[1].length : label.length;
+  const m = /^(-?)10\^(-?\d+)$/.exec(label);
+  const chars = m ? m[1].length + 2 + m[2].length : label.length;
   return estimateTextWidthPx('0'.repeat(chars), FONT_PT.tick);
 }
 

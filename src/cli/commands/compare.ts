@@ -3,7 +3,7 @@ import { checkOutputDir } from '../../io/files.ts';
 import { configIdentity } from '../../io/run-folder.ts';
 import { COMPARE_FILES, runCompareWithDrives, writeCompareFigures, writeCompareOutputs, type CompareSummary } from '../../jobs/compare.ts';
 import { toJson } from '../../jobs/design.ts';
-import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
 import { makeProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 
@@ -24,13 +24,14 @@ function compareRows(s: CompareSummary, files: string[]): [string, string][] {
 }
 
 export async function compareCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const figures = figureSizeOption(opts.figures);
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
   checkOutputDir(dir, { force: opts.force ?? false, produces: COMPARE_FILES }); // refuse before computing
   const progress = makeProgress('compare', opts.quiet ?? false);
   const s = runCompareWithDrives(config, { onProgress: (_stage, fraction) => progress.update(COMPARE_PROGRESS_SHARE * fraction) });
   progress.stop();
-  const files = [...writeCompareOutputs(s, dir, opts.force ?? false, configIdentity(config)), ...writeCompareFigures(s, dir, opts.force ?? false)];
+  const files = [...writeCompareOutputs(s, dir, opts.force ?? false, configIdentity(config)), ...writeCompareFigures(s, dir, opts.force ?? false, figures)];
   if (opts.json) {
     const { sequences: _omit, ...rest } = s;
     process.stdout.write(toJson({ ...rest, outputs: files }, 2) + '\n');

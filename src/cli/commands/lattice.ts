@@ -4,7 +4,7 @@ import { checkOutputDir } from '../../io/files.ts';
 import { configIdentity } from '../../io/run-folder.ts';
 import { LATTICE_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
 import { writeLatticeFigures } from '../../jobs/report.ts';
-import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
 import { makeProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 
@@ -24,13 +24,14 @@ function latticeRows(s: LatticeSummary, files: string[], dir: string): [string, 
 }
 
 export async function latticeCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const figures = figureSizeOption(opts.figures);
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
   checkOutputDir(dir, { force: opts.force ?? false, produces: LATTICE_FILES }); // refuse before computing
   const progress = makeProgress('lattice', opts.quiet ?? false);
   const result = runLattice(config, { onProgress: (p) => progress.update(p.fraction) });
   progress.stop();
-  const files = [...writeLatticeOutputs(result, dir, opts.force ?? false, configIdentity(config)), ...writeLatticeFigures(result, dir, opts.force ?? false)];
+  const files = [...writeLatticeOutputs(result, dir, opts.force ?? false, configIdentity(config)), ...writeLatticeFigures(result, dir, opts.force ?? false, figures)];
   const s = result.summary;
   if (opts.json) process.stdout.write(toJson({ ...s, outputs: files }, 2) + '\n');
   else {

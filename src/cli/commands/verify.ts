@@ -2,7 +2,7 @@
 import { toJson } from '../../jobs/design.ts';
 import { runPipeline, type PipelineResult } from '../../jobs/run.ts';
 import type { VerifyFile } from '../../jobs/verify.ts';
-import { loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
+import { figureSizeOption, loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
 import { makeStagedProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 
@@ -53,12 +53,13 @@ export function printPipeline(r: PipelineResult, dir: string, opts: CommonOption
 
 /** `verify` (report: false) and `run` (report: true) */
 export async function pipelineCommand(configPath: string, opts: CommonOptions, report: boolean): Promise<number> {
+  const figures = report ? figureSizeOption(opts.figures) : undefined;
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
   const progress = makeStagedProgress(opts.quiet ?? false);
   let result: PipelineResult;
   try {
-    result = runPipeline(config, { dir, force: opts.force ?? false, report, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
+    result = runPipeline(config, { dir, force: opts.force ?? false, report, figures, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
   } finally {
     progress.stop();
   }

@@ -5,15 +5,17 @@
  */
 import type { CheckReport } from '../../io/formats/check.ts';
 import type { SummaryRow } from '../../io/formats/read.ts';
+import { cropCaption, cropRow, cropToPotential } from '../crop.ts';
 import { heatmap } from '../heatmap.ts';
 import type { ReportFigure } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
-import type { FrameArray } from './design.ts';
+import type { FigureSize } from '../style.ts';
+import { frameRows, type FrameArray } from './design.ts';
 
 /** residuals are drawn no lower than this (an exact static interval has residual 0, which a log axis cannot show) */
 const RESIDUAL_FLOOR = 1e-16;
 
-function residualFigure(r: CheckReport): ReportFigure {
+function residualFigure(r: CheckReport, size: FigureSize): ReportFigure {
   const idx = r.intervals.map((it) => it.index);
   const failed = r.fit.failed.length;
   return {
@@ -28,39 +30,36 @@ function residualFigure(r: CheckReport): ReportFigure {
       ],
       logY: true,
       width: 'single',
+      size,
     }),
   };
 }
 
-function spectrumFigure(r: CheckReport): ReportFigure | null {
+function spectrumFigure(r: CheckReport, size: FigureSize): ReportFigure | null {
   const s = r.spectrum;
   if (s.levels === 0) return null;
   const series = Array.from({ length: s.levels }, (_, lvl) => ({ name: `level ${lvl}`, x: s.frames, y: s.energies.map((e) => e[lvl]), dashed: false }));
   return {
     id: 'check-spectrum',
     caption: `Bound-state energies along the sequence (fit-free evidence: an admissible sequence is isospectral); largest spread ${r.spectral_drift.toExponential(2)} ${r.units.energy} (${r.spectral_drift_relative.toExponential(2)} of the ground-state depth).`,
-    svg: lineChart({ xLabel: 'frame k', yLabel: `energy (${r.units.energy})`, series, width: 'single' }),
+    svg: lineChart({ xLabel: 'frame k', yLabel: `energy (${r.units.energy})`, series, width: 'single', size }),
   };
 }
 
-/** the frames of an [F, N] array as rows */
-function rowsOf(a: FrameArray): Float64Array[] {
-  const [nF, nX] = a.shape;
-  return Array.from({ length: nF }, (_, i) => a.data.subarray(i * nX, (i + 1) * nX));
-}
-
-function mapsAndDistance(r: CheckReport, input: FrameArray, repaired: FrameArray): ReportFigure[] {
+function mapsAndDistance(r: CheckReport, input: FrameArray, repaired: FrameArray, size: FigureSize): ReportFigure[] {
   const nX = r.grid.points;
   const x = Float64Array.from({ length: nX }, (_, j) => r.grid.x0 + j * r.grid.dx);
   const frames = Float64Array.from({ length: input.shape[0] }, (_, k) => k);
-  const inRows = rowsOf(input);
-  const repRows = rowsOf(repaired);
+  const inRows = frameRows(input);
+  const repRows = frameRows(repaired);
   let lo = 0, hi = 0;
   for (const row of [...inRows, ...repRows]) for (const v of row) if (Number.isFinite(v)) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+  // one x window for both maps
+  const crop = cropToPotential(x, [...inRows, ...repRows]);
   const map = (id: string, rows: Float64Array[], what: string): ReportFigure => ({
     id,
-    caption: `${what} (same colour scale in both maps).`,
-    svg: heatmap({ xLabel: `position x (${r.units.length})`, yLabel: 'frame k', zLabel: `potential V (${r.units.energy})`, x, y: frames, z: rows, zRange: [lo, hi], width: 'single' }),
+    caption: `${what} (same colour scale and x window in both maps).${cropCaption(crop, r.units.length)}`,
+    svg: heatmap({ xLabel: `position x (${r.units.length})`, yLabel: 'frame k', zLabel: `potential V (${r.units.energy})`, x: crop.x, y: frames, z: rows.map((row) => cropRow(crop, row)), zRange: [lo, hi], width: 'single', size }),
   });
   return [
     map('check-input', inRows, 'The input sequence as judged (on the integration grid)'),
@@ -74,15 +73,16 @@ function mapsAndDistance(r: CheckReport, input: FrameArray, repaired: FrameArray
         series: [{ name: 'input − repaired', x: Array.from(frames).slice(1), y: r.repaired.frame_relative.slice(1).map((d) => Math.max(d, RESIDUAL_FLOOR)), markers: true }],
         logY: true,
         width: 'single',
+        size,
       }),
     },
   ];
 }
 
 /** every figure of a check folder */
-export function checkFigures(r: CheckReport, input: FrameArray, repaired: FrameArray): ReportFigure[] {
-  const spec = spectrumFigure(r);
-  return [residualFigure(r), ...(spec ? [spec] : []), ...mapsAndDistance(r, input, repaired)];
+export function checkFigures(r: CheckReport, input: FrameArray, repaired: FrameArray, size: FigureSize = 'paper'): ReportFigure[] {
+  const spec = spectrumFigure(r, size);
+  return [residualFigure(r, size), ...(spec ? [spec] : []), ...mapsAndDistance(r, input, repaired, size)];
 }
 
 /** the summary table of a check folder: the verdict lines, then the key numbers */

@@ -7,9 +7,11 @@ import { separatedSolitons, straightTrajectory } from '../../classical/shells.ts
 import type { SequenceFile } from '../../io/formats/sequence.ts';
 import type { VerifyFile } from '../../io/formats/verify.ts';
 import { isRampKind, makeRamp } from '../../protocol/ramp.ts';
+import { cropCaption, cropRow, cropToPotential } from '../crop.ts';
 import { heatmap } from '../heatmap.ts';
 import type { ReportFigure, SummaryRow } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
+import type { FigureSize } from '../style.ts';
 
 /** rows of the space–time map against lab time: uniform in t, λ(t) from the ramp, frames blended linearly in λ */
 export const TIME_ROWS = 121;
@@ -20,11 +22,18 @@ export interface FrameArray {
   shape: number[];
 }
 
-/** straight soliton lines through the wells of the last frame that match a predicted soliton (classical/shells.ts) */
-function trajectories(seq: SequenceFile): { name: string; x: number[]; y: number[] }[] {
+/** a [frames, points] array as rows */
+export function frameRows(a: FrameArray): Float64Array[] {
+  const [nF, nX] = a.shape;
+  return Array.from({ length: nF }, (_, i) => a.data.subarray(i * nX, (i + 1) * nX));
+}
+
+/**
+ * straight soliton lines through the wells of the last frame that match a predicted soliton (classical/shells.ts),
+ * inside the shown x window
+ */
+function trajectories(seq: SequenceFile, xmin: number, xmax: number): { name: string; x: number[]; y: number[] }[] {
   const lambdaEnd = seq.lambda[seq.lambda.length - 1];
-  const xmin = seq.x[0];
-  const xmax = seq.x[seq.x.length - 1];
   const out: { name: string; x: number[]; y: number[] }[] = [];
   for (const { well, soliton } of separatedSolitons(seq.solitons.predicted, seq.solitons.found_in_last_frame)) {
     const line = straightTrajectory(well.position, soliton.speed, lambdaEnd, xmin, xmax);
@@ -35,23 +44,23 @@ function trajectories(seq: SequenceFile): { name: string; x: number[]; y: number
 
 const driftText = (d: number): string => (Number.isFinite(d) ? d.toExponential(2) : 'n/a');
 
-export function designFigures(seq: SequenceFile, potential: FrameArray): ReportFigure[] {
-  const [nF, nX] = potential.shape;
-  const rows = Array.from({ length: nF }, (_, i) => potential.data.subarray(i * nX, (i + 1) * nX));
+export function designFigures(seq: SequenceFile, potential: FrameArray, size: FigureSize = 'paper'): ReportFigure[] {
+  const crop = cropToPotential(seq.x, frameRows(potential));
   const E = seq.energy_unit;
   const figures: ReportFigure[] = [];
   figures.push({
     id: 'spacetime',
-    caption: `Potential V(x, λ) along the designed sequence (${seq.dispersion} flow), with the straight trajectories predicted from the bound states of the initial trap (speed 4κ² in natural units) drawn through the wells of the last frame.`,
+    caption: `Potential V(x, λ) along the designed sequence (${seq.dispersion} flow), with the straight trajectories predicted from the bound states of the initial trap (speed 4κ² in natural units) drawn through the wells of the last frame.${cropCaption(crop, seq.length_unit)}`,
     svg: heatmap({
       xLabel: `position x (${seq.length_unit})`,
       yLabel: 'flow parameter λ (dimensionless)',
       zLabel: `potential V (${E})`,
-      x: Float64Array.from(seq.x),
+      x: crop.x,
       y: Float64Array.from(seq.lambda),
-      z: rows,
-      overlays: trajectories(seq),
+      z: crop.rows,
+      overlays: trajectories(seq, crop.lo, crop.hi),
       width: 'double',
+      size,
     }),
   });
   const levels = seq.spectrum.energies[0]?.length ?? 0;
@@ -70,6 +79,7 @@ export function designFigures(seq: SequenceFile, potential: FrameArray): ReportF
           markers: true,
         })),
         width: 'single',
+        size,
         annotations: [`max drift ${drift} ${E}`],
       }),
     });
@@ -92,23 +102,26 @@ function rowsAtLambda(seqLambda: readonly number[], potential: FrameArray, lambd
 }
 
 /** V(x, t) against lab time for the verified ramp (null without a protocol of positive duration) */
-export function labTimeMap(seq: SequenceFile, potential: FrameArray, v: VerifyFile): ReportFigure | null {
+export function labTimeMap(seq: SequenceFile, potential: FrameArray, v: VerifyFile, size: FigureSize = 'paper'): ReportFigure | null {
   const p = v.protocol;
   if (!(p.duration > 0) || !isRampKind(p.ramp)) return null;
   const ramp = makeRamp(p.ramp, p.duration, p.lambda_end);
   const t = Float64Array.from({ length: TIME_ROWS }, (_, i) => (p.duration * i) / (TIME_ROWS - 1));
-  const rows = rowsAtLambda(seq.lambda, potential, Array.from(t, (ti) => ramp.value(ti)));
+  // the window of the design map: the blended rows lie between its frames
+  const crop = cropToPotential(seq.x, frameRows(potential));
+  const rows = rowsAtLambda(seq.lambda, potential, Array.from(t, (ti) => ramp.value(ti))).map((r) => cropRow(crop, r));
   return {
     id: 'spacetime-lab',
-    caption: `Potential V(x, t) against lab time for the ${p.ramp} ramp of ${p.duration} ${v.units.time} (frames blended linearly in λ for display).`,
+    caption: `Potential V(x, t) against lab time for the ${p.ramp} ramp of ${p.duration} ${v.units.time} (frames blended linearly in λ for display).${cropCaption(crop, seq.length_unit)}`,
     svg: heatmap({
       xLabel: `position x (${seq.length_unit})`,
       yLabel: `time t (${v.units.time})`,
       zLabel: `potential V (${seq.energy_unit})`,
-      x: Float64Array.from(seq.x),
+      x: crop.x,
       y: t,
       z: rows,
       width: 'double',
+      size,
     }),
   };
 }

@@ -6,12 +6,14 @@ import type { LatticeSummary, LatticeTables } from '../../io/formats/lattice.ts'
 import { heatmap } from '../heatmap.ts';
 import type { ReportFigure } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
+import type { FigureSize } from '../style.ts';
 import { INFIDELITY_FLOOR } from './verify.ts';
 
 /** the tables the figures read */
 export type LatticeFigureTables = Pick<LatticeTables, 'sites' | 'times' | 'nnAmplitude'>;
 
-function couplingsFigure(s: LatticeSummary, t: LatticeFigureTables): ReportFigure {
+/** the whole lattice is shown: the tunnelling J couples every bond, so there is no empty part to crop */
+function couplingsFigure(s: LatticeSummary, t: LatticeFigureTables, size: FigureSize): ReportFigure {
   const bonds = t.sites.length - 1;
   const rows = Array.from({ length: t.times.length }, (_, i) => t.nnAmplitude.slice(i * bonds, (i + 1) * bonds));
   const bondX = Float64Array.from({ length: bonds }, (_, j) => 0.5 * (t.sites[j] + t.sites[j + 1]));
@@ -26,11 +28,12 @@ function couplingsFigure(s: LatticeSummary, t: LatticeFigureTables): ReportFigur
       y: t.times,
       z: rows,
       width: 'double',
+      size,
     }),
   };
 }
 
-function convergenceFigure(s: LatticeSummary): ReportFigure | null {
+function convergenceFigure(s: LatticeSummary, size: FigureSize): ReportFigure | null {
   const study = s.study.rows;
   if (study.length < 2) return null;
   const states = study[0].infidelity_cd.length;
@@ -44,14 +47,14 @@ function convergenceFigure(s: LatticeSummary): ReportFigure | null {
   return {
     id: 'lattice-convergence',
     caption: `Lattice infidelity 1 − F with the correction against sites per soliton width, for each tracked state; target ${s.study.target_infidelity}${s.study.observed_order !== null ? `, observed order ${s.study.observed_order.toFixed(2)} in the spacing` : ''}.`,
-    svg: lineChart({ xLabel: 'sites per soliton width (dimensionless)', yLabel: 'infidelity 1 − F', series: [...perState, target], logY: true, width: 'single' }),
+    svg: lineChart({ xLabel: 'sites per soliton width (dimensionless)', yLabel: 'infidelity 1 − F', series: [...perState, target], logY: true, width: 'single', size }),
   };
 }
 
 /** Figures of a lattice realisation: the coupling map, and the convergence study when it has two or more rows. */
-export function latticeFigures(summary: LatticeSummary, tables: LatticeFigureTables): ReportFigure[] {
-  const figures = [couplingsFigure(summary, tables)];
-  const conv = convergenceFigure(summary);
+export function latticeFigures(summary: LatticeSummary, tables: LatticeFigureTables, size: FigureSize = 'paper'): ReportFigure[] {
+  const figures = [couplingsFigure(summary, tables, size)];
+  const conv = convergenceFigure(summary, size);
   if (conv) figures.push(conv);
   return figures;
 }

@@ -3,9 +3,10 @@
  * correction, excess energies per state, ensemble infidelities and the size of the correction against time.
  */
 import type { VerifyFile } from '../../io/formats/verify.ts';
-import { barChart } from '../bar-chart.ts';
+import { barChart, symlogConstant } from '../bar-chart.ts';
 import type { ReportFigure } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
+import type { FigureSize } from '../style.ts';
 import type { FrameArray } from './design.ts';
 
 /** states shown in the fidelity figure (legibility: 2 drives × 4 states = 8 series, one palette) */
@@ -14,7 +15,7 @@ export const FIDELITY_FIGURE_STATES = 4;
 export const INFIDELITY_FLOOR = 1e-16;
 
 /** infidelity traces of the lowest FIDELITY_FIGURE_STATES states (both drives; traces.npy holds them all) */
-function fidelityFigure(v: VerifyFile, traces: FrameArray): ReportFigure {
+function fidelityFigure(v: VerifyFile, traces: FrameArray, size: FigureSize): ReportFigure {
   const [nR, nT] = traces.shape;
   const series = v.traces.rows
     .slice(0, nR)
@@ -29,12 +30,12 @@ function fidelityFigure(v: VerifyFile, traces: FrameArray): ReportFigure {
   return {
     id: 'fidelity',
     caption: `Infidelity 1 − F(t) of the lowest ${FIDELITY_FIGURE_STATES} tracked eigenstates: with the cubic counterdiabatic correction (solid) and with the bare drive (dashed). F is the weight in the instantaneous (degenerate) eigenspace; values are floored at ${INFIDELITY_FLOOR}.`,
-    svg: lineChart({ xLabel: `time t (${v.units.time})`, yLabel: 'infidelity 1 − F', series, logY: true, width: 'double' }),
+    svg: lineChart({ xLabel: `time t (${v.units.time})`, yLabel: 'infidelity 1 − F', series, logY: true, width: 'double', size }),
   };
 }
 
 /** thermal-ensemble and Fermi-sea infidelities, the same quantities as the summary (null when verify computed neither) */
-function ensemblesFigure(v: VerifyFile): ReportFigure | null {
+export function ensemblesFigure(v: VerifyFile, size: FigureSize = 'paper'): ReportFigure | null {
   const ens: { label: string; values: { name: string; value: number }[] }[] = [];
   const pair = (cd: number, bare: number) => [{ name: 'cd', value: 1 - cd }, { name: 'bare', value: 1 - bare }];
   const parts: string[] = [];
@@ -52,12 +53,12 @@ function ensemblesFigure(v: VerifyFile): ReportFigure | null {
   return {
     id: 'ensembles',
     caption: `Infidelity 1 − F after the ramp, with and without the correction, of ${parts.join(' and of ')}; the values in the summary.`,
-    svg: barChart({ xLabel: 'ensemble', yLabel: 'infidelity 1 − F', groups: ens, logY: true, width: 'single' }),
+    svg: barChart({ xLabel: 'ensemble', yLabel: 'infidelity 1 − F', groups: ens, logY: true, width: 'single', size }),
   };
 }
 
 /** the summary's correction size against time: the same series as verify.json cd_strength (null without samples) */
-function correctionFigure(v: VerifyFile): ReportFigure | null {
+function correctionFigure(v: VerifyFile, size: FigureSize): ReportFigure | null {
   const c = v.cd_strength;
   if (!(c.time.length > 1)) return null;
   return {
@@ -76,27 +77,41 @@ function correctionFigure(v: VerifyFile): ReportFigure | null {
         { name: 'largest element', x: c.time, y: c.window },
       ],
       width: 'single',
+      size,
     }),
   };
 }
 
-export function verifyFigures(v: VerifyFile, traces: FrameArray | null): ReportFigure[] {
-  const figures: ReportFigure[] = [];
-  if (traces && v.traces.rows.length > 0) figures.push(fidelityFigure(v, traces));
-  figures.push({
+/**
+ * excess energies as in verify.json, signed, on a symmetric-log axis: the correction's excess is often many
+ * decades below the bare one, and a linear axis would draw it as nothing
+ */
+export function excessFigure(v: VerifyFile, size: FigureSize = 'paper'): ReportFigure {
+  const E = v.units.energy;
+  const k = symlogConstant(v.states.flatMap((s) => [s.excess_cd, s.excess_bare]));
+  return {
     id: 'excess',
-    caption: `Excess energy ⟨H_final⟩ − E_final of each state after the ramp, with and without the correction (${v.units.energy}).`,
+    caption:
+      `Excess energy ⟨H_final⟩ − E_final of each state after the ramp, with and without the correction (${E}), with its sign: bars below the zero line are negative. ` +
+      `Symmetric-log axis: linear for |excess| < ${k} ${E}, logarithmic beyond (each decade the same height).`,
     svg: barChart({
       xLabel: 'state n',
-      yLabel: `excess energy (${v.units.energy})`,
-      groups: v.states.map((s) => ({ label: `n=${s.index}`, values: [{ name: 'cd', value: Math.abs(s.excess_cd) }, { name: 'bare', value: Math.abs(s.excess_bare) }] })),
-      logY: true,
+      yLabel: `excess energy (${E})`,
+      groups: v.states.map((s) => ({ label: `n=${s.index}`, values: [{ name: 'cd', value: s.excess_cd }, { name: 'bare', value: s.excess_bare }] })),
+      symlogY: k,
       width: 'single',
+      size,
     }),
-  });
-  const ens = ensemblesFigure(v);
+  };
+}
+
+export function verifyFigures(v: VerifyFile, traces: FrameArray | null, size: FigureSize = 'paper'): ReportFigure[] {
+  const figures: ReportFigure[] = [];
+  if (traces && v.traces.rows.length > 0) figures.push(fidelityFigure(v, traces, size));
+  figures.push(excessFigure(v, size));
+  const ens = ensemblesFigure(v, size);
   if (ens) figures.push(ens);
-  const corr = correctionFigure(v);
+  const corr = correctionFigure(v, size);
   if (corr) figures.push(corr);
   return figures;
 }
