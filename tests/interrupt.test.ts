@@ -2,9 +2,11 @@ import { spawn } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { Worker } from 'node:worker_threads';
 import { afterAll, describe, expect, it } from 'vitest';
 import { buildProgram } from '../src/cli/main.ts';
-import { COMMAND_JOBS, interruptMessage, type FolderKept } from '../src/cli/supervisor.ts';
+import { closeGate, COMMAND_JOBS, GATE_COMMITTING, GATE_IDLE, GATE_STOPPING, interruptMessage, type FolderKept } from '../src/cli/supervisor.ts';
 import { subscribeOutput, type OutputEvent } from '../src/io/output-events.ts';
 import { LOCK_FILE, MANIFEST_FILE, newRunIdentity, readManifest, releaseFolder, RunFolder, verifiedEntries } from '../src/io/run-folder.ts';
 import { SMALL_SOLITON } from './fixtures.ts';
@@ -151,5 +153,57 @@ describe('what a stopped writer leaves is released', () => {
       stop();
     }
     expect(seen).toEqual(['commit-start x.json visible=false manifest=false', 'commit-end x.json visible=true manifest=true']);
+  });
+});
+
+describe('the commit gate', () => {
+  /** a worker thread that says 'ready', enters the gate (cli/command-thread.ts) and says 'entered' */
+  const enterIn = (shared: SharedArrayBuffer) =>
+    new Worker(
+      `(async () => {
+        const { register } = await import('tsx/esm/api');
+        register();
+        const { enterCommit } = await import(${JSON.stringify(pathToFileURL(resolve('src/cli/command-thread.ts')).href)});
+        require('node:worker_threads').parentPort.postMessage('ready');
+        enterCommit(new Int32Array(require('node:worker_threads').workerData));
+        require('node:worker_threads').parentPort.postMessage('entered');
+      })();`,
+      { eval: true, workerData: shared },
+    );
+  /** true when the worker enters the gate within `ms` of being ready */
+  const entered = (w: Worker, ms: number) =>
+    new Promise<boolean>((done) => {
+      let t: NodeJS.Timeout | undefined;
+      w.on('message', (m: string) => {
+        if (m === 'ready') t = setTimeout(() => done(false), ms);
+        else {
+          clearTimeout(t);
+          done(true);
+        }
+      });
+    });
+
+  it('an interrupt waits for a commit under way, then no commit starts', async () => {
+    const shared = new SharedArrayBuffer(4);
+    const gate = new Int32Array(shared);
+    Atomics.store(gate, 0, GATE_COMMITTING);
+    let closed = false;
+    const closing = closeGate(gate).then(() => (closed = true));
+    await new Promise((r) => setTimeout(r, 50));
+    expect(closed).toBe(false); // the commit is still under way
+    Atomics.store(gate, 0, GATE_IDLE); // the commit ends
+    await closing;
+    expect(Atomics.load(gate, 0)).toBe(GATE_STOPPING);
+    const w = enterIn(shared);
+    expect(await entered(w, 300)).toBe(false); // the next commit waits for termination
+    await w.terminate();
+  });
+
+  it('a commit enters an open gate at once', async () => {
+    const shared = new SharedArrayBuffer(4);
+    const w = enterIn(shared);
+    expect(await entered(w, 300)).toBe(true);
+    expect(Atomics.load(new Int32Array(shared), 0)).toBe(GATE_COMMITTING);
+    await w.terminate();
   });
 });

@@ -38,7 +38,7 @@ class DescriptorStream extends Writable {
 }
 
 /** block until the gate lets a commit start (it never does once the main thread has closed it) */
-function enterCommit(gate: Int32Array): void {
+export function enterCommit(gate: Int32Array): void {
   while (Atomics.compareExchange(gate, 0, GATE_IDLE, GATE_COMMITTING) !== GATE_IDLE) Atomics.wait(gate, 0, GATE_STOPPING);
 }
 

@@ -138,7 +138,7 @@ function collectKept(record: RunRecord): FolderKept[] {
 }
 
 /** wait until no commit is under way and close the gate so that none starts */
-async function closeGate(gate: Int32Array): Promise<void> {
+export async function closeGate(gate: Int32Array): Promise<void> {
   while (Atomics.compareExchange(gate, 0, GATE_IDLE, GATE_STOPPING) === GATE_COMMITTING) await new Promise((r) => setTimeout(r, GATE_POLL_MS));
 }
 
