@@ -5,6 +5,7 @@ import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { UserError } from '../core/errors.ts';
+import { publishOutput } from './output-events.ts';
 
 /** temporary files of writeFileAtomic: `.<name>.<pid>.<12 hex>.tmp` */
 const TEMPORARY_RE = /^\..+\.(\d+)\.[0-9a-f]{12}\.tmp$/;
@@ -54,16 +55,16 @@ export function processAlive(pid: number): boolean {
   }
 }
 
-/** remove temporaries left in `dir` by writers that were killed mid-write (their process is gone) */
-export function removeStaleTemporaries(dir: string): string[] {
-  return removeLeftovers(dir, TEMPORARY_RE);
+/** remove temporaries left in `dir` by writers that were killed mid-write (their process is gone, or `stale` says so) */
+export function removeStaleTemporaries(dir: string, stale?: (pid: number) => boolean): string[] {
+  return removeLeftovers(dir, TEMPORARY_RE, stale);
 }
 
 /**
  * Remove the entries of `dir` whose name matches `pattern` (group 1: the writer's process id) and whose writer has
- * died; returns their names. Entries of live writers are kept.
+ * died (or, given `stale`, whose writer's id it accepts); returns their names. Entries of live writers are kept.
  */
-export function removeLeftovers(dir: string, pattern: RegExp): string[] {
+export function removeLeftovers(dir: string, pattern: RegExp, stale: (pid: number) => boolean = (pid) => !processAlive(pid)): string[] {
   const removed: string[] = [];
   let names: string[];
   try {
@@ -73,7 +74,7 @@ export function removeLeftovers(dir: string, pattern: RegExp): string[] {
   }
   for (const name of names) {
     const m = pattern.exec(name);
-    if (!m || processAlive(Number(m[1]))) continue;
+    if (!m || !stale(Number(m[1]))) continue;
     rmSync(join(dir, name), { recursive: true, force: true });
     removed.push(name);
   }
@@ -91,6 +92,7 @@ export function writeFileAtomic(path: string, data: string | Uint8Array): void {
   try {
     writeFileSync(tmp, data);
     renameSync(tmp, path);
+    publishOutput({ kind: 'file', path: resolve(path) });
   } catch (err) {
     try {
       unlinkSync(tmp);
@@ -128,6 +130,7 @@ export function checkOutputDir(dir: string, options: PrepareOutputOptions): stri
       );
     }
   }
+  publishOutput({ kind: 'folder', dir: abs, shown: dir });
   return abs;
 }
 

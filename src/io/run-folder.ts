@@ -17,7 +17,8 @@ import { createHash, randomBytes } from 'node:crypto';
 import { closeSync, existsSync, mkdirSync, openSync, readFileSync, renameSync, rmSync, unlinkSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
 import { UserError } from '../core/errors.ts';
-import { prepareOutputDir, processAlive, removeLeftovers, writeFileAtomic } from './files.ts';
+import { prepareOutputDir, processAlive, removeLeftovers, removeStaleTemporaries, writeFileAtomic } from './files.ts';
+import { publishOutput } from './output-events.ts';
 
 export const LOCK_FILE = '.isotrap-lock';
 export const MANIFEST_FILE = 'isotrap-run.json';
@@ -178,23 +179,33 @@ export class RunFolder {
     return this.written.has(name);
   }
 
-  /** move the staged files into place, record them in the manifest (last), release the lock; returns the paths */
+  /**
+   * Move the staged files into place, record them in the manifest (last), release the lock; returns the paths.
+   * The renames and the manifest are announced as one commit (output-events.ts), so that an interrupt can wait
+   * for them to end.
+   */
   commit(): string[] {
     if (!this.open) throw new RangeError(`output folder ${this.shown}: committed twice`);
     const manifest = readManifest(this.dir);
+    const event = { dir: this.dir, job: this.job, run: this.identity.run, files: [...this.written.keys()] };
+    publishOutput({ kind: 'commit-start', ...event });
     const paths: string[] = [];
-    for (const [name] of this.written) {
-      const target = join(this.dir, name);
-      try {
-        renameSync(join(this.staging, name), target);
-      } catch (err) {
-        this.abort();
-        throw new UserError(`cannot write ${target} (${(err as Error).message})`);
+    try {
+      for (const [name] of this.written) {
+        const target = join(this.dir, name);
+        try {
+          renameSync(join(this.staging, name), target);
+        } catch (err) {
+          this.abort();
+          throw new UserError(`cannot write ${target} (${(err as Error).message})`);
+        }
+        paths.push(target);
       }
-      paths.push(target);
+      for (const [name, w] of this.written) manifest.files[name] = { ...w, job: this.job, run: this.identity.run, config_hash: this.identity.configHash };
+      writeFileAtomic(join(this.dir, MANIFEST_FILE), JSON.stringify(manifest, null, 1) + '\n');
+    } finally {
+      publishOutput({ kind: 'commit-end', ...event });
     }
-    for (const [name, w] of this.written) manifest.files[name] = { ...w, job: this.job, run: this.identity.run, config_hash: this.identity.configHash };
-    writeFileAtomic(join(this.dir, MANIFEST_FILE), JSON.stringify(manifest, null, 1) + '\n');
     this.close();
     return paths;
   }
@@ -213,6 +224,21 @@ export class RunFolder {
       // already released
     }
   }
+}
+
+/**
+ * Release what process `pid` holds in `dir` after its writer thread was stopped: its staging folders, its
+ * temporaries and the lock when it holds `pid`. The folder's own files are untouched. Returns the removed names.
+ */
+export function releaseFolder(dir: string, pid: number): string[] {
+  const ours = (p: number) => p === pid;
+  const removed = [...removeLeftovers(dir, STAGING_RE, ours), ...removeStaleTemporaries(dir, ours)];
+  const lock = join(dir, LOCK_FILE);
+  if (readFileSafe(lock) === String(pid)) {
+    rmSync(lock, { force: true });
+    removed.push(LOCK_FILE);
+  }
+  return removed;
 }
 
 export interface RunWriteOptions {
