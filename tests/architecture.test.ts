@@ -3,7 +3,7 @@ import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { dirname, join, relative, resolve, sep } from 'node:path';
 
 // Layering of DEVELOPERS.md: a module imports only from its own folder or from folders earlier in this list;
-// classical, check and lattice share a layer and do not import each other.
+// classical, check and lattice share a layer and do not import each other; '' is the package entry src/index.ts.
 const LAYERS: readonly (readonly string[])[] = [
   ['core'],
   ['units'],
@@ -17,7 +17,7 @@ const LAYERS: readonly (readonly string[])[] = [
   ['io'],
   ['report'],
   ['jobs'],
-  ['cli'],
+  ['cli', ''],
 ];
 
 // Known violations, as printed by this test ("file -> import" or "file: as unknown as"). Keep it empty: a new entry

@@ -1,13 +1,16 @@
-// Worker thread of check/parallel.ts: registers the TypeScript loader (tsx), then answers
+// Worker thread of check/parallel.ts: loads the check modules (compiled JavaScript beside it in dist/, or the
+// TypeScript sources through tsx during development), then answers
 // { id, task: { kind: 'fit', length, n, uk, ukNext } } with fitInterval (check/flowfit.ts) and
 // { id, task: { kind: 'spectrum', length, n, u } } with the bound-state energies (check/spectrum.ts).
+import { existsSync } from 'node:fs';
 import { parentPort } from 'node:worker_threads';
-import { register } from 'tsx/esm/api';
 
-register();
-const { fitInterval } = await import('./flowfit.ts');
-const { frameEnergies } = await import('./spectrum.ts');
-const { makeGrid } = await import('../spectral/grid.ts');
+const compiled = existsSync(new URL('./flowfit.js', import.meta.url));
+if (!compiled) (await import('tsx/esm/api')).register();
+const ext = compiled ? '.js' : '.ts';
+const { fitInterval } = await import(`./flowfit${ext}`);
+const { frameEnergies } = await import(`./spectrum${ext}`);
+const { makeGrid } = await import(`../spectral/grid${ext}`);
 
 parentPort?.on('message', ({ id, task }) => {
   try {

@@ -5,14 +5,23 @@
  */
 import { Command, CommanderError } from 'commander';
 import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts';
-import { checkCommand, type CheckCliOptions } from './commands/check.ts';
-import { compareCommand } from './commands/compare.ts';
-import { designCommand } from './commands/design.ts';
-import { latticeCommand } from './commands/lattice.ts';
-import { reportCommand } from './commands/report.ts';
-import { runCommand } from './commands/run.ts';
-import { verifyCommand } from './commands/verify.ts';
+import type { CheckCliOptions } from './commands/check.ts';
 import { FIGURES_HELP, version, type CommonOptions } from './options.ts';
+
+/** a command's entry: its argument and options in, exit code out */
+type CommandFn<O> = (arg: string, opts: O) => Promise<number>;
+
+/** a command loaded on first use, so that `--version`, `--help` and one command load only what they need */
+function lazy<O>(load: () => Promise<CommandFn<O>>): CommandFn<O> {
+  return async (arg, opts) => (await load())(arg, opts);
+}
+const checkCommand = lazy<CheckCliOptions>(async () => (await import('./commands/check.ts')).checkCommand);
+const compareCommand = lazy<CommonOptions>(async () => (await import('./commands/compare.ts')).compareCommand);
+const designCommand = lazy<CommonOptions>(async () => (await import('./commands/design.ts')).designCommand);
+const latticeCommand = lazy<CommonOptions>(async () => (await import('./commands/lattice.ts')).latticeCommand);
+const reportCommand = lazy<CommonOptions>(async () => (await import('./commands/report.ts')).reportCommand);
+const runCommand = lazy<CommonOptions>(async () => (await import('./commands/run.ts')).runCommand);
+const verifyCommand = lazy<CommonOptions>(async () => (await import('./commands/verify.ts')).verifyCommand);
 
 /** the check command's options */
 function checkProgram(program: Command, exit: (code: number) => void): void {
