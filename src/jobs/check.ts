@@ -24,7 +24,8 @@ import { validateVariationalInput } from '../io/check-options.ts';
 import { repairSequence, REPAIR_TOLERANCE, type Repair } from '../check/repair.ts';
 import { cubicSchedule, frameRates } from '../check/rates.ts';
 import { toJson } from './design.ts';
-import { variationalFit, type VariationalFit } from '../check/variational.ts';
+import { LEGENDRE_TERMS, variationalFit, type VariationalFit } from '../check/variational.ts';
+import { assertCheckAffordable } from '../io/cost.ts';
 import { compareCorrections, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
 import type { RampKind } from '../protocol/ramp.ts';
 import type { CheckReport, FrameReport, IntervalReport, VariationalReport } from '../io/formats/check.ts';
@@ -283,7 +284,9 @@ function lambdaMismatch(fit: SequenceFit, lambda: readonly number[] | null): num
 function readInput(opts: CheckOptions): { seq: Sequence; tolerance: number } {
   const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
   if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
-  return { seq: readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units }), tolerance };
+  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
+  assertCheckAffordable(seq, opts.variational, LEGENDRE_TERMS);
+  return { seq, tolerance };
 }
 
 /**

@@ -16,6 +16,7 @@ import { PLANCK_H } from '../units/constants.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 import { configIdentity, writeRun, type RunFolder } from '../io/run-folder.ts';
+import { assertDesignAffordable } from '../io/cost.ts';
 export type { DesignSummary, SolitonPrediction };
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
@@ -69,15 +70,21 @@ function resolutionWarnings(run: FlowRun): string[] {
 
 export interface DesignOptions {
   onProgress?: (lambda: number, lambdaEnd: number) => void;
+  /** keep the flow's dense output for a Schrödinger proof or a lattice (default true) */
+  keepDense?: boolean;
+  /** the job context, when the caller has made it already */
+  context?: JobContext;
 }
 
 export function runDesign(config: Config, opts: DesignOptions = {}): DesignResult {
-  const ctx = makeContext(config);
+  const ctx = opts.context ?? makeContext(config);
   const { grid, units, u0 } = ctx;
+  const keepDense = opts.keepDense ?? true;
+  assertDesignAffordable(config, { points: grid.n, length: grid.length, u0 }, keepDense);
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
   const frames = frameLambdas(flowCfg);
-  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress });
+  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress, keepDense });
   const warnings = [...ctx.warnings];
 
   const bound = boundStates(grid, u0);
