@@ -125,7 +125,7 @@ export function assertDesignAffordable(config: Config, start: StartSize, keepDen
 function verifySize(config: Config, start: StartSize, durationNatural: number, traceSamples: number, states: number): VerifySize {
   return {
     points: start.points, length: start.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
-    ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8, drives: 2, traceSamples,
+    ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8, correctedDrives: 1, bareDrives: 1, traceSamples,
   };
 }
 
@@ -159,7 +159,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   throw new UserError(
     `${src}: the Schrödinger proof would take ${approxCount(cost.matvecs)} products with H (${approxDuration(cost.seconds)} ${ON_LAPTOP}) and hold ${approxBytes(cost.bytes)}; ${LIMITS_TEXT}: ` +
       `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.points, states + 2)} levels (one Lanczos run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts; ${approxCount(cost.eigenMatvecs)} products each) ` +
-      `and 2 drives of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.points}); ` +
+      `a corrected drive of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.points}); ` +
       (fit > 0 ? `at most about ${fit} states fit: lower verify.states ` : 'lower grid.points or loosen verify.tolerance ') + LIFT_TEXT,
   );
 }

@@ -12,11 +12,12 @@
  * A verify solves the ends of the sequence and every interior fidelity-trace sample (traceSamples − 2 more solves),
  * each for the propagated states plus two (a degenerate pair cut at the top).
  *
- * Propagation (quantum/etd4.ts: ETDRK4 with the k-diagonal part exact). The explicit part is the potential and the
- * first-order part of the correction, −3σλ̇{u, k}, whose fastest rate is r = max|u| + 6|λ̇|_max·max|u|·k_max
- * (k_max = πN/L). The global step-halving control (quantum/propagator.ts) runs levels 64, 128, … up to the accepted
- * one, n* ≈ T·r/SCHRODINGER_STEP_NUMBER·(TOL_REFERENCE/tol)^(1/8) (a fourth-order error ∝ h⁴ must reach the amplitude
- * √tol), so about 2n* steps in all, each SCHRODINGER_MATVECS_PER_STEP products per state, for every drive.
+ * Propagation (quantum/etd4.ts: ETDRK4 with the k-diagonal part exact). The explicit part is the potential and, for a
+ * corrected drive, the first-order part of the correction −3λ̇{u, k}, whose fastest rate is
+ * r = max|u| + 6|λ̇|_max·max|u|·k_max (k_max = πN/L; r = max|u| for the bare drive). The global step-halving control
+ * (quantum/propagator.ts) runs levels 64, 128, … up to the accepted one,
+ * n* ≈ T·r/SCHRODINGER_STEP_NUMBER·(TOL_REFERENCE/tol)^(1/8) (a fourth-order error ∝ h⁴ must reach the amplitude
+ * √tol), so about 2n* steps in all, each SCHRODINGER_MATVECS_PER_STEP products per state.
  *
  * Memory: the propagated states (2N doubles each) are held STATE_COPIES times (scheme buffers, step-doubling copies,
  * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
@@ -31,8 +32,9 @@ export const EIGEN_LEVELS_PER_RUN = 45;
 export const EIGEN_GROWTH = 9;
 /** largest Krylov basis of one run (quantum/eigen.ts MAX_KRYLOV_DEFAULT) */
 export const EIGEN_BASIS_VECTORS = 400;
-/** T·r per accepted step of the global control: measured 0.65 (N = 256, −6sech² split, tol 1e-8), common practice */
-export const SCHRODINGER_STEP_NUMBER = 0.65;
+/** T·r per accepted step of the global control: measured 0.95 (N = 1024, −6sech² split to λ = 0.5 in 2 t₀: 1600 steps)
+ *  and 0.5–1 (N = 256, to λ = 0.1: level 256), tol 1e-8; common practice */
+export const SCHRODINGER_STEP_NUMBER = 0.9;
 /** the infidelity budget the step number was measured at */
 export const TOL_REFERENCE = 1e-8;
 /** smallest level of the global control (quantum/propagator.ts GLOBAL_INITIAL_STEPS) */
@@ -60,7 +62,9 @@ export interface VerifySize {
   states: number;
   /** infidelity budget of the time stepping */
   tol: number;
-  drives: number;
+  /** drives with the correction (cd, flipped) and without (bare) */
+  correctedDrives: number;
+  bareDrives: number;
   traceSamples: number;
 }
 
@@ -69,11 +73,12 @@ export interface VerifyCost {
   eigenMatvecs: number;
   /** eigen solves (ends and interior trace samples) */
   eigenSolves: number;
-  /** estimated accepted level n* of the global control, and the steps of all its levels */
+  /** estimated accepted level n* of the global control and the steps of all its levels, corrected drive */
   acceptedSteps: number;
   ladderSteps: number;
-  /** products of one drive */
-  driveMatvecs: number;
+  /** products of one corrected and of one bare drive */
+  correctedMatvecs: number;
+  bareMatvecs: number;
   /** all products, and their wall time on a 2-core laptop (s) */
   matvecs: number;
   seconds: number;
@@ -106,9 +111,9 @@ function peakRate(kind: RampKind, duration: number, lambdaEnd: number): number {
 }
 
 /** the estimated accepted step count n* of the global control (module comment), at least FIRST_LEVEL */
-export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length' | 'maxAbsU' | 'lambdaEnd' | 'ramp' | 'duration' | 'tol'>): number {
+export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length' | 'maxAbsU' | 'lambdaEnd' | 'ramp' | 'duration' | 'tol'>, corrected: boolean): number {
   const kMax = (Math.PI * s.points) / s.length;
-  const rate = s.maxAbsU + 6 * peakRate(s.ramp, s.duration, s.lambdaEnd) * s.maxAbsU * kMax;
+  const rate = s.maxAbsU + (corrected ? 6 * peakRate(s.ramp, s.duration, s.lambdaEnd) * s.maxAbsU * kMax : 0);
   const n = ((s.duration * rate) / SCHRODINGER_STEP_NUMBER) * Math.pow(TOL_REFERENCE / s.tol, 1 / 8);
   return Math.max(FIRST_LEVEL, Math.ceil(n));
 }
@@ -118,14 +123,15 @@ export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const levels = Math.min(s.points, s.states + 2);
   const eigenMatvecs = eigenSolveMatvecs(levels);
   const eigenSolves = 2 + Math.max(0, s.traceSamples - 2);
-  const acceptedSteps = estimateSchrodingerSteps(s);
+  const acceptedSteps = estimateSchrodingerSteps(s, true);
   const ladder = ladderSteps(acceptedSteps);
-  const driveMatvecs = ladder * SCHRODINGER_MATVECS_PER_STEP * s.states;
-  const matvecs = eigenSolves * eigenMatvecs + s.drives * driveMatvecs;
+  const correctedMatvecs = ladder * SCHRODINGER_MATVECS_PER_STEP * s.states;
+  const bareMatvecs = ladderSteps(estimateSchrodingerSteps(s, false)) * SCHRODINGER_MATVECS_PER_STEP * s.states;
+  const matvecs = eigenSolves * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
   const perMatvec = SECONDS_PER_MATVEC_POINT * s.points * Math.log2(s.points);
   const vector = s.points * Float64Array.BYTES_PER_ELEMENT;
   const bytes = s.states * 2 * vector * STATE_COPIES + EIGEN_BASIS_VECTORS * vector + eigenSolves * levels * vector;
-  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, driveMatvecs, matvecs, seconds: matvecs * perMatvec, bytes };
+  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs, seconds: matvecs * perMatvec, bytes };
 }
 
 /** semiclassical count of the bound states of u on a grid of spacing dx: ⌈∫√(−u)₊ dξ / π⌉ (the quantisation

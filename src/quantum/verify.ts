@@ -179,34 +179,36 @@ interface DriveContext {
   u1: Float64Array;
   warnings: string[];
   meter: WorkMeter;
-  /** expected accepted level of the global step control (quantum/cost.ts) */
-  expectedSteps: number;
+  /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
+  expectedSteps: { corrected: number; bare: number };
 }
 
 /**
  * Progress as the products with H done over those estimated (quantum/cost.ts): each eigen solve weighs `eigen`,
- * each drive `drive`; within a drive the propagator's fraction counts. The fraction never goes back and reaches 1
- * only at the end.
+ * each drive its own estimate (`driveWork`); within a drive the propagator's fraction counts. The fraction never
+ * goes back and reaches 1 only at the end.
  */
 class WorkMeter {
   private done = 0;
+  private drive = 0;
   private inDrive = 0;
   private shown = 0;
-  constructor(private readonly total: number, readonly eigen: number, readonly drive: number, private readonly report: (fraction: number, stage: string) => void) {}
+  constructor(private readonly total: number, readonly eigen: number, readonly driveWork: (drive: DriveKind) => number, private readonly report: (fraction: number, stage: string) => void) {}
   /** a finished piece of work */
   add(work: number, stage: string): void {
     this.done += work;
     this.show(stage);
   }
   /** fraction f of the running drive */
-  driveAt(f: number, stage: string): void {
+  driveAt(drive: DriveKind, f: number): void {
+    this.drive = this.driveWork(drive);
     this.inDrive = Math.max(this.inDrive, f);
-    this.show(stage);
+    this.show(drive);
   }
   /** the running drive is finished */
-  driveDone(stage: string): void {
+  driveDone(drive: DriveKind): void {
     this.inDrive = 0;
-    this.add(this.drive, stage);
+    this.add(this.driveWork(drive), drive);
   }
   private show(stage: string): void {
     this.shown = Math.max(this.shown, Math.min(0.999, (this.done + this.inDrive * this.drive) / this.total));
@@ -228,8 +230,8 @@ function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; s
   const uS = new Float64Array(grid.n);
   const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
   const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
-    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: ctx.expectedSteps,
-    onProgress: (f) => ctx.meter.driveAt(f, drive),
+    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: sigma === 0 ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
+    onProgress: (f) => ctx.meter.driveAt(drive, f),
     onSample: (s, sts) => {
       opts.potential(ramp.value(s), uS);
       if (trace && traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
@@ -279,15 +281,16 @@ function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: re
 }
 
 /** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
- *  accepted level of the step control, from quantum/cost.ts; the end spectra count as done */
-function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: Float64Array, drives: number, progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: number } {
+ *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
+function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: Float64Array, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: { corrected: number; bare: number } } {
   let maxAbsU = 0;
   for (let j = 0; j < u0.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(u0[j]), Math.abs(u1[j]));
-  const expectedSteps = estimateSchrodingerSteps({ points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT });
+  const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT };
+  const expectedSteps = { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
   const eigen = eigenSolveMatvecs(spectra.extra);
-  const drive = ladderSteps(expectedSteps) * SCHRODINGER_MATVECS_PER_STEP * spectra.m;
+  const driveWork = (d: DriveKind) => ladderSteps(DRIVE_SIGMA[d] === 0 ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * spectra.m;
   const solves = 2 + Math.max(0, (opts.traceSamples ?? 0) - 2);
-  const meter = new WorkMeter(solves * eigen + drives * drive, eigen, drive, progress);
+  const meter = new WorkMeter(solves * eigen + drives.reduce((sum, d) => sum + driveWork(d), 0), eigen, driveWork, progress);
   meter.add(2 * eigen, 'eigen');
   return { meter, expectedSteps };
 }
@@ -322,7 +325,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   }
   const ctx: DriveContext = {
     opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
-    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives.length, progress),
+    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives, progress),
     // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
     traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),
   };
