@@ -41,8 +41,9 @@ export const TOL_REFERENCE = 1e-8;
 export const FIRST_LEVEL = 64;
 /** products per state and step of ETDRK4: measured 4.2 */
 export const SCHRODINGER_MATVECS_PER_STEP = 4;
-/** wall time of one product per N log₂N on a 2-core laptop: measured 36–44 ns (N = 256, propagation and eigen) */
-export const SECONDS_PER_MATVEC_POINT = 4.5e-8;
+/** wall time of one product per N log₂N on a 2-core laptop: measured 24–38 ns in propagation (N = 1024 / 256) and
+ *  10–52 ns in eigen solves (whose product count grows with the filter degree ∝ N while each product gets cheaper) */
+export const SECONDS_PER_MATVEC_POINT = 3e-8;
 /** copies of every propagated state held at once: scheme and step-doubling buffers (~10) plus the copy the global
  *  control keeps at each sample time (10 trace and 33 strength samples) */
 export const STATE_COPIES = 55;
