@@ -93,6 +93,11 @@ describe('bounded cost: refusals before computing (exit 2, nothing written)', ()
     await expectRefused(['verify', c.path], c.out, [/verify\.states = 200/, /eigen solves of 202 levels/, /products with H \(≈ [\d.]+ h/, /at most about \d+ states fit/]);
   });
 
+  it('compare: verify.states = 200 is refused before the comparison, naming its two corrected drives', async () => {
+    const c = config(SMALL.replace('points: 256', 'points: 1024').replace('length: 40', 'length: 60') + 'verify: { states: 200 }\n');
+    await expectRefused(['compare', c.path], c.out, [/verify\.states = 200/, /2 corrected drives of 200 states/]);
+  });
+
   it('verify.tolerance = 1e-300 is refused by the schema, naming the smallest allowed', async () => {
     const c = config(SMALL + 'verify: { tolerance: 1e-300 }\n');
     await expectRefused(['verify', c.path], c.out, [/verify\.tolerance = 1e-300 is not allowed: must be a number from 1e-14/]);

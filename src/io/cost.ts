@@ -121,11 +121,18 @@ export function assertDesignAffordable(config: Config, start: StartSize, keepDen
   if (problems.length > 0) throw new UserError(`${src}: the design is refused before it starts: ${problems.join('; and ')} ${LIFT_TEXT}`);
 }
 
-/** the verify sizes of a config (protocol and verify sections present), states estimated when not given */
-function verifySize(config: Config, start: StartSize, durationNatural: number, traceSamples: number, states: number): VerifySize {
+/** the drives of a Schrödinger proof: with the correction and without */
+export interface DriveCounts {
+  corrected: number;
+  bare: number;
+}
+
+/** the verify sizes of a config (protocol and verify sections present) */
+function verifySize(config: Config, start: StartSize, durationNatural: number, traceSamples: number, states: number, drives: DriveCounts): VerifySize {
   return {
     points: start.points, length: start.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
-    ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8, correctedDrives: 1, bareDrives: 1, traceSamples,
+    ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
+    correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples,
   };
 }
 
@@ -146,12 +153,12 @@ function affordableStates(size: VerifySize): number {
  * Refuse a Schrödinger proof over the limits (quantum/cost.ts): eigen solves, drives and the states they hold.
  * `durationNatural` is protocol.duration in t₀; without a protocol section there is nothing to estimate.
  */
-export function assertVerifyAffordable(config: Config, start: StartSize, durationNatural: number, traceSamples: number): void {
+export function assertVerifyAffordable(config: Config, start: StartSize, durationNatural: number, traceSamples: number, drives: DriveCounts = { corrected: 1, bare: 1 }): void {
   if (limitsLifted() || !config.protocol || !(durationNatural > 0)) return;
   const src = config.meta.source;
   const given = config.verify?.states;
   const states = Math.min(start.points, given ?? boundStateEstimate(start.u0, start.length / start.points) + 4);
-  const size = verifySize(config, start, durationNatural, traceSamples, states);
+  const size = verifySize(config, start, durationNatural, traceSamples, states, drives);
   const cost = estimateVerifyCost(size);
   if (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES) return;
   const statesKey = given !== undefined ? `verify.states = ${given}` : `verify.states (not given: the bound states + 4 ≈ ${states})`;
@@ -159,7 +166,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   throw new UserError(
     `${src}: the Schrödinger proof would take ${approxCount(cost.matvecs)} products with H (${approxDuration(cost.seconds)} ${ON_LAPTOP}) and hold ${approxBytes(cost.bytes)}; ${LIMITS_TEXT}: ` +
       `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.points, states + 2)} levels (one Lanczos run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts; ${approxCount(cost.eigenMatvecs)} products each) ` +
-      `a corrected drive of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.points}); ` +
+      `and ${drives.corrected} corrected drive${drives.corrected === 1 ? '' : 's'} of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.points}); ` +
       (fit > 0 ? `at most about ${fit} states fit: lower verify.states ` : 'lower grid.points or loosen verify.tolerance ') + LIFT_TEXT,
   );
 }

@@ -38,6 +38,7 @@ import { compareFigures, writeFigures } from './report.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
 import { writeRun, type RunIdentity } from '../io/run-folder.ts';
+import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
 export type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson };
 
 /** points of the check of the pseudo-spectral Hopf run against characteristics over its resolved range */
@@ -71,6 +72,8 @@ export interface CompareOptions {
   /** the stage running and the fraction of it done (0 when it starts; the stages' costs differ too much between
    *  scenarios for one fraction of the whole) */
   onProgress?: (stage: string, fraction: number) => void;
+  /** the job context, when the caller has made it already */
+  context?: JobContext;
 }
 
 const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
@@ -253,8 +256,9 @@ function sequencesSection(ctx: JobContext, seq: Sequences): CompareSummary['sequ
 export function runCompare(config: CompareConfig, opts: CompareOptions = {}): CompareResult {
   const started = performance.now();
   const progress = opts.onProgress ?? (() => {});
-  const ctx = makeContext(config);
+  const ctx = opts.context ?? makeContext(config);
   const { grid, units, u0 } = ctx;
+  assertDesignAffordable(config, { points: grid.n, length: grid.length, u0 }, true);
   const warnings = [...ctx.warnings];
   const seq = bothSequences(config, ctx, warnings, progress);
   const lambdas = Array.from({ length: config.compare.samples }, (_, i) => (seq.lambdaCommon * i) / (config.compare.samples - 1));
@@ -354,7 +358,13 @@ export function quantumDrives(config: CompareConfig, result: CompareResult, stat
 
 /** runCompare followed by quantumDrives: the complete compare.json content */
 export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions = {}): CompareSummary {
-  return quantumDrives(config, runCompare(config, opts), undefined, opts.onProgress);
+  const context = opts.context ?? makeContext(config);
+  if (config.protocol) {
+    // two corrected drives (classical and quantum sequence), no traces: the cost is judged before the comparison
+    const start = { points: context.grid.n, length: context.grid.length, u0: context.u0 };
+    assertVerifyAffordable(config, start, context.units.timeToNatural(config.protocol.duration), 0, { corrected: 2, bare: 0 });
+  }
+  return quantumDrives(config, runCompare(config, { ...opts, context }), undefined, opts.onProgress);
 }
 
 /** Write the compare figures (jobs/report.ts) into dir; returns the paths written. */
