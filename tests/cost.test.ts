@@ -13,6 +13,7 @@ import { expectedLadderSteps, Propagator, kdvDrive } from '../src/quantum/propag
 import { makeRamp } from '../src/protocol/ramp.ts';
 import { lowestEigenpairs } from '../src/quantum/eigen.ts';
 import { estimateSchrodingerSteps } from '../src/quantum/cost.ts';
+import { compareCorrections } from '../src/check/drive.ts';
 import { complexFromReal } from '../src/linalg/complex.ts';
 import { approxBytes, approxCount, approxDuration, assertDesignAffordable } from '../src/io/cost.ts';
 import { parseConfig } from '../src/io/config.ts';
@@ -230,5 +231,19 @@ describe('progress counts work', () => {
     const ratio = expected / res.stats.steps;
     expect(ratio, `${expected} estimated, ${res.stats.steps} accepted`).toBeGreaterThan(1 / 4);
     expect(ratio).toBeLessThan(4);
+  });
+
+  it('the check\'s side-by-side drives report a fraction that never goes back and reaches 1', () => {
+    const g = makeGrid(30, 64);
+    const frame = (tau: number) => Float64Array.from(g.x, (x) => -2 / Math.cosh(x - 4 * tau) ** 2);
+    const seen: number[] = [];
+    compareCorrections({
+      grid: g, lambda: [0, 0.05, 0.1], frames: [frame(0), frame(0.05), frame(0.1)], states: 2, duration: 0.5, tol: 1e-6,
+      drives: [{ label: 'none', schedule: null }, { label: 'none again', schedule: null }],
+      onProgress: (f) => seen.push(f),
+    });
+    for (let i = 1; i < seen.length; i++) expect(seen[i]).toBeGreaterThanOrEqual(seen[i - 1]);
+    expect(seen[seen.length - 1]).toBe(1);
+    expect(seen.some((f) => f > 0.4 && f < 0.6)).toBe(true); // halfway after the first of two equal drives
   });
 });

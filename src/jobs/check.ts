@@ -76,6 +76,8 @@ export interface CheckOptions {
   variational?: VariationalCheckOptions;
   /** called after each fitted interval (done, total) */
   onProgress?: (done: number, total: number) => void;
+  /** fraction of the variational step's drives done */
+  onVariationalProgress?: (fraction: number) => void;
 }
 
 export interface CheckResult {
@@ -131,7 +133,7 @@ function resolveDegenerate(fit: SequenceFit, lambda: readonly number[] | null): 
  * exact cubic correction from the flow fit (check/rates.ts). λ is the input's, or the fitted τ when frames carry
  * only lab times.
  */
-function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOptions): { fit: VariationalFit; comparison: ComparisonResult; report: VariationalReport } {
+function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOptions, onProgress?: (fraction: number) => void): { fit: VariationalFit; comparison: ComparisonResult; report: VariationalReport } {
   const { grid, frames, system } = seq;
   if (!(Number.isFinite(vo.duration) && vo.duration > 0)) throw new UserError(`variational.duration = ${vo.duration} is not allowed: must be a finite number > 0 (${system.labels.time})`);
   const lambda = seq.lambda ?? fit.tau;
@@ -147,6 +149,7 @@ function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOp
       { label: 'fitted cubic', schedule: cubicSchedule(lambda, rates, vfit.legendre) },
       { label: 'none', schedule: null },
     ],
+    onProgress,
   });
   const report: VariationalReport = {
     method: 'variational gauge potential: min Σ_m w_m Σ_{n∉deg m} |(∂_λH + i[A,H])_nm|² over A = a k³ + ½{g, k}, g over [u, 1, P_c(2ξ/L)] (natural units ℓ, E₀); ∂_λH from the fitted flow where an interval passes, else a Fornberg λ-derivative',
@@ -382,7 +385,7 @@ function judge(seq: Sequence, rawFit: SequenceFit, energies: ReadonlyMap<number,
   };
   const base = { sequence: seq, fit, spectrum, timeMap, repair, report, admissible };
   if (!opts.variational) return base;
-  const v = variationalStep(seq, fit, opts.variational);
+  const v = variationalStep(seq, fit, opts.variational, opts.onVariationalProgress);
   report.variational = v.report;
   return { ...base, variational: { fit: v.fit, comparison: v.comparison } };
 }
