@@ -107,7 +107,7 @@ describe('bounded cost: refusals before computing (exit 2, nothing written)', ()
   it('the limits are lifted by ISOTRAP_LIFT_LIMITS=1, and only by that value', () => {
     const deep = parseConfig(SMALL.replace('depth: 6', 'depth: 1e6'), 'c.yaml', tmpdir());
     const g = makeGrid(40, 256);
-    const start = { points: 256, length: 40, u0: g.x.map((x) => -1e6 / Math.cosh(x) ** 2) };
+    const start = { grid: g, u0: g.x.map((x) => -1e6 / Math.cosh(x) ** 2) };
     expect(userErrorOf(() => assertDesignAffordable(deep, start, false))).toMatch(/initial\.depth = 1000000/);
     vi.stubEnv('ISOTRAP_LIFT_LIMITS', 'yes');
     expect(userErrorOf(() => assertDesignAffordable(deep, start, false))).toMatch(/ISOTRAP_LIFT_LIMITS=1/);

@@ -75,11 +75,9 @@ function depthKey(config: Config): string {
   }
 }
 
-/** the natural-units sizes of a job's start: the grid and u₀ */
+/** the natural-units start of a job (a JobContext has it): the grid (points n, box length in ℓ) and u₀ */
 export interface StartSize {
-  points: number;
-  /** box length, ℓ */
-  length: number;
+  grid: { readonly n: number; readonly length: number };
   u0: ArrayLike<number>;
 }
 
@@ -98,22 +96,22 @@ export function assertDesignAffordable(config: Config, start: StartSize, keepDen
   const src = config.meta.source;
   const maxAbsU = maxAbs(start.u0);
   const flow = config.flow;
-  const cost = estimateDesignCost({ points: start.points, length: start.length, maxAbsU, lambdaEnd: flow.lambda_end, frames: flow.frames, keepDense });
+  const cost = estimateDesignCost({ points: start.grid.n, length: start.grid.length, maxAbsU, lambdaEnd: flow.lambda_end, frames: flow.frames, keepDense });
   const problems: string[] = [];
   const bytes = cost.frameBytes + cost.denseBytes;
   if (bytes > MEMORY_LIMIT_BYTES) {
     const dense = cost.denseBytes > 0 ? ` plus ${approxBytes(cost.denseBytes)} of dense output for the Schrödinger proof (${approxCount(cost.steps)} flow steps)` : '';
     problems.push(
-      `it would hold ${approxBytes(bytes)}, over the memory limit of ${approxBytes(MEMORY_LIMIT_BYTES).slice(2)}: flow.frames = ${flow.frames} × grid.points = ${start.points} frame values ` +
+      `it would hold ${approxBytes(bytes)}, over the memory limit of ${approxBytes(MEMORY_LIMIT_BYTES).slice(2)}: flow.frames = ${flow.frames} × grid.points = ${start.grid.n} frame values ` +
         `at ${FRAME_VALUE_BYTES} bytes each (held and written as .npy and .csv)${dense}; lower flow.frames or grid.points`,
     );
   }
   if (cost.seconds > TIME_LIMIT_SECONDS) {
-    const kCut = bandEdge(start.points, start.length);
+    const kCut = bandEdge(start.grid.n, start.grid.length);
     problems.push(
       `it would take ${approxCount(cost.pointSteps)} grid-point steps (${approxDuration(cost.seconds)} ${ON_LAPTOP}), over the limit of ${approxDuration(TIME_LIMIT_SECONDS).slice(2)}: ` +
         `the flow's step is bounded by its nonlinear rate 6·max|u|·k_max, and ${depthKey(config)} (max|u| = ${Number(maxAbsU.toPrecision(3))} E₀), flow.lambda_end = ${flow.lambda_end} ` +
-        `and grid.points = ${start.points} (k_max = ${Number(kCut.toPrecision(3))}/ℓ) need ${approxCount(cost.steps)} steps` +
+        `and grid.points = ${start.grid.n} (k_max = ${Number(kCut.toPrecision(3))}/ℓ) need ${approxCount(cost.steps)} steps` +
         (flow.frames > 1000 ? ` and the spectrum of flow.frames = ${flow.frames} frames` : '') +
         `; lower the depth or flow.lambda_end, or use fewer grid.points`,
     );
@@ -130,7 +128,7 @@ export interface DriveCounts {
 /** the verify sizes of a config (protocol and verify sections present) */
 function verifySize(config: Config, start: StartSize, durationNatural: number, traceSamples: number, states: number, drives: DriveCounts): VerifySize {
   return {
-    points: start.points, length: start.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
+    points: start.grid.n, length: start.grid.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
     ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples,
   };
@@ -157,7 +155,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   if (limitsLifted() || !config.protocol || !(durationNatural > 0)) return;
   const src = config.meta.source;
   const given = config.verify?.states;
-  const states = Math.min(start.points, given ?? boundStateEstimate(start.u0, start.length / start.points) + 4);
+  const states = Math.min(start.grid.n, given ?? boundStateEstimate(start.u0, start.grid.length / start.grid.n) + 4);
   const size = verifySize(config, start, durationNatural, traceSamples, states, drives);
   const cost = estimateVerifyCost(size);
   if (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES) return;
@@ -165,8 +163,8 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   const fit = affordableStates(size);
   throw new UserError(
     `${src}: the Schrödinger proof would take ${approxCount(cost.matvecs)} products with H (${approxDuration(cost.seconds)} ${ON_LAPTOP}) and hold ${approxBytes(cost.bytes)}; ${LIMITS_TEXT}: ` +
-      `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.points, states + 2)} levels (one Lanczos run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts; ${approxCount(cost.eigenMatvecs)} products each) ` +
-      `and ${drives.corrected} corrected drive${drives.corrected === 1 ? '' : 's'} of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.points}); ` +
+      `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.grid.n, states + 2)} levels (one Lanczos run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts; ${approxCount(cost.eigenMatvecs)} products each) ` +
+      `and ${drives.corrected} corrected drive${drives.corrected === 1 ? '' : 's'} of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.grid.n}); ` +
       (fit > 0 ? `at most about ${fit} states fit: lower verify.states ` : 'lower grid.points or loosen verify.tolerance ') + LIFT_TEXT,
   );
 }

@@ -258,7 +258,7 @@ export function runCompare(config: CompareConfig, opts: CompareOptions = {}): Co
   const progress = opts.onProgress ?? (() => {});
   const ctx = opts.context ?? makeContext(config);
   const { grid, units, u0 } = ctx;
-  assertDesignAffordable(config, { points: grid.n, length: grid.length, u0 }, true);
+  assertDesignAffordable(config, ctx, true);
   const warnings = [...ctx.warnings];
   const seq = bothSequences(config, ctx, warnings, progress);
   const lambdas = Array.from({ length: config.compare.samples }, (_, i) => (seq.lambdaCommon * i) / (config.compare.samples - 1));
@@ -361,8 +361,7 @@ export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions
   const context = opts.context ?? makeContext(config);
   if (config.protocol) {
     // two corrected drives (classical and quantum sequence), no traces: the cost is judged before the comparison
-    const start = { points: context.grid.n, length: context.grid.length, u0: context.u0 };
-    assertVerifyAffordable(config, start, context.units.timeToNatural(config.protocol.duration), 0, { corrected: 2, bare: 0 });
+    assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), 0, { corrected: 2, bare: 0 });
   }
   return quantumDrives(config, runCompare(config, { ...opts, context }), undefined, opts.onProgress);
 }

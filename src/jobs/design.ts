@@ -80,7 +80,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const ctx = opts.context ?? makeContext(config);
   const { grid, units, u0 } = ctx;
   const keepDense = opts.keepDense ?? true;
-  assertDesignAffordable(config, { points: grid.n, length: grid.length, u0 }, keepDense);
+  assertDesignAffordable(config, ctx, keepDense);
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
   const frames = frameLambdas(flowCfg);

@@ -38,9 +38,8 @@ export function runPipeline(config: Config, opts: PipelineOptions): PipelineResu
   const identity = configIdentity(config);
   // the whole pipeline's cost is judged before the design starts
   const context = makeContext(config);
-  const start = { points: context.grid.n, length: context.grid.length, u0: context.u0 };
-  assertDesignAffordable(config, start, true);
-  if (config.protocol) assertVerifyAffordable(config, start, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
+  assertDesignAffordable(config, context, true);
+  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
   const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end), context });
   if (!design.summary.complete) {
     writeDesignOutputs(design, opts.dir, opts.force, identity);
