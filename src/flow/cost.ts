@@ -21,8 +21,6 @@ import { DenseFlow } from './dense.ts';
 export const FLOW_STEP_NUMBER = 0.3;
 /** wall time per grid-point step on a 2-core laptop: measured 0.7–0.9 µs for N ≥ 1024 (step doubling included) */
 export const FLOW_SECONDS_PER_POINT_STEP = 1e-6;
-/** bound-state spectrum of one frame (design's isospectrality track): measured 60–75 ms for N = 256 … 4096 */
-export const SPECTRUM_SECONDS_PER_FRAME = 0.1;
 /** bytes per frame value held and written by `design`: the frame (8), the converted copy (8), the .npy buffer (8)
  *  and the .csv text (about 24 characters of two bytes each: 48) */
 export const FRAME_VALUE_BYTES = 72;
@@ -60,7 +58,8 @@ export interface DesignCost {
   steps: number;
   /** grid-point steps of the flow */
   pointSteps: number;
-  /** estimated wall time on a 2-core laptop, s (flow plus the spectrum of every frame) */
+  /** estimated wall time of the flow on a 2-core laptop, s (the design's spectrum track, at most 11 frames of
+   *  60–75 ms each, adds about a second) */
   seconds: number;
   /** frames held and written, bytes */
   frameBytes: number;
@@ -75,7 +74,7 @@ export function estimateDesignCost(s: FlowSize & { frames: number; keepDense: bo
   return {
     steps,
     pointSteps,
-    seconds: pointSteps * FLOW_SECONDS_PER_POINT_STEP + s.frames * SPECTRUM_SECONDS_PER_FRAME,
+    seconds: pointSteps * FLOW_SECONDS_PER_POINT_STEP,
     frameBytes: s.frames * s.points * FRAME_VALUE_BYTES,
     denseBytes: s.keepDense ? denseOutputBytes(s.points, steps) : 0,
   };

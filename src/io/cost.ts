@@ -111,9 +111,7 @@ export function assertDesignAffordable(config: Config, start: StartSize, keepDen
     problems.push(
       `it would take ${approxCount(cost.pointSteps)} grid-point steps (${approxDuration(cost.seconds)} ${ON_LAPTOP}), over the limit of ${approxDuration(TIME_LIMIT_SECONDS).slice(2)}: ` +
         `the flow's step is bounded by its nonlinear rate 6·max|u|·k_max, and ${depthKey(config)} (max|u| = ${Number(maxAbsU.toPrecision(3))} E₀), flow.lambda_end = ${flow.lambda_end} ` +
-        `and grid.points = ${start.grid.n} (k_max = ${Number(kCut.toPrecision(3))}/ℓ) need ${approxCount(cost.steps)} steps` +
-        (flow.frames > 1000 ? ` and the spectrum of flow.frames = ${flow.frames} frames` : '') +
-        `; lower the depth or flow.lambda_end, or use fewer grid.points`,
+        `and grid.points = ${start.grid.n} (k_max = ${Number(kCut.toPrecision(3))}/ℓ) need ${approxCount(cost.steps)} steps; lower the depth or flow.lambda_end, or use fewer grid.points`,
     );
   }
   if (problems.length > 0) throw new UserError(`${src}: the design is refused before it starts: ${problems.join('; and ')} ${LIFT_TEXT}`);
