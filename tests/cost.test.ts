@@ -104,6 +104,15 @@ describe('bounded cost: refusals before computing (exit 2, nothing written)', ()
     await expectRefused(['verify', c.path], c.out, [/verify\.tolerance = 1e-300 is not allowed: must be a number from 1e-14/]);
   });
 
+  it('a design whose dense output would pass the flow\'s 1 GiB budget is refused only when the dense output is kept', () => {
+    // N = 8192, L = 60, depth 6, λ_end = 0.5: ≈ 1.7e4 steps of 2731 retained modes × 32 bytes ≈ 1.4 GiB (flow/cost.ts)
+    const cfg = parseConfig(SMALL.replace('points: 256', 'points: 8192').replace('length: 40', 'length: 60').replace('lambda_end: 0.1', 'lambda_end: 0.5'), 'c.yaml', tmpdir());
+    const g = makeGrid(60, 8192);
+    const start = { grid: g, u0: g.x.map((x) => -6 / Math.cosh(x) ** 2) };
+    expect(userErrorOf(() => assertDesignAffordable(cfg, start, true))).toMatch(/dense output .* ≈ 1\.\d GiB, over the flow's budget of 1 GiB/);
+    expect(() => assertDesignAffordable(cfg, start, false)).not.toThrow();
+  });
+
   it('the limits are lifted by ISOTRAP_LIFT_LIMITS=1, and only by that value', () => {
     const deep = parseConfig(SMALL.replace('depth: 6', 'depth: 1e6'), 'c.yaml', tmpdir());
     const g = makeGrid(40, 256);

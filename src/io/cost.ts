@@ -7,6 +7,7 @@
  */
 import { UserError } from '../core/errors.ts';
 import { bandEdge, estimateDesignCost, estimateFlowSteps, FLOW_SECONDS_PER_POINT_STEP, FRAME_VALUE_BYTES } from '../flow/cost.ts';
+import { DENSE_BYTES_DEFAULT } from '../flow/kdv.ts';
 import { boundStateEstimate, EIGEN_LEVELS_PER_RUN, estimateVerifyCost, type VerifySize } from '../quantum/cost.ts';
 import { amplitudeRange, estimateVariationalCost, LAMBDA_SPAN_MIN } from '../check/cost.ts';
 import type { Config } from './config.ts';
@@ -54,6 +55,11 @@ function limitsLifted(): boolean {
   return process.env[LIFT_LIMITS_VARIABLE] === '1';
 }
 
+/** the memory the flow's dense output may hold while it runs: the flow's budget, or none with the limits lifted */
+export function denseOutputBudget(): number {
+  return limitsLifted() ? Number.POSITIVE_INFINITY : DENSE_BYTES_DEFAULT;
+}
+
 /** the config key that sets the depth of the start, with its value */
 function depthKey(config: Config): string {
   const init = config.initial;
@@ -89,7 +95,8 @@ function maxAbs(u: ArrayLike<number>): number {
 
 /**
  * Refuse a design whose flow (steps from the stiffness, flow/cost.ts) or memory (frames, dense output when kept)
- * is over the limits.
+ * is over the limits, or whose dense output would pass the flow's own budget (flow/kdv.ts DENSE_BYTES_DEFAULT, which
+ * the integrator enforces while it runs).
  */
 export function assertDesignAffordable(config: Config, start: StartSize, keepDense: boolean): void {
   if (limitsLifted()) return;
@@ -104,6 +111,12 @@ export function assertDesignAffordable(config: Config, start: StartSize, keepDen
     problems.push(
       `it would hold ${approxBytes(bytes)}, over the memory limit of ${approxBytes(MEMORY_LIMIT_BYTES).slice(2)}: flow.frames = ${flow.frames} × grid.points = ${start.grid.n} frame values ` +
         `at ${FRAME_VALUE_BYTES} bytes each (held and written as .npy and .csv)${dense}; lower flow.frames or grid.points`,
+    );
+  }
+  if (cost.denseBytes > DENSE_BYTES_DEFAULT) {
+    problems.push(
+      `its dense output for the Schrödinger proof (${approxCount(cost.steps)} flow steps on grid.points = ${start.grid.n}) would hold ${approxBytes(cost.denseBytes)}, ` +
+        `over the flow's budget of ${approxBytes(DENSE_BYTES_DEFAULT).slice(2)}; lower the depth, flow.lambda_end or grid.points`,
     );
   }
   if (cost.seconds > TIME_LIMIT_SECONDS) {

@@ -16,7 +16,7 @@ import { PLANCK_H } from '../units/constants.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 import { configIdentity, writeRun, type RunFolder } from '../io/run-folder.ts';
-import { assertDesignAffordable } from '../io/cost.ts';
+import { assertDesignAffordable, denseOutputBudget } from '../io/cost.ts';
 export type { DesignSummary, SolitonPrediction };
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
@@ -84,7 +84,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
   const frames = frameLambdas(flowCfg);
-  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress, keepDense });
+  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress, keepDense, maxDenseBytes: denseOutputBudget() });
   const warnings = [...ctx.warnings];
 
   const bound = boundStates(grid, u0);
