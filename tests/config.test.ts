@@ -186,7 +186,7 @@ protocol: { duration: 1, ramp: cubic }
 `);
     const lines = e.message.split('\n');
     expect(lines.every((l) => l.startsWith('configs/x.yaml: '))).toBe(true);
-    // allowed ranges: frames 2…10000, flow.tolerance (0, 1e-2], states 1…200, verify.tolerance (0, 1e-3],
+    // allowed ranges: frames 2…10000, flow.tolerance [1e-14, 1e-2], states 1…200, verify.tolerance [1e-14, 1e-3],
     // temperature ≥ 0, fermions 1…200, ramp sin2|smooth|linear
     for (const part of [
       'name = "bad name" is not allowed',
@@ -194,9 +194,9 @@ protocol: { duration: 1, ramp: cubic }
       'grid.points = 17 is not allowed',
       'initial.kind = "ring" is not allowed: must be one of sech2, wells, solitons, samples',
       'flow.frames = 1 is not allowed: must be an integer from 2 to 10000',
-      'flow.tolerance = 0.5 is not allowed: must be a number in (0, 1e-2]',
+      'flow.tolerance = 0.5 is not allowed: must be a number from 1e-14 to 1e-2',
       'verify.states = 0 is not allowed: must be an integer from 1 to 200',
-      'verify.tolerance = 0.01 is not allowed: must be a number in (0, 1e-3]',
+      'verify.tolerance = 0.01 is not allowed: must be a number from 1e-14 to 1e-3',
       'verify.temperature = -1 is not allowed: must be a number ≥ 0',
       'verify.fermions = 201 is not allowed',
       'protocol.ramp = "cubic" is not allowed: must be one of sin2, smooth, linear',

@@ -21,6 +21,7 @@ import { complexFromReal } from '../linalg/complex.ts';
 import { SpectralOperator, type OperatorTerms } from '../quantum/hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, groupOf, thermalSummary, type ThermalSummary } from '../quantum/observables.ts';
 import { Propagator, type DrivenHamiltonian, type Scheme } from '../quantum/propagator.ts';
+import { estimateSchrodingerSteps, ladderSteps } from '../quantum/cost.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { lambdaDerivatives, STENCIL_WIDTH } from './fornberg.ts';
 import { BLOCK_MARGIN, DEGENERACY_TOL, evaluateG, legendreTable, type VariationalFit } from './variational.ts';
@@ -135,6 +136,8 @@ export interface CompareOptions {
   tol?: number;
   scheme?: Scheme;
   eigenMethod?: EigenMethod;
+  /** fraction of the propagation done, each drive weighted by its estimated steps (quantum/cost.ts) */
+  onProgress?: (fraction: number) => void;
 }
 
 export interface DriveComparison {
@@ -157,6 +160,14 @@ export interface ComparisonResult {
   interpolation: string;
 }
 
+/** the estimated steps of each drive (quantum/cost.ts: corrected drives have the stiffer first-order term) */
+function driveWeights(opts: CompareOptions, lambdaSpan: number, ramp: RampKind): number[] {
+  let maxAbsU = 0;
+  for (const f of opts.frames) for (let j = 0; j < f.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(f[j]));
+  const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: lambdaSpan, ramp, duration: opts.duration, tol: opts.tol ?? DEFAULT_STEP_TOL };
+  return opts.drives.map((d) => ladderSteps(estimateSchrodingerSteps(size, d.schedule !== null)));
+}
+
 /** propagate the lowest levels of the first frame under each drive and compare at the last frame (module doc) */
 export function compareCorrections(opts: CompareOptions): ComparisonResult {
   const { grid, lambda, frames } = opts;
@@ -175,10 +186,17 @@ export function compareCorrections(opts: CompareOptions): ComparisonResult {
   const prop = new Propagator(grid);
   const op = new SpectralOperator(grid);
   const scratch = new Float64Array(2 * grid.n);
-  const drives: DriveComparison[] = opts.drives.map(({ label, schedule }) => {
+  const weights = driveWeights(opts, l1 - l0, kind);
+  const total = weights.reduce((a, b) => a + b, 0);
+  let done = 0;
+  const drives: DriveComparison[] = opts.drives.map(({ label, schedule }, di) => {
     const t0 = performance.now();
     const H = correctionDrive(grid, seq, schedule, ramp, l0);
-    const res = prop.propagate(H, init, 0, opts.duration, { tol: opts.tol ?? DEFAULT_STEP_TOL, scheme: opts.scheme, errorControl: 'global' });
+    const res = prop.propagate(H, init, 0, opts.duration, {
+      tol: opts.tol ?? DEFAULT_STEP_TOL, scheme: opts.scheme, errorControl: 'global',
+      onProgress: opts.onProgress ? (f) => opts.onProgress?.((done + f * weights[di]) / total) : undefined,
+    });
+    done += weights[di];
     const fidelity = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups, i)));
     const excess = res.states.map((p, i) => excessEnergy(op, uEnd, p, e1.energies[i], scratch));
     const thermal = opts.temperature !== undefined ? thermalSummary(e0.energies.slice(0, M), fidelity, excess, opts.temperature, grid.length) : null;

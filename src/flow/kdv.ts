@@ -9,9 +9,9 @@
  * (Hairer, Nørsett & Wanner, Solving ODEs I, 2nd ed. 1993, §II.4): one step h and two steps h/2 give the
  * error estimate ‖y_{h/2} − y_h‖/15 and the fifth-order result y_{h/2} + (y_{h/2} − y_h)/15; the step factor comes
  * from the shared controller (integrate/controller.ts). Step sizes live on a geometric ladder so the exponential
- * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Every
- * accepted step is kept for dense output (cubic Hermite in λ with u_λ from the right-hand side), so that the
- * Schrödinger solver can ask for u at any λ.
+ * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Unless the
+ * caller declines it (`keepDense: false`), every accepted step is kept for dense output (cubic Hermite in λ with
+ * u_λ from the right-hand side), so that the Schrödinger solver can ask for u at any λ.
  */
 import { NumericalError } from '../core/errors.ts';
 import { errorExponent, stepFactor } from '../integrate/controller.ts';
@@ -58,6 +58,9 @@ export interface FlowOptions {
   maxDenseBytes?: number;
   /** detect the gradient catastrophe (default: when β = 0) */
   detectBreaking?: boolean;
+  /** keep the dense output (default true); without it `FlowRun.dense` holds only the start and memory stays
+   *  proportional to the frames */
+  keepDense?: boolean;
   onProgress?: (lambda: number, lambdaEnd: number) => void;
 }
 
@@ -305,13 +308,14 @@ class FlowRecorder {
   readonly dense: DenseFlow;
   private readonly dv: Float64Array;
   private readonly maxPoints: number;
-  constructor(private readonly op: FlowOperator, private readonly active: number, private readonly maxBytes: number, private readonly tEnd: number) {
+  constructor(private readonly op: FlowOperator, private readonly active: number, private readonly maxBytes: number, private readonly tEnd: number, private readonly keep: boolean) {
     this.dense = new DenseFlow(op.grid.n, new RealFFT(op.grid.n));
     this.dv = new Float64Array(2 * op.modes);
     this.maxPoints = Math.floor(maxBytes / DenseFlow.bytesPerPoint(active));
   }
   /** dense point (λ, û, ∂_λû); fails once the record would pass its memory budget */
   store(t: number, v: Float64Array, nv: Float64Array): void {
+    if (!this.keep && this.dense.lambdas.length > 0) return;
     if (this.dense.lambdas.length >= this.maxPoints) {
       const perPoint = DenseFlow.bytesPerPoint(this.active);
       const projected = (this.dense.lambdas.length * perPoint * this.tEnd) / Math.max(t, Number.MIN_VALUE);
@@ -352,7 +356,7 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
   if (scale === 0) scale = 1;
   const { v, discardedTail } = retainedSpectrum(op, u0);
   const active = op.cutoff + 1;
-  const recorder = new FlowRecorder(op, active, opts.maxDenseBytes ?? DENSE_BYTES_DEFAULT, tEnd);
+  const recorder = new FlowRecorder(op, active, opts.maxDenseBytes ?? DENSE_BYTES_DEFAULT, tEnd, opts.keepDense ?? true);
   const loop = runFlowLoop(op, v, frames, scale, recorder, opts);
   const ls = loop.stats;
   const stats: FlowStats = {

@@ -37,6 +37,12 @@ const MASS_U_RANGE = [1, 300] as const;
 /** grid sizes allowed: powers of two in this range (fft.js needs powers of two; 65536 keeps memory modest) */
 export const GRID_POINTS_MIN = 16;
 export const GRID_POINTS_MAX = 65536;
+/** smallest flow.tolerance: the round-off of one FFT-based step is ~1e-15 of max|u|, so a smaller local error per
+ *  step cannot be met in double precision (common practice) */
+export const FLOW_TOLERANCE_MIN = 1e-14;
+/** smallest verify.tolerance: a fidelity computed in double precision resolves 1 − F only to ~1e-16 (a few ulps of
+ *  1), so a time-stepping infidelity budget below ~100 ulps cannot be confirmed (common practice) */
+export const VERIFY_TOLERANCE_MIN = 1e-14;
 
 // ---------------------------------------------------------------------------------------------------------
 // building blocks: each leaf carries the text of "what is allowed" as its zod error message
@@ -248,7 +254,7 @@ export const flowSchema = strictSection(
     dispersion: oneOf(DISPERSIONS).default('quantum'),
     lambda_end: positive('final KdV time λ, dimensionless'),
     frames: intBetween(2, 10000).default(11),
-    tolerance: numberWhere('must be a number in (0, 1e-2] (local error per step relative to max|u|)', (v) => v > 0 && v <= 1e-2).default(1e-10),
+    tolerance: numberWhere(`must be a number from ${FLOW_TOLERANCE_MIN} to 1e-2 (local error per step relative to max|u|; ${FLOW_TOLERANCE_MIN} is the smallest double precision can meet)`, (v) => v >= FLOW_TOLERANCE_MIN && v <= 1e-2).default(1e-10),
     drift: numberWhere('must be a number (co-moving drift c, length unit per unit λ)').default(0),
   },
   'flow',
@@ -267,7 +273,7 @@ const TEMPERATURE_RULE = 'must be a number ≥ 0 (in E₀ natural, nK lab)';
 export const verifySchema = strictSection(
   {
     states: intBetween(1, 200).optional(),
-    tolerance: numberWhere('must be a number in (0, 1e-3]', (v) => v > 0 && v <= 1e-3).default(1e-8),
+    tolerance: numberWhere(`must be a number from ${VERIFY_TOLERANCE_MIN} to 1e-3 (infidelity budget of the time stepping; ${VERIFY_TOLERANCE_MIN} is the smallest double precision can confirm)`, (v) => v >= VERIFY_TOLERANCE_MIN && v <= 1e-3).default(1e-8),
     temperature: z
       .number({ error: TEMPERATURE_RULE })
       .superRefine((v, ctx) => {

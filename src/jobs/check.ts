@@ -24,7 +24,8 @@ import { validateVariationalInput } from '../io/check-options.ts';
 import { repairSequence, REPAIR_TOLERANCE, type Repair } from '../check/repair.ts';
 import { cubicSchedule, frameRates } from '../check/rates.ts';
 import { toJson } from './design.ts';
-import { variationalFit, type VariationalFit } from '../check/variational.ts';
+import { LEGENDRE_TERMS, variationalFit, type VariationalFit } from '../check/variational.ts';
+import { assertCheckAffordable } from '../io/cost.ts';
 import { compareCorrections, variationalSchedule, type ComparisonResult } from '../check/drive.ts';
 import type { RampKind } from '../protocol/ramp.ts';
 import type { CheckReport, FrameReport, IntervalReport, VariationalReport } from '../io/formats/check.ts';
@@ -75,6 +76,8 @@ export interface CheckOptions {
   variational?: VariationalCheckOptions;
   /** called after each fitted interval (done, total) */
   onProgress?: (done: number, total: number) => void;
+  /** fraction of the variational step's drives done */
+  onVariationalProgress?: (fraction: number) => void;
 }
 
 export interface CheckResult {
@@ -130,7 +133,7 @@ function resolveDegenerate(fit: SequenceFit, lambda: readonly number[] | null): 
  * exact cubic correction from the flow fit (check/rates.ts). λ is the input's, or the fitted τ when frames carry
  * only lab times.
  */
-function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOptions): { fit: VariationalFit; comparison: ComparisonResult; report: VariationalReport } {
+function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOptions, onProgress?: (fraction: number) => void): { fit: VariationalFit; comparison: ComparisonResult; report: VariationalReport } {
   const { grid, frames, system } = seq;
   if (!(Number.isFinite(vo.duration) && vo.duration > 0)) throw new UserError(`variational.duration = ${vo.duration} is not allowed: must be a finite number > 0 (${system.labels.time})`);
   const lambda = seq.lambda ?? fit.tau;
@@ -146,6 +149,7 @@ function variationalStep(seq: Sequence, fit: SequenceFit, vo: VariationalCheckOp
       { label: 'fitted cubic', schedule: cubicSchedule(lambda, rates, vfit.legendre) },
       { label: 'none', schedule: null },
     ],
+    onProgress,
   });
   const report: VariationalReport = {
     method: 'variational gauge potential: min Σ_m w_m Σ_{n∉deg m} |(∂_λH + i[A,H])_nm|² over A = a k³ + ½{g, k}, g over [u, 1, P_c(2ξ/L)] (natural units ℓ, E₀); ∂_λH from the fitted flow where an interval passes, else a Fornberg λ-derivative',
@@ -283,7 +287,9 @@ function lambdaMismatch(fit: SequenceFit, lambda: readonly number[] | null): num
 function readInput(opts: CheckOptions): { seq: Sequence; tolerance: number } {
   const tolerance = opts.tolerance ?? DEFAULT_TOLERANCE;
   if (!(Number.isFinite(tolerance) && tolerance > 0)) throw new UserError(`tolerance = ${tolerance} is not allowed: must be a finite number > 0`);
-  return { seq: readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units }), tolerance };
+  const seq = readSequence(opts.input, { sidecar: opts.sidecar, units: opts.units });
+  assertCheckAffordable(seq, opts.variational, LEGENDRE_TERMS);
+  return { seq, tolerance };
 }
 
 /**
@@ -379,7 +385,7 @@ function judge(seq: Sequence, rawFit: SequenceFit, energies: ReadonlyMap<number,
   };
   const base = { sequence: seq, fit, spectrum, timeMap, repair, report, admissible };
   if (!opts.variational) return base;
-  const v = variationalStep(seq, fit, opts.variational);
+  const v = variationalStep(seq, fit, opts.variational, opts.onVariationalProgress);
   report.variational = v.report;
   return { ...base, variational: { fit: v.fit, comparison: v.comparison } };
 }

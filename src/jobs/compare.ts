@@ -39,6 +39,7 @@ import type { FigureSize } from '../report/style.ts';
 import { frameLambdas, makeContext, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
 import { writeRun, type RunIdentity } from '../io/run-folder.ts';
+import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
 export type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson };
 
 /** points of the check of the pseudo-spectral Hopf run against characteristics over its resolved range */
@@ -69,7 +70,11 @@ export interface CompareResult {
 }
 
 export interface CompareOptions {
+  /** the stage running and the fraction of it done (0 when it starts; the stages' costs differ too much between
+   *  scenarios for one fraction of the whole) */
   onProgress?: (stage: string, fraction: number) => void;
+  /** the job context, when the caller has made it already */
+  context?: JobContext;
 }
 
 const finiteOrNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
@@ -123,7 +128,7 @@ function bothSequences(config: CompareConfig, ctx: JobContext, warnings: string[
   const quantum = integrateFlow(grid, naturalFlowEquation('quantum', drift), u0, { tolerance: flowCfg.tolerance, frames });
   if (quantum.breaking) warnings.push(`the quantum flow stopped at λ = ${quantum.breaking.lambdaReached}: ${quantum.breaking.reason}`);
   const quantumReached = quantum.breaking ? quantum.breaking.lambdaReached : lambdaEnd;
-  progress('classical sequence', 0.1);
+  progress('classical sequence', 0);
   const profile0 = new FourierProfile(grid, u0);
   const classicalAt = characteristicsSampler(grid, profile0, drift, breaking.lambda);
   const classicalEnd = Math.min(lambdaEnd, CLASSICAL_END_FRACTION * breaking.lambda);
@@ -166,7 +171,7 @@ function trajectoryStep(config: CompareConfig, ctx: JobContext, seq: Sequences, 
   const starts = shellStarts(seq.profile0, grid.x, tr.shells, tr.phases);
   if (starts.length === 0) throw new UserError(`compare.trajectories: no closed orbit found in the deepest well of the initial potential (is the box too small?)`);
   const drift = units.lengthToNatural(config.flow.drift);
-  const { onClassical, onQuantum } = phaseSpaceComparison({ grid, profile: seq.profile0, drift, quantum: seq.quantum.dense, ramp, lambdaBreak: seq.breaking.lambda, starts }, () => progress('trajectories', 0.6));
+  const { onClassical, onQuantum } = phaseSpaceComparison({ grid, profile: seq.profile0, drift, quantum: seq.quantum.dense, ramp, lambdaBreak: seq.breaking.lambda, starts }, () => progress('trajectories', 0.5)); // the classical half of the trajectories is done
   const E = units.energyFromNatural;
   const perLength = units.lengthToNatural(1);
   const trajectories: TrajectoryJson[] = starts.map((s, i) => ({
@@ -252,8 +257,9 @@ function sequencesSection(ctx: JobContext, seq: Sequences): CompareSummary['sequ
 export function runCompare(config: CompareConfig, opts: CompareOptions = {}): CompareResult {
   const started = performance.now();
   const progress = opts.onProgress ?? (() => {});
-  const ctx = makeContext(config);
+  const ctx = opts.context ?? makeContext(config);
   const { grid, units, u0 } = ctx;
+  assertDesignAffordable(config, ctx, true);
   const warnings = [...ctx.warnings];
   const seq = bothSequences(config, ctx, warnings, progress);
   const lambdas = Array.from({ length: config.compare.samples }, (_, i) => (seq.lambdaCommon * i) / (config.compare.samples - 1));
@@ -261,11 +267,11 @@ export function runCompare(config: CompareConfig, opts: CompareOptions = {}): Co
   const lambda1pct = thresholdCrossing(grid.n, seq.classicalAt, seq.quantumAt, curve);
   if (lambda1pct === null) warnings.push(`the sequences stay within ${DISTANCE_THRESHOLD * 100} % of each other up to λ = ${seq.lambdaCommon.toPrecision(6)}`);
   const check = characteristicsCheck(grid, seq.classical.dense, seq.classicalAt, u0, seq.spectralReached, CHARACTERISTICS_CHECK_POINTS);
-  progress('scaling study', 0.25);
+  progress('scaling study', 0);
   const { problem, study } = scalingStep(config, ctx, warnings);
-  progress('trajectories', 0.45);
+  progress('trajectories', 0);
   const phase = trajectoryStep(config, ctx, seq, progress);
-  if (config.compare.sweep_drift) progress('phase space per δ', 0.75);
+  if (config.compare.sweep_drift) progress('phase space per δ', 0);
   const driftStudy = driftStep(config, problem, study, phase.rampKind);
   progress('done', 1);
 
@@ -325,7 +331,7 @@ export function writeCompareOutputs(summary: CompareSummary, dir: string, force:
  * Fidelities of the lowest states against the eigenstates of H at λ_common; excess energies in the config's
  * energy unit.
  */
-export function quantumDrives(config: CompareConfig, result: CompareResult, states?: number): CompareSummary {
+export function quantumDrives(config: CompareConfig, result: CompareResult, states?: number, onProgress?: Progress): CompareSummary {
   const s = result.summary;
   const { units, grid } = result.ctx;
   const lc = s.lambda_common;
@@ -335,7 +341,10 @@ export function quantumDrives(config: CompareConfig, result: CompareResult, stat
   const duration = units.timeToNatural(config.protocol.duration) * (lc / config.flow.lambda_end);
   const drives: DriveFidelity[] = [];
   for (const [drive, potential] of [['classical+cubic', result.classicalAt], ['quantum+cubic', result.quantumAt]] as const) {
-    const d = driveWithCorrection({ grid, potential, lambdaEnd: lc, ramp: config.protocol.ramp, duration, states: states ?? config.verify?.states, tol: config.verify?.tolerance });
+    const d = driveWithCorrection({
+      grid, potential, lambdaEnd: lc, ramp: config.protocol.ramp, duration, states: states ?? config.verify?.states, tol: config.verify?.tolerance,
+      onProgress: onProgress ? (f) => onProgress(`Schrödinger: ${drive}`, f) : undefined,
+    });
     drives.push({
       drive,
       states: d.states.map((st, i) => ({ index: st.index, energy: units.energyFromNatural(st.energyStart), fidelity: d.fidelity[i], excess_energy: units.energyFromNatural(d.excessEnergy[i]) })),
@@ -350,7 +359,12 @@ export function quantumDrives(config: CompareConfig, result: CompareResult, stat
 
 /** runCompare followed by quantumDrives: the complete compare.json content */
 export function runCompareWithDrives(config: CompareConfig, opts: CompareOptions = {}): CompareSummary {
-  return quantumDrives(config, runCompare(config, opts));
+  const context = opts.context ?? makeContext(config);
+  if (config.protocol) {
+    // two corrected drives (classical and quantum sequence), no traces: the cost is judged before the comparison
+    assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), 0, { corrected: 2, bare: 0 });
+  }
+  return quantumDrives(config, runCompare(config, { ...opts, context }), undefined, opts.onProgress);
 }
 
 /** Write the compare figures (jobs/report.ts) into dir; returns the paths written. */

@@ -9,7 +9,9 @@ import { configIdentity } from '../io/run-folder.ts';
 import type { FigureSize } from '../report/style.ts';
 import { DESIGN_FILES, runDesign, writeDesignOutputs, type DesignResult } from './design.ts';
 import { renderFolder } from './report.ts';
-import { runVerify, VERIFY_FILES, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
+import { runVerify, TRACE_SAMPLES, VERIFY_FILES, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
+import { makeContext } from './context.ts';
+import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
 
 export interface PipelineOptions {
   /** output folder */
@@ -37,7 +39,11 @@ export function runPipeline(config: Config, opts: PipelineOptions): PipelineResu
   // existing results are refused before anything is computed; design and verify share one run identity
   checkOutputDir(opts.dir, { force: opts.force, produces: [...DESIGN_FILES, ...VERIFY_FILES] });
   const identity = configIdentity(config);
-  const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end) });
+  // the whole pipeline's cost is judged before the design starts
+  const context = makeContext(config);
+  assertDesignAffordable(config, context, true);
+  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
+  const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end), context });
   if (!design.summary.complete) {
     writeDesignOutputs(design, opts.dir, opts.force, identity);
     throw new AcceptanceFailure(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the design it reached is in ${opts.dir})`);

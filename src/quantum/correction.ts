@@ -20,6 +20,8 @@ export interface CorrectedDriveOptions {
   states?: number;
   /** infidelity budget of the time stepping (default as in verifySequence) */
   tol?: number;
+  /** fraction of the drive's work done (verifySequence's work meter) */
+  onProgress?: (fraction: number) => void;
 }
 
 export interface CorrectedDrive {
@@ -44,6 +46,7 @@ export function driveWithCorrection(opts: CorrectedDriveOptions): CorrectedDrive
     drives: ['cd'],
     traceSamples: 0,
     strengthSamples: 0,
+    onProgress: opts.onProgress ? (f) => opts.onProgress?.(f) : undefined,
   });
   return { states: r.states, fidelity: r.drives[0].fidelity, excessEnergy: r.drives[0].excessEnergy };
 }

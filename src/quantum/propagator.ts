@@ -107,6 +107,24 @@ export interface PropagateOptions {
   /** largest level of the global control (default 65,536 steps): when it is reached before the estimate meets the
    *  budget, the propagation fails with a NumericalError instead of returning an unconverged result */
   maxSteps?: number;
+  /** global control: the expected accepted level (e.g. quantum/cost.ts estimateSchrodingerSteps); progress counts
+   *  the steps done against the ladder up to it (default: three levels) */
+  expectedSteps?: number;
+}
+
+/**
+ * Steps of the global ladder expected in all when `done` steps of earlier levels (`levelsRun` of them) are finished
+ * and a level of n steps is running: this level, then doublings until at least three levels have run and the
+ * expected accepted level is reached.
+ */
+export function expectedLadderSteps(done: number, levelsRun: number, n: number, expected: number): number {
+  let total = done + n;
+  let level = n;
+  for (let count = levelsRun + 1; count < 3 || level < expected; count++) {
+    level *= 2;
+    total += level;
+  }
+  return total;
 }
 
 export interface PropagationStats {
@@ -207,14 +225,19 @@ export class Propagator {
     let matvecs = 0;
     const maxOrder = this.instance(scheme).def.order;
     let order = 0; // observed order p (set once the doubling ladder converges; observed orders above the scheme's are not trusted)
+    let shown = 0; // progress reported so far: the expected total can grow, the fraction never goes back
+    const report = (steps: number, expectedTotal: number) => {
+      shown = Math.max(shown, Math.min(0.99, steps / expectedTotal));
+      opts.onProgress?.(shown);
+    };
     for (;;) {
       const cap: Array<{ s: number; states: Float64Array[] }> = [];
       const done = total;
+      const expectedTotal = expectedLadderSteps(done, levels.length, n, opts.expectedSteps ?? 0);
       const res = this.propagateLocal(H, initial, s0, s1, {
         ...opts, scheme, tol, fixedSteps: n, errorControl: 'local',
         onSample: opts.onSample ? (s, sts) => cap.push({ s, states: sts.map((x) => Float64Array.from(x)) }) : undefined,
-        // expected total work ≈ 2× the current level
-        onProgress: opts.onProgress ? (f) => opts.onProgress?.(Math.min(0.99, (done + f * n) / (done + 2 * n))) : undefined,
+        onProgress: opts.onProgress ? (f) => report(done + f * n, expectedTotal) : undefined,
       }, scheme, tol, performance.now());
       const ratio = levels.length ? n / levels[levels.length - 1] : 2;
       levels.push(n);

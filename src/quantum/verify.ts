@@ -14,6 +14,7 @@ import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, gr
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
+import { eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP } from './cost.ts';
 
 export type DriveKind = 'cd' | 'bare' | 'flipped';
 export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped: -1 };
@@ -22,6 +23,8 @@ export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped:
 const DEGENERACY_TOL_DEFAULT = 1e-7;
 /** states added above the bound ones by default (the lowest continuum levels show leakage out of the bound set) */
 const EXTRA_STATES = 4;
+/** infidelity budget of the time stepping when none is given (the propagator's default) */
+const TOL_DEFAULT = 1e-8;
 /** samples of the protocol at which the size of the correction is measured (CdStrength) */
 const STRENGTH_SAMPLES_DEFAULT = 33;
 
@@ -175,11 +178,46 @@ interface DriveContext {
   /** the potential at the end of the sequence */
   u1: Float64Array;
   warnings: string[];
-  progress: (fraction: number, stage: string) => void;
+  meter: WorkMeter;
+  /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
+  expectedSteps: { corrected: number; bare: number };
+}
+
+/**
+ * Progress as the products with H done over those estimated (quantum/cost.ts): each eigen solve weighs `eigen`,
+ * each drive its own estimate (`driveWork`); within a drive the propagator's fraction counts. The fraction never
+ * goes back and reaches 1 only at the end.
+ */
+class WorkMeter {
+  private done = 0;
+  private drive = 0;
+  private inDrive = 0;
+  private shown = 0;
+  constructor(private readonly total: number, readonly eigen: number, readonly driveWork: (drive: DriveKind) => number, private readonly report: (fraction: number, stage: string) => void) {}
+  /** a finished piece of work */
+  add(work: number, stage: string): void {
+    this.done += work;
+    this.show(stage);
+  }
+  /** fraction f of the running drive */
+  driveAt(drive: DriveKind, f: number): void {
+    this.drive = this.driveWork(drive);
+    this.inDrive = Math.max(this.inDrive, f);
+    this.show(drive);
+  }
+  /** the running drive is finished */
+  driveDone(drive: DriveKind): void {
+    this.inDrive = 0;
+    this.add(this.driveWork(drive), drive);
+  }
+  private show(stage: string): void {
+    this.shown = Math.max(this.shown, Math.min(0.999, (this.done + this.inDrive * this.drive) / this.total));
+    this.report(this.shown, stage);
+  }
 }
 
 /** propagate the initial states under one drive and evaluate fidelities, energies, traces and the CD strength */
-function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: number): { result: DriveResult; strength: CdStrength | null } {
+function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; strength: CdStrength | null } {
   const { opts, ramp, spectra, warnings } = ctx;
   const { grid } = opts;
   const sigma = DRIVE_SIGMA[drive];
@@ -192,14 +230,15 @@ function runDrive(ctx: DriveContext, drive: DriveKind, di: number, driveCount: n
   const uS = new Float64Array(grid.n);
   const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
   const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
-    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global',
-    onProgress: (f) => ctx.progress((di + f) / driveCount, drive),
+    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: sigma === 0 ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
+    onProgress: (f) => ctx.meter.driveAt(drive, f),
     onSample: (s, sts) => {
       opts.potential(ramp.value(s), uS);
       if (trace && traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
       if (nStrength > 0 && strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, Math.abs(ramp.rate(s)), uS, sts);
     },
   });
+  ctx.meter.driveDone(drive);
   const { e0, e1, groups1, m } = spectra;
   const fid = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
   const exc = res.states.map((p, i) => excessEnergy(ctx.op, ctx.u1, p, e1.energies[i], ctx.scratch));
@@ -235,9 +274,25 @@ function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: re
     const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod });
     basis = { es: e, gs: groupDegenerate(e.energies, ctx.degTol) };
     ctx.traceBases.set(s, basis);
+    ctx.meter.add(ctx.meter.eigen, 'trace eigenstates');
   }
   const { es, gs } = basis;
   return sts.map((p, i) => eigenspaceFidelity(p, es.vectors, groupOf(gs, i)));
+}
+
+/** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
+ *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
+function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: Float64Array, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: { corrected: number; bare: number } } {
+  let maxAbsU = 0;
+  for (let j = 0; j < u0.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(u0[j]), Math.abs(u1[j]));
+  const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT };
+  const expectedSteps = { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
+  const eigen = eigenSolveMatvecs(spectra.extra);
+  const driveWork = (d: DriveKind) => ladderSteps(DRIVE_SIGMA[d] === 0 ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * spectra.m;
+  const solves = 2 + Math.max(0, (opts.traceSamples ?? 0) - 2);
+  const meter = new WorkMeter(solves * eigen + drives.reduce((sum, d) => sum + driveWork(d), 0), eigen, driveWork, progress);
+  meter.add(2 * eigen, 'eigen');
+  return { meter, expectedSteps };
 }
 
 export function verifySequence(opts: VerifyOptions): VerifyResult {
@@ -270,15 +325,15 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   }
   const ctx: DriveContext = {
     opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
-    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, progress, u1,
+    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives, progress),
     // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
     traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),
   };
   const tProp = performance.now();
   const results: DriveResult[] = [];
   let cdStrength: CdStrength | null = null;
-  drives.forEach((drive, di) => {
-    const { result, strength } = runDrive(ctx, drive, di, drives.length);
+  drives.forEach((drive) => {
+    const { result, strength } = runDrive(ctx, drive);
     if (strength) cdStrength = strength;
     results.push(result);
   });

@@ -7,7 +7,7 @@ import { toJson } from '../../jobs/design.ts';
 import { isRampKind, RAMP_KINDS } from '../../protocol/ramp.ts';
 import { numberOption, type CommonOptions } from '../options.ts';
 import { num, table } from '../table.ts';
-import { makeProgress } from '../progress.ts';
+import { makeStagedProgress } from '../progress.ts';
 
 export interface CheckCliOptions extends CommonOptions {
   tolerance?: string;
@@ -73,22 +73,27 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
 export async function checkCommand(input: string, opts: CheckCliOptions): Promise<number> {
   const dir = opts.out ?? join(dirname(input), `${basename(input, extname(input))}-check`);
   checkOutputDir(dir, { force: opts.force ?? false, produces: CHECK_FILES }); // refuse before computing
-  const progress = makeProgress('check', opts.quiet ?? false);
-  const result = await runCheckParallel({
-    input,
-    tolerance: numberOption('tolerance', opts.tolerance),
-    sidecar: opts.sidecar,
-    units: {
-      length_unit: opts.lengthUnit,
-      energy_unit: opts.energyUnit,
-      species: opts.species,
-      mass_u: numberOption('mass-u', opts.massU),
-      length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
-    },
-    variational: variationalOptions(opts),
-    onProgress: (done, total) => progress.update(done / total),
-  });
-  progress.stop();
+  const progress = makeStagedProgress(opts.quiet ?? false);
+  let result: Awaited<ReturnType<typeof runCheckParallel>>;
+  try {
+    result = await runCheckParallel({
+      input,
+      tolerance: numberOption('tolerance', opts.tolerance),
+      sidecar: opts.sidecar,
+      units: {
+        length_unit: opts.lengthUnit,
+        energy_unit: opts.energyUnit,
+        species: opts.species,
+        mass_u: numberOption('mass-u', opts.massU),
+        length_unit_um: numberOption('length-unit-um', opts.lengthUnitUm),
+      },
+      variational: variationalOptions(opts),
+      onProgress: (done, total) => progress.update('check: flow fit', done / total),
+      onVariationalProgress: (f) => progress.update('check: variational drives', f),
+    });
+  } finally {
+    progress.stop();
+  }
   const files = writeCheckOutputs(result, dir, opts.force ?? false);
   const r = result.report;
   if (opts.json) process.stdout.write(toJson(r, 2) + '\n');

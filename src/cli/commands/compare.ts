@@ -4,11 +4,8 @@ import { configIdentity } from '../../io/run-folder.ts';
 import { COMPARE_FILES, runCompareWithDrives, writeCompareFigures, writeCompareOutputs, type CompareSummary } from '../../jobs/compare.ts';
 import { toJson } from '../../jobs/design.ts';
 import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
-import { makeProgress } from '../progress.ts';
+import { makeStagedProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
-
-/** share of the progress bar given to the comparison before the Schrödinger drives */
-const COMPARE_PROGRESS_SHARE = 0.7;
 
 function compareRows(s: CompareSummary, files: string[]): [string, string][] {
   const E = s.units.energy;
@@ -28,9 +25,13 @@ export async function compareCommand(configPath: string, opts: CommonOptions): P
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
   checkOutputDir(dir, { force: opts.force ?? false, produces: COMPARE_FILES }); // refuse before computing
-  const progress = makeProgress('compare', opts.quiet ?? false);
-  const s = runCompareWithDrives(config, { onProgress: (_stage, fraction) => progress.update(COMPARE_PROGRESS_SHARE * fraction) });
-  progress.stop();
+  const progress = makeStagedProgress(opts.quiet ?? false);
+  let s: CompareSummary;
+  try {
+    s = runCompareWithDrives(config, { onProgress: (stage, fraction) => progress.update(`compare: ${stage}`, fraction) });
+  } finally {
+    progress.stop();
+  }
   const files = [...writeCompareOutputs(s, dir, opts.force ?? false, configIdentity(config)), ...writeCompareFigures(s, dir, opts.force ?? false, figures)];
   if (opts.json) {
     const { sequences: _omit, ...rest } = s;

@@ -27,7 +27,7 @@ export async function designCommand(configPath: string, opts: CommonOptions): Pr
   const dir = outputDir(config.name, opts);
   checkOutputDir(dir, { force: opts.force ?? false, produces: DESIGN_FILES }); // refuse before computing
   const progress = makeProgress('design', opts.quiet ?? false);
-  const result = runDesign(config, { onProgress: (l, end) => progress.update(l / end) });
+  const result = runDesign(config, { onProgress: (l, end) => progress.update(l / end), keepDense: false });
   progress.stop();
   const files = writeDesignOutputs(result, dir, opts.force ?? false);
   const s = result.summary;

@@ -5,7 +5,7 @@ import { configIdentity } from '../../io/run-folder.ts';
 import { LATTICE_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
 import { writeLatticeFigures } from '../../jobs/report.ts';
 import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
-import { makeProgress } from '../progress.ts';
+import { makeStagedProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 
 function latticeRows(s: LatticeSummary, files: string[], dir: string): [string, string][] {
@@ -28,9 +28,13 @@ export async function latticeCommand(configPath: string, opts: CommonOptions): P
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
   checkOutputDir(dir, { force: opts.force ?? false, produces: LATTICE_FILES }); // refuse before computing
-  const progress = makeProgress('lattice', opts.quiet ?? false);
-  const result = runLattice(config, { onProgress: (p) => progress.update(p.fraction) });
-  progress.stop();
+  const progress = makeStagedProgress(opts.quiet ?? false);
+  let result: ReturnType<typeof runLattice>;
+  try {
+    result = runLattice(config, { onProgress: (p) => progress.update(`lattice: ${p.stage}`, p.fraction) });
+  } finally {
+    progress.stop();
+  }
   const files = [...writeLatticeOutputs(result, dir, opts.force ?? false, configIdentity(config)), ...writeLatticeFigures(result, dir, opts.force ?? false, figures)];
   const s = result.summary;
   if (opts.json) process.stdout.write(toJson({ ...s, outputs: files }, 2) + '\n');

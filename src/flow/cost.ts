@@ -1,0 +1,81 @@
+/**
+ * Cost of a flow run before it starts (pure functions of the run's sizes; natural units of physics.md §3).
+ *
+ * Steps. The linear (dispersive) part of u_τ + αuu_ξ + βu_ξξξ = 0 is integrated exactly by ETDRK4 (Cox & Matthews,
+ * J. Comput. Phys. 176, 2002), so the step is limited by the explicit nonlinear part, whose fastest rate on the
+ * retained band is |α|·max|u|·k_cut (k_cut = 2π⌊N/3⌋/L, the 2/3-rule band edge): the accepted steps keep
+ * h·|α|·max|u|·k_cut ≈ FLOW_STEP_NUMBER, so a flow to λ_end takes about
+ *
+ *     steps ≈ λ_end·|α|·max|u₀|·k_cut / FLOW_STEP_NUMBER.
+ *
+ * Work. Each accepted step of the step-doubling driver costs three ETDRK4 steps of a few FFTs of N points; the work
+ * is counted in grid-point steps (steps × N) and converted to time with FLOW_SECONDS_PER_POINT_STEP.
+ *
+ * Memory. The dense output holds value and rate of the ⌊N/3⌋ + 1 retained modes per accepted step
+ * (DenseFlow.bytesPerPoint); the frames are held and written as FRAME_VALUE_BYTES per value.
+ */
+import { DenseFlow } from './dense.ts';
+
+/** h·|α|·max|u₀|·k_cut of the accepted steps at the default tolerance: measured 0.12–0.84 (N = 128 … 2048, depths
+ *  2 … 24, tolerance 1e-10 … 1e-6; deep traps shed solitons deeper than the start, hence the low end), common practice */
+export const FLOW_STEP_NUMBER = 0.3;
+/** wall time per grid-point step on a 2-core laptop: measured 0.7–0.9 µs for N ≥ 1024 (step doubling included) */
+export const FLOW_SECONDS_PER_POINT_STEP = 1e-6;
+/** bytes per frame value held and written by `design`: the frame (8), the converted copy (8), the .npy buffer (8)
+ *  and the .csv text (about 24 characters of two bytes each: 48) */
+export const FRAME_VALUE_BYTES = 72;
+
+export interface FlowSize {
+  /** grid points N */
+  points: number;
+  /** box length L (natural units) */
+  length: number;
+  /** max|u₀| (E₀) */
+  maxAbsU: number;
+  /** end of the flow (KdV time) */
+  lambdaEnd: number;
+  /** |α| of u_τ + αuu_ξ + βu_ξξξ = 0 (6 in natural units) */
+  alpha?: number;
+}
+
+/** the band edge k_cut = 2π⌊N/3⌋/L of the 2/3 rule (flow/kdv.ts) */
+export function bandEdge(points: number, length: number): number {
+  return (2 * Math.PI * Math.floor(points / 3)) / length;
+}
+
+/** estimated accepted steps to λ_end (module comment), at least 1 */
+export function estimateFlowSteps(s: FlowSize): number {
+  const rate = (s.alpha ?? 6) * s.maxAbsU * bandEdge(s.points, s.length);
+  return Math.max(1, Math.ceil((s.lambdaEnd * rate) / FLOW_STEP_NUMBER));
+}
+
+/** bytes of the dense output of a flow with `steps` accepted steps on N points (every step and the start) */
+export function denseOutputBytes(points: number, steps: number): number {
+  return (steps + 1) * DenseFlow.bytesPerPoint(Math.floor(points / 3) + 1);
+}
+
+export interface DesignCost {
+  steps: number;
+  /** grid-point steps of the flow */
+  pointSteps: number;
+  /** estimated wall time of the flow on a 2-core laptop, s (the design's spectrum track, at most 11 frames of
+   *  60–75 ms each, adds about a second) */
+  seconds: number;
+  /** frames held and written, bytes */
+  frameBytes: number;
+  /** dense output, bytes (0 when the run keeps none) */
+  denseBytes: number;
+}
+
+/** the cost of a design: the flow, its frames and (when kept) its dense output */
+export function estimateDesignCost(s: FlowSize & { frames: number; keepDense: boolean }): DesignCost {
+  const steps = estimateFlowSteps(s);
+  const pointSteps = steps * s.points;
+  return {
+    steps,
+    pointSteps,
+    seconds: pointSteps * FLOW_SECONDS_PER_POINT_STEP,
+    frameBytes: s.frames * s.points * FRAME_VALUE_BYTES,
+    denseBytes: s.keepDense ? denseOutputBytes(s.points, steps) : 0,
+  };
+}

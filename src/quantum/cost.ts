@@ -1,0 +1,144 @@
+/**
+ * Cost of the Schrödinger proof (quantum/verify.ts) before it starts, as pure functions of its sizes (natural units,
+ * physics.md §3). Work is counted in matrix-vector products with H (two N-point FFTs each, time ∝ N log₂N).
+ *
+ * Eigen solves (quantum/eigen.ts: Chebyshev-filtered Lanczos, at most 400 Krylov vectors per run, full
+ * reorthogonalisation, locking and restarts). One run finds about EIGEN_LEVELS_PER_RUN levels for about
+ * EIGEN_MATVECS_BASE products; beyond that each restart finds only a few more levels while it reorthogonalises
+ * against all locked ones, so the count grows steeply:
+ *
+ *     matvecs ≈ EIGEN_MATVECS_BASE · max(1, levels / EIGEN_LEVELS_PER_RUN)^EIGEN_GROWTH.
+ *
+ * A verify solves the ends of the sequence and every interior fidelity-trace sample (traceSamples − 2 more solves),
+ * each for the propagated states plus two (a degenerate pair cut at the top).
+ *
+ * Propagation (quantum/etd4.ts: ETDRK4 with the k-diagonal part exact). The explicit part is the potential and, for a
+ * corrected drive, the first-order part of the correction −3λ̇{u, k}, whose fastest rate is
+ * r = max|u| + 6|λ̇|_max·max|u|·k_max (k_max = πN/L; r = max|u| for the bare drive). The global step-halving control
+ * (quantum/propagator.ts) runs levels 64, 128, … up to the accepted one,
+ * n* ≈ T·r/SCHRODINGER_STEP_NUMBER·(TOL_REFERENCE/tol)^(1/8) (a fourth-order error ∝ h⁴ must reach the amplitude
+ * √tol), so about 2n* steps in all, each SCHRODINGER_MATVECS_PER_STEP products per state.
+ *
+ * Memory: the propagated states (2N doubles each) are held STATE_COPIES times (scheme buffers, step-doubling copies,
+ * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
+ */
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
+
+/** products of one eigen solve of up to EIGEN_LEVELS_PER_RUN levels: measured 3,900–6,000 (N = 256, 10–45 levels) */
+export const EIGEN_MATVECS_BASE = 6000;
+/** levels one Lanczos run of 400 vectors finds (measured: 2 restarts up to 45 levels, 22 at 60) */
+export const EIGEN_LEVELS_PER_RUN = 45;
+/** growth exponent beyond one run: measured 82,000 products for 60 levels against 4,000 for 45 (N = 256) */
+export const EIGEN_GROWTH = 9;
+/** largest Krylov basis of one run (quantum/eigen.ts MAX_KRYLOV_DEFAULT) */
+export const EIGEN_BASIS_VECTORS = 400;
+/** T·r per accepted step of the global control: measured 0.95 (N = 1024, −6sech² split to λ = 0.5 in 2 t₀: 1600 steps)
+ *  and 0.5–1 (N = 256, to λ = 0.1: level 256), tol 1e-8; common practice */
+export const SCHRODINGER_STEP_NUMBER = 0.9;
+/** the infidelity budget the step number was measured at */
+export const TOL_REFERENCE = 1e-8;
+/** smallest level of the global control (quantum/propagator.ts GLOBAL_INITIAL_STEPS) */
+export const FIRST_LEVEL = 64;
+/** products per state and step of ETDRK4: measured 4.2 */
+export const SCHRODINGER_MATVECS_PER_STEP = 4;
+/** wall time of one product per N log₂N on a 2-core laptop: measured 24–38 ns in propagation (N = 1024 / 256) and
+ *  10–52 ns in eigen solves (whose product count grows with the filter degree ∝ N while each product gets cheaper) */
+export const SECONDS_PER_MATVEC_POINT = 3e-8;
+/** copies of every propagated state held at once: scheme and step-doubling buffers (~10) plus the copy the global
+ *  control keeps at each sample time (10 trace and 33 strength samples) */
+export const STATE_COPIES = 55;
+/** samples of the strength of the correction (quantum/verify.ts STRENGTH_SAMPLES_DEFAULT) */
+export const STRENGTH_SAMPLES = 33;
+
+export interface VerifySize {
+  points: number;
+  length: number;
+  /** max|u| over the sequence (E₀) */
+  maxAbsU: number;
+  lambdaEnd: number;
+  ramp: RampKind;
+  /** protocol duration T (t₀) */
+  duration: number;
+  /** propagated states */
+  states: number;
+  /** infidelity budget of the time stepping */
+  tol: number;
+  /** drives with the correction (cd, flipped) and without (bare) */
+  correctedDrives: number;
+  bareDrives: number;
+  traceSamples: number;
+}
+
+export interface VerifyCost {
+  /** products of one eigen solve */
+  eigenMatvecs: number;
+  /** eigen solves (ends and interior trace samples) */
+  eigenSolves: number;
+  /** estimated accepted level n* of the global control and the steps of all its levels, corrected drive */
+  acceptedSteps: number;
+  ladderSteps: number;
+  /** products of one corrected and of one bare drive */
+  correctedMatvecs: number;
+  bareMatvecs: number;
+  /** all products, and their wall time on a 2-core laptop (s) */
+  matvecs: number;
+  seconds: number;
+  /** memory held, bytes */
+  bytes: number;
+}
+
+/** products of one eigen solve of `levels` levels (module comment) */
+export function eigenSolveMatvecs(levels: number): number {
+  return EIGEN_MATVECS_BASE * Math.pow(Math.max(1, levels / EIGEN_LEVELS_PER_RUN), EIGEN_GROWTH);
+}
+
+/** steps of a doubling ladder FIRST_LEVEL, 2·FIRST_LEVEL, … up to the first level ≥ accepted (at least three levels) */
+export function ladderSteps(accepted: number): number {
+  let total = 0;
+  let level = FIRST_LEVEL;
+  for (let count = 1; ; count++) {
+    total += level;
+    if (count >= 3 && level >= accepted) return total;
+    level *= 2;
+  }
+}
+
+/** largest |λ̇| of the ramp, from samples (every ramp's rate is smooth with one maximum) */
+function peakRate(kind: RampKind, duration: number, lambdaEnd: number): number {
+  const ramp = makeRamp(kind, duration, lambdaEnd);
+  let peak = 0;
+  for (let i = 0; i <= 64; i++) peak = Math.max(peak, Math.abs(ramp.rate((duration * i) / 64)));
+  return peak;
+}
+
+/** the estimated accepted step count n* of the global control (module comment), at least FIRST_LEVEL */
+export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length' | 'maxAbsU' | 'lambdaEnd' | 'ramp' | 'duration' | 'tol'>, corrected: boolean): number {
+  const kMax = (Math.PI * s.points) / s.length;
+  const rate = s.maxAbsU + (corrected ? 6 * peakRate(s.ramp, s.duration, s.lambdaEnd) * s.maxAbsU * kMax : 0);
+  const n = ((s.duration * rate) / SCHRODINGER_STEP_NUMBER) * Math.pow(TOL_REFERENCE / s.tol, 1 / 8);
+  return Math.max(FIRST_LEVEL, Math.ceil(n));
+}
+
+/** the whole cost of a verify (module comment) */
+export function estimateVerifyCost(s: VerifySize): VerifyCost {
+  const levels = Math.min(s.points, s.states + 2);
+  const eigenMatvecs = eigenSolveMatvecs(levels);
+  const eigenSolves = 2 + Math.max(0, s.traceSamples - 2);
+  const acceptedSteps = estimateSchrodingerSteps(s, true);
+  const ladder = ladderSteps(acceptedSteps);
+  const correctedMatvecs = ladder * SCHRODINGER_MATVECS_PER_STEP * s.states;
+  const bareMatvecs = ladderSteps(estimateSchrodingerSteps(s, false)) * SCHRODINGER_MATVECS_PER_STEP * s.states;
+  const matvecs = eigenSolves * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
+  const perMatvec = SECONDS_PER_MATVEC_POINT * s.points * Math.log2(s.points);
+  const vector = s.points * Float64Array.BYTES_PER_ELEMENT;
+  const bytes = s.states * 2 * vector * STATE_COPIES + EIGEN_BASIS_VECTORS * vector + eigenSolves * levels * vector;
+  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs, seconds: matvecs * perMatvec, bytes };
+}
+
+/** semiclassical count of the bound states of u on a grid of spacing dx: ⌈∫√(−u)₊ dξ / π⌉ (the quantisation
+ *  condition ∮p dξ = 2π(n + ½) with p = √(−u) at E = 0; Quantum Mechanics: Non-relativistic Theory, §48) */
+export function boundStateEstimate(u: ArrayLike<number>, dx: number): number {
+  let action = 0;
+  for (let j = 0; j < u.length; j++) if (u[j] < 0) action += Math.sqrt(-u[j]) * dx;
+  return Math.ceil(action / Math.PI);
+}
