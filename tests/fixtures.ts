@@ -9,3 +9,14 @@ flow: { lambda_end: 0.2, frames: 5 }
 protocol: { duration: 0.4, ramp: sin2 }
 verify: { states: 2 }
 `;
+
+/** a shallow ⁸⁷Rb well (5 h·Hz deep, 4 µm wide) with the given `lattice:` section (a YAML flow mapping) */
+export const RB_LATTICE = (lattice: string): string => `
+name: rb-lattice
+units: { system: lab, species: Rb87, length_unit_um: 1, energy: h*kHz }
+grid: { length: 100, points: 256 }
+initial: { kind: sech2, depth: 0.005, width: 4, center: 0 }
+flow: { dispersion: quantum, lambda_end: 1, frames: 3 }
+protocol: { duration: 100, ramp: sin2 }
+lattice: ${lattice}
+`;

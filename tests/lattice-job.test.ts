@@ -1,6 +1,7 @@
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { RB_LATTICE } from './fixtures.ts';
 import { afterAll, describe, expect, it } from 'vitest';
 import { decodeNpy } from '../src/io/npy.ts';
 import { UserError } from '../src/core/errors.ts';
@@ -14,15 +15,7 @@ import { configIdentity } from '../src/io/run-folder.ts';
 
 const RB87_U = 86.909180531; // AME2020 via physics.md §3
 
-const labText = (lattice: string) => `
-name: rb-lattice
-units: { system: lab, species: Rb87, length_unit_um: 1, energy: h*kHz }
-grid: { length: 100, points: 256 }
-initial: { kind: sech2, depth: 0.005, width: 4, center: 0 }
-flow: { dispersion: quantum, lambda_end: 1, frames: 3 }
-protocol: { duration: 100, ramp: sin2 }
-lattice: ${lattice}
-`;
+const labText = RB_LATTICE;
 
 const naturalText = `
 name: wide-split
@@ -65,7 +58,7 @@ describe('lattice config section (src/io/config-lattice.ts)', () => {
   });
 
   it('depth in recoil energies: E_R, the deep-lattice estimate and the band value, m* and E₀ of the design', () => {
-    const c = parseLatticeConfig(labText('{ wavelength_nm: 1064, depth_recoil: 10 }'), 'x.yaml', '.');
+    const c = parseLatticeConfig(labText('{ wavelength_nm: 1064, depth_recoil: 10, tunnelling_source: estimate }'), 'x.yaml', '.');
     const p = latticeParameters(c);
     // E_R = h²/(2mλ_L²) (common practice; k_L = 2π/λ_L = π/d), ⁸⁷Rb mass from physics.md §3
     const m = RB87_U * ATOMIC_MASS_CONSTANT;

@@ -10,8 +10,9 @@
  *     wavelength_nm: 1064        # lab: lattice light, d = λ/2           }
  *     spacing: 0.25              # natural units only: d in ℓ (then J = E₀ℓ²/d² is implied)
  *     tunnelling_hz: 120         # lab: J in h·Hz                        } exactly one (lab)
- *     depth_recoil: 8            # lab: V₀ in E_R (J from the estimate)  }
- *     tunnelling_source: estimate  # with depth_recoil: estimate (Zwerger 2003) or band (Mathieu band width / 4)
+ *     depth_recoil: 8            # lab: V₀ in E_R (J from the band)      }
+ *     tunnelling_source: band    # with depth_recoil: band (default: a quarter of the lowest Mathieu band width,
+ *                                #   physics.md §6) or estimate (Zwerger's deep-lattice formula, an approximation)
  *     sites_per_width: [3, 4, 6, 8]  # convergence study (sites per width 1/κ of the narrowest soliton); [] skips
  *     target_infidelity: 1e-4    # the recommended lattice keeps 1 − F_CD of every state below this
  *     samples: 21                # time samples of the control tables
@@ -40,7 +41,7 @@ export const latticeSectionSchema = strictSection(
       .number({ error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units)` })
       .refine((v) => v > 0 && v <= MAX_DEPTH_RECOIL, { error: `must be a number in (0, ${MAX_DEPTH_RECOIL}] (lattice depth V₀ in recoil energies E_R; lab units; deeper bands are narrower than double-precision round-off)` })
       .optional(),
-    tunnelling_source: z.enum(['estimate', 'band'], { error: 'must be one of estimate, band' }).optional(),
+    tunnelling_source: z.enum(['band', 'estimate'], { error: 'must be one of band, estimate' }).optional(),
     sites_per_width: z
       .array(z.number({ error: sitesRule }).refine((v) => Number.isFinite(v) && v >= 1, { error: sitesRule }), { error: sitesRule })
       .refine((v) => new Set(v).size === v.length, { error: sitesRule })

@@ -2,16 +2,17 @@
  * `lattice`: a designed KdV sequence realised on an optical lattice, and verified there (physics.md §6).
  *
  * 1. Lattice parameters: spacing d (spacing_um, or wavelength_nm with d = λ/2) and tunnelling J (tunnelling_hz,
- *    or depth_recoil s = V₀/E_R with E_R = ħ²k_L²/2m, k_L = π/d; then J from Zwerger's deep-lattice estimate, an
- *    approximation, checked against the tool's own Mathieu band structure, lattice/bands.ts). The lowest band
- *    −2J cos kd gives the effective mass m* = ħ²/(2Jd²).
+ *    or depth_recoil s = V₀/E_R with E_R = ħ²k_L²/2m, k_L = π/d; then J is a quarter of the width of the lowest
+ *    Mathieu band, lattice/bands.ts, with Zwerger's deep-lattice estimate reported beside it, or the estimate itself
+ *    with tunnelling_source: estimate). The lowest band −2J cos kd gives the effective mass m* = ħ²/(2Jd²).
  * 2. Design on m*: the config's trap is designed (jobs/design.ts) in the natural units of m* and ℓ,
  *    E₀ = ħ²/(2m*ℓ²), so that the lattice spacing is h = d/ℓ and J = E₀/h² in those units.
  * 3. Control tables: at `samples` times the on-site energies, nearest- and next-nearest-neighbour couplings as
  *    amplitude and phase per bond (lattice/tables.ts).
  * 4. Verification: the tight-binding Schrödinger equation for the CD and bare drives (lattice/verify.ts),
  *    fidelities of the lowest states, and a study of the infidelity against sites per soliton width at the same
- *    m* (lattice/study.ts), with the coarsest lattice that meets the target. The continuum reference is exact for
+ *    m* (lattice/study.ts), with the coarsest lattice that meets the target and, when the configured lattice is
+ *    too coarse, the choices a lab has to get there (light, lattice depth, trap and ramp: lattice/advice.ts). The continuum reference is exact for
  *    CD (physics.md §1); a caller can pass `opts.continuum` (e.g. src/quantum's verifySequence on the job's own
  *    m* design) to get lattice-minus-continuum differences for both drives.
  *
@@ -26,6 +27,7 @@ import { encodeNpy } from '../io/npy.ts';
 import { MAX_SITE_PRODUCTS, predictedWork, siteCountProblem } from '../lattice/cost.ts';
 import { depthTunnelling, dispersionForMass, effectiveMassU, naturalBandWidth, naturalTunnelling, spacingFromWavelengthUm, type DepthTunnelling } from '../lattice/params.ts';
 import { chainSites, LatticeSequence } from '../lattice/sequence.ts';
+import { latticeAdvice, type LabLattice } from '../lattice/advice.ts';
 import { latticeStudy, observedOrder, recommendLattice, solitonWidth } from '../lattice/study.ts';
 import { controlTables } from '../lattice/tables.ts';
 import { lowestLatticeStates, verifyOnLattice, type LatticeRun } from '../lattice/verify.ts';
@@ -55,6 +57,9 @@ export const LATTICE_FILES = [
   'nnn_amplitude.npy',
   'nnn_phase.npy',
 ] as const;
+
+/** what `isotrap report` (jobs/report.ts) adds to a lattice folder: the page and the figures of report/panels/lattice.ts */
+export const LATTICE_REPORT_FILES = ['report.html', 'lattice-couplings.svg', 'lattice-convergence.svg'] as const;
 
 // ---------------------------------------------------------------------------------------------------------
 // lattice parameters
@@ -100,7 +105,7 @@ export function latticeParameters(config: LatticeConfig): LatticeParameters {
     jHz = l.tunnelling_hz;
   } else {
     depth = depthTunnelling(l.depth_recoil as number, dM, units.mass_u * ATOMIC_MASS_CONSTANT);
-    source = l.tunnelling_source ?? 'estimate';
+    source = l.tunnelling_source ?? 'band';
     jHz = source === 'estimate' ? depth.estimate_hz : depth.band_hz;
     const rel = depth.relative_difference;
     if (source === 'estimate' && Math.abs(rel) > ESTIMATE_WARNING) {
@@ -225,6 +230,16 @@ function fieldUnits(L: string, E: string, T: string): Record<string, string> {
     'study.recommended.spacing': L,
     'study.recommended.tunnelling': E,
     'study.widen_trap_by': none,
+    'study.choices[].wavelength_nm': 'nm',
+    'study.choices[].spacing_um': 'µm',
+    'study.choices[].spacing_l': 'ℓ',
+    'study.choices[].depth_recoil': 'E_R of the choice\'s light',
+    'study.choices[].tunnelling_hz': 'h·Hz',
+    'study.choices[].sites_per_width': none,
+    'study.choices[].widen_trap_by': 'factor on every length of the trap',
+    'study.choices[].depth_factor': 'factor on the trap depths',
+    'study.choices[].duration_factor': 'factor on protocol.duration',
+    'study.choices[].lambda_end_factor': 'factor on flow.lambda_end',
     'protocol.duration': T,
     'protocol.lambda_end': 'dimensionless KdV time',
   };
@@ -373,6 +388,20 @@ function studyStep(setup: LatticeSetup, count: number, work: (sites: number, h: 
   }));
 }
 
+/** the configured lattice in lab units for lattice/advice.ts (null in natural units) */
+function labLattice(setup: LatticeSetup): LabLattice | null {
+  const { params } = setup;
+  const units = setup.config.units;
+  if (units.system !== 'lab' || params.massU === null) return null;
+  return {
+    species: units.species,
+    massKg: params.massU * ATOMIC_MASS_CONSTANT,
+    widthUm: setup.width * setup.design.ctx.units.ell * 1e6,
+    spacingUm: params.spacing,
+    tunnellingHz: params.tunnelling,
+  };
+}
+
 /** the study section: observed order and recommendation (lattice/study.ts) with their warnings */
 function studySection(setup: LatticeSetup, rows: LatticeStudyRow[]): LatticeSummary['study'] {
   const target = setup.section.target_infidelity;
@@ -393,12 +422,15 @@ function studySection(setup: LatticeSetup, rows: LatticeStudyRow[]): LatticeSumm
     setup.warnings.push(`no studied lattice met the target infidelity ${target}; the recommendation is extrapolated`);
   }
   const configured = setup.width / setup.h;
+  const advice = recommended ? latticeAdvice(recommended.sites_per_width, configured, setup.width, labLattice(setup)) : { choices: [], notes: [] };
   return {
     target_infidelity: target,
     rows,
     observed_order: observedOrder(points),
     recommended,
     widen_trap_by: recommended && recommended.sites_per_width > configured ? recommended.sites_per_width / configured : null,
+    choices: advice.choices,
+    choice_notes: advice.notes,
     note:
       'same effective mass m* for every row (J = ħ²/(2m*d²) scales as 1/d²); the continuum CD drive is exact (physics.md §1), so 1 − F_CD on the lattice is the residual lattice error; ' +
       'the recommendation is the LARGEST spacing (fewest sites per width) that meets the target',
@@ -516,6 +548,7 @@ export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): La
     study,
     protocol: { duration: setup.protocol.duration, ramp: setup.ramp.kind, lambda_end: setup.lambdaEnd },
     warnings: setup.warnings,
+    config: { ...config, meta: undefined },
   };
   return { summary, tables };
 }

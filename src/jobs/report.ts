@@ -19,10 +19,10 @@ import { prepareOutputDir, writeFileAtomic } from '../io/files.ts';
 import { requireOneConfig, verifiedEntries, writeRun, type ManifestEntry } from '../io/run-folder.ts';
 import { renderReport, type FigureSize, type ReportFigure } from '../report/index.ts';
 import { designFigures, designSummaryRows, labTimeMap, type FrameArray } from '../report/panels/design.ts';
-import { latticeFigures } from '../report/panels/lattice.ts';
+import { latticeFigures, latticeSummaryRows } from '../report/panels/lattice.ts';
+import { readLatticeFile } from '../io/formats/lattice.ts';
 import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
-import type { LatticeResult } from './lattice.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
 /** the compare.json content the compare figures read */
@@ -42,17 +42,14 @@ export function writeFigures(figures: ReportFigure[], dir: string, force: boolea
   return writeSvgs(figures, dir);
 }
 
-/** write the lattice figures into dir (atomically; refuses to overwrite without force) */
-export function writeLatticeFigures(result: LatticeResult, dir: string, force: boolean, size: FigureSize = 'paper'): string[] {
-  return writeFigures(latticeFigures(result.summary, result.tables, size), dir, force);
-}
-
 export interface ReportOptions {
   force: boolean;
   runSeconds?: number;
   toolVersion: string;
   /** figure size (report/style.ts): paper (default) or slides */
   figures?: FigureSize;
+  /** the lattice results of a folder that also holds a design (default: sequence.json, else check.json, else lattice.json) */
+  kind?: 'lattice';
 }
 
 /** the files of a finished output folder that the report reads */
@@ -140,8 +137,18 @@ function checkFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[
   return { figures, html: pageHtml(`isotrap check: ${r.input}`, checkSummaryRows(r), figures, configText, opts.runSeconds ?? 0, r.warnings, opts), sources };
 }
 
+/** the figures and page of a lattice folder (lattice.json and the arrays the figures read) */
+function latticeFolder(dir: string, opts: ReportOptions): { figures: ReportFigure[]; html: string; sources: Sources } {
+  const sources = readSources(dir, ['lattice.json', 'sites.npy', 'times.npy', 'nn_amplitude.npy']);
+  const s = readLatticeFile(join(dir, 'lattice.json'));
+  const [sites, times, nn] = ['sites.npy', 'times.npy', 'nn_amplitude.npy'].map((f) => readNpyFile(join(dir, f)).data);
+  const figures = latticeFigures(s, { sites, times, nnAmplitude: nn }, opts.figures);
+  const seconds = s.verification.seconds + s.study.rows.reduce((t, r) => t + r.seconds, 0);
+  return { figures, html: pageHtml(`isotrap lattice: ${s.name}`, latticeSummaryRows(s), figures, stringify(s.config), opts.runSeconds ?? seconds, s.warnings, opts), sources };
+}
+
 /**
- * Render all figures of an output folder (design/verify or check) into DIR/*.svg and DIR/report.html as one
+ * Render all figures of an output folder (design/verify, check or lattice) into DIR/*.svg and DIR/report.html as one
  * commit of the rendered run (io/run-folder.ts); under the folder's lock the sources are checked again, so a run
  * that committed while the report was being rendered is never mixed with it. Returns the files written.
  */
@@ -149,8 +156,10 @@ export function renderFolder(dir: string, opts: ReportOptions): string[] {
   let figures: ReportFigure[];
   let html: () => string;
   let sources: Sources;
-  if (!existsSync(join(dir, 'sequence.json')) && existsSync(join(dir, 'check.json'))) {
-    const c = checkFolder(dir, opts);
+  const has = (f: string) => existsSync(join(dir, f));
+  const lattice = opts.kind === 'lattice' || (!has('sequence.json') && !has('check.json') && has('lattice.json'));
+  if (lattice || (!has('sequence.json') && has('check.json'))) {
+    const c = lattice ? latticeFolder(dir, opts) : checkFolder(dir, opts);
     figures = c.figures;
     html = () => c.html;
     sources = c.sources;

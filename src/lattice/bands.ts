@@ -113,3 +113,24 @@ export function lowestBand(s: number): LowestBand {
 export function tunnellingEstimate(s: number): number {
   return (4 / Math.sqrt(Math.PI)) * Math.pow(s, 0.75) * Math.exp(-2 * Math.sqrt(s));
 }
+
+/** bisection steps of depthForTunnelling: the bracket (0, MAX_DEPTH_RECOIL] shrinks below 1e-13 E_R */
+const DEPTH_BISECTION_STEPS = 64;
+
+/**
+ * The depth s = V₀/E_R whose lowest band has tunnelling J (band width / 4, lowestBand) equal to `tunnelling`
+ * (in E_R), by bisection on the band width, which falls monotonically with s (A&S §20.2: b₁ − a₀ decreases with
+ * q); null when J lies outside [J(MAX_DEPTH_RECOIL), J(0) = ¼] (no sinusoidal lattice has that band).
+ */
+export function depthForTunnelling(tunnelling: number): number | null {
+  const j = (s: number) => lowestBand(s).tunnelling;
+  if (!(tunnelling > j(MAX_DEPTH_RECOIL) && tunnelling < j(0))) return null;
+  let lo = 0;
+  let hi = MAX_DEPTH_RECOIL;
+  for (let i = 0; i < DEPTH_BISECTION_STEPS && hi - lo > 1e-13; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (j(mid) > tunnelling) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}

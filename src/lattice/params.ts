@@ -6,8 +6,8 @@
  *   natural units      J = E₀ℓ²/d² = 1/h²  with h = d/ℓ and E₀ = ħ²/(2m*ℓ²); band width 4J
  *   optical lattice    d = λ/2 for light of wavelength λ (standing wave of a retro-reflected beam)
  *
- * For a lattice given by its depth s = V₀/E_R, J comes from Zwerger's deep-lattice estimate or from the Mathieu
- * band width (bands.ts).
+ * For a lattice given by its depth s = V₀/E_R, J comes from the Mathieu band width (bands.ts) or from Zwerger's
+ * deep-lattice estimate; both are reported (DepthTunnelling).
  */
 import { ATOMIC_MASS_CONSTANT, HBAR, PLANCK_H } from '../units/constants.ts';
 import { lowestBand, tunnellingEstimate } from './bands.ts';

@@ -2,32 +2,26 @@
 import { toJson } from '../../jobs/design.ts';
 import { checkOutputDir } from '../../io/files.ts';
 import { configIdentity } from '../../io/run-folder.ts';
-import { LATTICE_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
-import { writeLatticeFigures } from '../../jobs/report.ts';
-import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { LATTICE_FILES, LATTICE_REPORT_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
+import { renderFolder } from '../../jobs/report.ts';
+import { latticeSummaryRows } from '../../report/panels/lattice.ts';
+import { figureSizeOption, loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
 import { makeStagedProgress } from '../progress.ts';
-import { num, table } from '../table.ts';
+import { table } from '../table.ts';
 
+/** the summary rows of the report page (report/panels/lattice.ts), each value with its unit, and the outputs */
 function latticeRows(s: LatticeSummary, files: string[], dir: string): [string, string][] {
-  const E = s.units.energy;
-  const v = s.verification;
-  return [
-    ['lattice', `spacing ${num(s.lattice.spacing)} ${s.units.length}, J = ${num(s.lattice.tunnelling)} ${E} (${s.lattice.tunnelling_source}), ${s.lattice.sites} sites`],
-    ['effective mass', `m* = ${num(s.mass.effective_u)} u (atom ${num(s.mass.atomic_u)} u); δ² with m* = ${num(s.delta2.with_effective_mass)}`],
-    ['sites per soliton width', num(s.soliton_width.sites_per_width)],
-    ['largest CD coupling', `${num(s.couplings.largest_cd_coupling)} ${E} = ${num(s.couplings.fraction_of_band_width)} × band width 4J`],
-    ['lattice fidelities', `worst infidelity with correction ${num(v.infidelity_cd_max, 3)}; bare ${v.fidelity_bare.map((f) => num(f, 4)).join(', ')}`],
-    ['target', `${s.study.target_infidelity}: ${v.meets_target ? 'met' : 'NOT met'}`],
-    ['recommendation', s.study.recommended ? `${num(s.study.recommended.sites_per_width)} sites per width (spacing ${num(s.study.recommended.spacing)} ${s.units.length})` : s.study.note],
-    ['outputs', files.length > 4 ? `${files.length} files in ${dir}` : files.join(', ')],
-  ];
+  const rows = latticeSummaryRows(s).map((r): [string, string] => [r.key, `${r.value}${r.unit ? ` ${r.unit}` : ''}`]);
+  return [...rows, ['outputs', `${files.length} files in ${dir} (report.html: figures and this summary)`]];
 }
 
 export async function latticeCommand(configPath: string, opts: CommonOptions): Promise<number> {
+  const started = performance.now();
   const figures = figureSizeOption(opts.figures);
   const config = loadScenario(configPath);
   const dir = outputDir(config.name, opts);
-  checkOutputDir(dir, { force: opts.force ?? false, produces: LATTICE_FILES }); // refuse before computing
+  const force = opts.force ?? false;
+  checkOutputDir(dir, { force, produces: [...LATTICE_FILES, ...LATTICE_REPORT_FILES] }); // refuse before computing
   const progress = makeStagedProgress(opts.quiet ?? false);
   let result: ReturnType<typeof runLattice>;
   try {
@@ -35,7 +29,8 @@ export async function latticeCommand(configPath: string, opts: CommonOptions): P
   } finally {
     progress.stop();
   }
-  const files = [...writeLatticeOutputs(result, dir, opts.force ?? false, configIdentity(config)), ...writeLatticeFigures(result, dir, opts.force ?? false, figures)];
+  const files = writeLatticeOutputs(result, dir, force, configIdentity(config));
+  files.push(...renderFolder(dir, { force, toolVersion: version(), runSeconds: (performance.now() - started) / 1000, figures, kind: 'lattice' }));
   const s = result.summary;
   if (opts.json) process.stdout.write(toJson({ ...s, outputs: files }, 2) + '\n');
   else {

@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { num, numOrNull, nums, readFormat, str } from './read.ts';
 import type { DepthTunnelling } from '../../lattice/params.ts';
+import type { LatticeChoice } from '../../lattice/advice.ts';
 
 export const LATTICE_FORMAT = 'isotrap-lattice/1';
 
@@ -102,10 +103,16 @@ export interface LatticeSummary {
     /** alternative at the configured d: widen the trap by this factor (KdV scaling u → ε²u(εξ, ε³τ), ε = 1/factor:
      * depths ÷ factor², λ_end × factor³, duration × factor²); null when the configured lattice already suffices */
     widen_trap_by: number | null;
+    /** what a lab can change to reach the recommended sites per width (lattice/advice.ts); [] when nothing is needed */
+    choices: LatticeChoice[];
+    /** choices that are not offered and why; wavelengths left out near a line */
+    choice_notes: string[];
     note: string;
   };
   protocol: { duration: number; ramp: string; lambda_end: number };
   warnings: string[];
+  /** the config as run (its keys as in the YAML schema), kept verbatim for the report */
+  config: Record<string, unknown>;
 }
 
 /** lattice.json: the summary plus the names and shapes of the .npy arrays beside it */
@@ -127,6 +134,13 @@ const studyRowSchema = z.object({
   difference_bare: nums.nullable(),
   seconds: num,
 });
+
+const choiceSchema: z.ZodType<LatticeChoice> = z.discriminatedUnion('kind', [
+  z.object({ kind: z.literal('wavelength'), wavelength_nm: num, spacing_um: num, depth_recoil: numOrNull, tunnelling_hz: num, sites_per_width: num }),
+  z.object({ kind: z.literal('lattice_depth'), depth_recoil: num, tunnelling_hz: num, widen_trap_by: num, sites_per_width: num }),
+  z.object({ kind: z.literal('spacing'), spacing_l: num, sites_per_width: num }),
+  z.object({ kind: z.literal('trap_and_ramp'), widen_trap_by: num, depth_factor: num, duration_factor: num, lambda_end_factor: num, sites_per_width: num }),
+]);
 
 const latticeSchema: z.ZodType<LatticeFile> = z.object({
   name: str,
@@ -181,10 +195,13 @@ const latticeSchema: z.ZodType<LatticeFile> = z.object({
     observed_order: numOrNull,
     recommended: z.object({ sites_per_width: num, spacing: num, tunnelling: num, basis: str }).nullable(),
     widen_trap_by: numOrNull,
+    choices: z.array(choiceSchema),
+    choice_notes: z.array(str),
     note: str,
   }),
   protocol: z.object({ duration: num, ramp: str, lambda_end: num }),
   warnings: z.array(str),
+  config: z.record(z.string(), z.unknown()),
   files: z.object({ arrays: z.array(str), shapes: z.object({ onsite: pair, nn: pair, nnn: pair }) }),
 });
 
