@@ -34,6 +34,9 @@ export const MAX_CONFIG_BYTES = 2 ** 20;
 const MAX_YAML_ALIASES = 100;
 /** atomic masses from the lightest (¹H, 1.008 u) to beyond the heaviest atoms trapped, in u */
 const MASS_U_RANGE = [1, 300] as const;
+/** the length unit ℓ in µm: from a nanometre to a millimetre, every length scale of a trap for cold atoms (common
+ * practice); beyond it the natural units leave double precision's comfortable range */
+const LENGTH_UNIT_UM_RANGE = [1e-3, 1e3] as const;
 /** grid sizes allowed: powers of two in this range (fft.js needs powers of two; 65536 keeps memory modest) */
 export const GRID_POINTS_MIN = 16;
 export const GRID_POINTS_MAX = 65536;
@@ -116,7 +119,7 @@ const unitsShape = {
   system: oneOf(UNIT_SYSTEMS).default('natural'),
   species: oneOf(SPECIES_CHOICES).optional(),
   mass_u: numberWhere(`must be a number from ${MASS_U_RANGE[0]} to ${MASS_U_RANGE[1]} (an atomic mass in u)`, (v) => v >= MASS_U_RANGE[0] && v <= MASS_U_RANGE[1]).optional(),
-  length_unit_um: positive('the length unit ℓ in µm').optional(),
+  length_unit_um: numberWhere(`must be a number from ${LENGTH_UNIT_UM_RANGE[0]} to ${LENGTH_UNIT_UM_RANGE[1]} (the length unit ℓ in µm)`, (v) => v >= LENGTH_UNIT_UM_RANGE[0] && v <= LENGTH_UNIT_UM_RANGE[1]).optional(),
   energy: oneOf(ENERGY_UNITS).optional(),
 };
 
