@@ -3,6 +3,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { decodeNpy } from '../src/io/npy.ts';
 import { parseSvg } from './report-helpers.ts';
 
 const BIN = resolve('bin/isotrap.js');
@@ -41,6 +42,21 @@ describe('isotrap run end to end (small grid)', () => {
     expect(text.some((t) => t.includes('flow parameter λ'))).toBe(true);
     const ymax = [...doc.querySelectorAll('[data-ymax]')].map((p) => Number(p.getAttribute('data-ymax')));
     expect(ymax.some((y) => Math.abs(y + 1) < 1e-6)).toBe(true);
+    // the figures show the summary's numbers: the correction curve peaks at cd_strength.max_leakage, and each
+    // fidelity trace runs from t = 0 to t = T and ends at the reported final fidelity (verify.json, traces.npy)
+    const v = JSON.parse(readFileSync(join(folder, 'verify.json'), 'utf8'));
+    const corr = parseSvg(readFileSync(join(folder, 'correction.svg'), 'utf8'));
+    const total = corr.querySelector('path.series-line[data-series="out of occupied states"]');
+    expect(Number(total?.getAttribute('data-ymax'))).toBeCloseTo(v.cd_strength.max_leakage, 10);
+    expect(v.traces.times[0]).toBe(0);
+    expect(v.traces.times[v.traces.times.length - 1]).toBeCloseTo(v.protocol.duration, 12);
+    const tr = decodeNpy(readFileSync(join(folder, v.traces.file)), 'traces.npy');
+    const cols = tr.shape[1];
+    v.traces.rows.forEach((row: { drive: string; state: number }, i: number) => {
+      const reported = v.states[row.state][row.drive === 'cd' ? 'fidelity_cd' : 'fidelity_bare'];
+      expect(tr.data[i * cols + cols - 1]).toBeCloseTo(reported, 12);
+      expect(tr.data[i * cols]).toBeCloseTo(1, 12); // an eigenstate at t = 0
+    });
     // re-rendering needs --force and reproduces the page
     const again = spawnSync(process.execPath, [BIN, 'report', folder], { encoding: 'utf8' });
     expect(again.status).toBe(2);

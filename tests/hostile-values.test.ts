@@ -83,3 +83,14 @@ describe('extreme values end as a result, a failure or a refusal, never an inter
     }
   }
 });
+
+describe('state counts beyond what the grid holds', () => {
+  it('verify.fermions above the grid points is refused naming the key (a grid of N points has N states)', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'isotrap-hostile-'));
+    writeFileSync(join(dir, 'c.yaml'), SCENARIO.replace('points: 256', 'points: 32').replace('length: 40', 'length: 8').replace('center: -2', 'center: 0').replace('fermions: 1', 'fermions: 50'));
+    const r = await runCli(['verify', join(dir, 'c.yaml'), '--out', join(dir, 'out'), '--quiet']);
+    expect(r.code, r.stderr).toBe(2);
+    expect(r.stderr).toMatch(/verify\.fermions = 50 is not allowed/);
+    expect(() => readdirSync(join(dir, 'out'))).toThrow();
+  });
+});
