@@ -1,6 +1,7 @@
 /** The design job asked for an outcome (initial.kind target / reflectionless), its budgets, and the design summary's honesty. */
 import { describe, expect, it } from 'vitest';
-import { mkdtempSync, readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { encodeNpy } from '../src/io/npy.ts';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseConfig } from '../src/io/config.ts';
@@ -36,6 +37,14 @@ describe('initial.kind target through the design job', () => {
     expect(o.exact_distance_relative).toBeLessThan(1e-4);
   });
 
+  it('a transport moves one well by the distance asked in the λ given; a moving well is no budget warning', () => {
+    const r = runDesign(cfg('{ kind: target, outcome: transport, depths: [1], distance: 10, center: -5 }', 'flow: { lambda_end: 2, frames: 5, tolerance: 1e-9 }'));
+    // speed 4κ² + c (physics.md §4) with κ² = ½: c = distance/λ − 4κ² = 5 − 2 = 3 (hand calculation)
+    expect(r.ctx.config.flow.drift).toBeCloseTo(3, 12);
+    expect(Math.abs(r.summary.outcome!.wells[0].reached_position! - 5)).toBeLessThan(1e-3 / Math.SQRT1_2);
+    expect(r.summary.warnings.filter((w) => w.includes('starting'))).toEqual([]); // same well, sampled elsewhere
+  });
+
   it('refuses what cannot be had, naming the key and offering the nearest admissible request (exit 2)', () => {
     const equal = userErrorOf(() => cfg('{ kind: target, outcome: split, depths: [0.5, 0.5], separation: 8 }'));
     // κ = √(d/2) = ½ twice; the nearest admissible lowers the second κ by MIN_KAPPA_RATIO 1.05: d = 0.5/1.05² (definition)
@@ -67,6 +76,17 @@ describe('initial.kind reflectionless through the design job', () => {
     expect(fit.distance_l2_relative).toBeGreaterThan(1e-3);
     // the start is the Kay–Moses potential of the fit: isospectral with the Gaussian (the design's own bound states)
     expect(r.summary.spectral_drift!).toBeLessThan(1e-8);
+  });
+});
+
+describe('initial.from of a reflectionless start', () => {
+  it('reads a samples file relative to the config and names initial.from.file when it is missing', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'isotrap-from-'));
+    writeFileSync(join(dir, 'v.npy'), encodeNpy(Float64Array.from({ length: 256 }, (_, j) => -6 / Math.cosh(-20 + (40 * j) / 256) ** 2), [256]));
+    const c = parseConfig('name: t\ngrid: { length: 40, points: 256 }\ninitial: { kind: reflectionless, from: { kind: samples, file: v.npy } }\nflow: { lambda_end: 0.01 }\n', 't.yaml', dir);
+    expect(c.initial.kind === 'reflectionless' && c.initial.from.kind === 'samples' && c.initial.from.file).toBe(join(dir, 'v.npy'));
+    const missing = userErrorOf(() => parseConfig('name: t\ngrid: { length: 40, points: 256 }\ninitial: { kind: reflectionless, from: { kind: samples, file: nope.npy } }\nflow: { lambda_end: 0.01 }\n', 't.yaml', dir));
+    expect(missing).toContain('initial.from.file = "nope.npy" is not allowed: file not found');
   });
 });
 

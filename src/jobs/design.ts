@@ -28,6 +28,10 @@ export type { DesignSummary, SolitonPrediction };
  * relative errors of about that size from the grid (common practice for this kind of indicator) */
 export const TAIL_WARNING = 1e-7;
 
+/** the sequence counts as beyond the starting trap's depth or resolution only past this fraction: budgets are read
+ * off the grid samples, which miss a moving minimum by up to (κh/2)² of its depth (common practice) */
+export const BUDGET_SLACK = 1e-2;
+
 export const DESIGN_FILES = ['potential.npy', 'potential.csv', 'sequence.json'] as const;
 
 export interface DesignResult {
@@ -190,10 +194,10 @@ function budgetSummary(config: Config, ctx: JobContext, run: FlowRun): BudgetSum
 function budgetWarnings(b: BudgetSummary, labels: { energy: string; length: string }): string[] {
   const out: string[] = [];
   const at = (l: number | null) => `at λ = ${l?.toPrecision(4)}`;
-  if (b.depth_ratio > 1 + 1e-9) out.push(`the sequence reaches ${b.depth_ratio.toPrecision(4)} times the starting depth (${b.deepest.toPrecision(4)} ${labels.energy} ${at(b.deepest_lambda)}): the laser power must allow it`);
+  if (b.depth_ratio > 1 + BUDGET_SLACK) out.push(`the sequence reaches ${b.depth_ratio.toPrecision(4)} times the starting depth (${b.deepest.toPrecision(4)} ${labels.energy} ${at(b.deepest_lambda)}): the laser power must allow it`);
   if (b.limit_depth !== null && b.deepest > b.limit_depth) out.push(`the sequence reaches ${b.deepest.toPrecision(4)} ${labels.energy} ${at(b.deepest_lambda)}, beyond budget.depth = ${b.limit_depth} ${labels.energy}`);
   const f = b.narrowest_feature;
-  if (f !== null && b.start_feature !== null && f < b.start_feature * (1 - 1e-9)) out.push(`the narrowest well (${f.toPrecision(4)} ${labels.length} wide ${at(b.narrowest_lambda)}) is narrower than the starting trap's (${b.start_feature.toPrecision(4)} ${labels.length}): the optics must resolve it`);
+  if (f !== null && b.start_feature !== null && f < b.start_feature * (1 - BUDGET_SLACK)) out.push(`the narrowest well (${f.toPrecision(4)} ${labels.length} wide ${at(b.narrowest_lambda)}) is narrower than the starting trap's (${b.start_feature.toPrecision(4)} ${labels.length}): the optics must resolve it`);
   if (f !== null && b.limit_feature !== null && f < b.limit_feature) out.push(`the narrowest well is ${f.toPrecision(4)} ${labels.length} wide ${at(b.narrowest_lambda)}, below budget.feature = ${b.limit_feature} ${labels.length}`);
   return out;
 }
