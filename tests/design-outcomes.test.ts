@@ -6,6 +6,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseConfig } from '../src/io/config.ts';
 import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
+import { runVerify } from '../src/jobs/verify.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { findWells } from '../src/flow/wells.ts';
 import { nSolitonPotential } from '../src/flow/solitons.ts';
@@ -35,6 +36,14 @@ describe('initial.kind target through the design job', () => {
     expect(Math.abs(0.5 * (p[0] + p[1]) - 1)).toBeLessThan(1e-3); // mean position kept at the centre
     // the flow from the built start equals the exact two-soliton sequence (Kay & Moses 1956) at the end
     expect(o.exact_distance_relative).toBeLessThan(1e-4);
+  });
+
+  it('the verified drive keeps the eigenstates of a target split, whose flow has a drift (the correction gains λ̇ c k)', () => {
+    // −c u_ξ = [−c∂_ξ, −∂² + u] adds −c∂_ξ to the Lax operator (Lax, Comm. Pure Appl. Math. 21, 467, 1968; physics.md §3)
+    const c = cfg('{ kind: target, outcome: split, depths: [2, 0.5], separation: 8 }', 'flow: { frames: 5, tolerance: 1e-9 }', 'protocol: { duration: 4 }\nverify: { states: 2 }\n');
+    const v = runVerify(c, runDesign(c)).file;
+    v.states.forEach((st) => expect(st.fidelity_cd).toBeGreaterThan(1 - 1e-6)); // exact CD (physics.md §1)
+    v.states.forEach((st) => expect(st.fidelity_bare).toBeLessThan(0.5)); // a 4 t₀ ramp excites (common practice)
   });
 
   it('a transport moves one well by the distance asked in the λ given; a moving well is no budget warning', () => {
