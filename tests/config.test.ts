@@ -124,7 +124,7 @@ verify: { states: 6, temperature: 50, fermions: 3, compare_classical: true }
     expect(c.flow.tolerance).toBe(1e-10);
     // the unknown-key message lists the extended key set
     expect(() => parseConfigWith(extended, { ...parseYaml(SPLIT_TWO), lattis: 1 }, SRC, work)).toThrow(
-      'configs/x.yaml: lattis = 1 is not allowed: unknown key; allowed keys in the config are name, description, units, grid, initial, flow, protocol, verify, lattice',
+      'configs/x.yaml: lattis = 1 is not allowed: unknown key; allowed keys in the config are name, description, units, grid, initial, flow, protocol, verify, budget, lattice',
     );
   });
 });

@@ -23,6 +23,7 @@ import { ATOMIC_MASS_CONSTANT } from '../units/constants.ts';
 import { RAMP_KINDS } from '../protocol/ramp.ts';
 import { UserError } from '../core/errors.ts';
 import { readBoundedFile } from './files.ts';
+import { equalDepthsMessage, settleFlow, targetShapeIssues } from './target.ts';
 
 /** longest rendering of a bad value inside a message (a whole list would drown the message) */
 const MAX_VALUE_CHARS = 80;
@@ -238,30 +239,70 @@ export const samplesInitialSchema = strictSection(
   'initial (kind samples)',
 );
 
-export const INITIAL_KINDS = ['sech2', 'wells', 'solitons', 'samples'] as const;
+/** the traps a user has: the kinds `initial.from` of a reflectionless start accepts */
+export const TRAP_KINDS = ['sech2', 'wells', 'solitons', 'samples'] as const;
 
-export const initialSchema = z.discriminatedUnion(
-  'kind',
-  [sech2InitialSchema, wellsInitialSchema, solitonsInitialSchema, samplesInitialSchema],
+function kindUnion<const O extends readonly [z.core.$ZodTypeDiscriminable, ...z.core.$ZodTypeDiscriminable[]]>(options: O, kinds: readonly string[]) {
+  return z.discriminatedUnion('kind', options, {
+    error: (iss) => (iss.code === 'invalid_union' ? `must be one of ${kinds.join(', ')}` : `must be a mapping with a key kind (${kinds.join(', ')})`),
+  });
+}
+
+export const trapSchema = kindUnion([sech2InitialSchema, wellsInitialSchema, solitonsInitialSchema, samplesInitialSchema], TRAP_KINDS);
+
+export const reflectionlessInitialSchema = strictSection(
+  { kind: z.literal('reflectionless'), from: trapSchema },
+  'initial (kind reflectionless)',
+);
+
+export const TARGET_OUTCOMES = ['split', 'merge', 'transport', 'collision'] as const;
+/** which point stays put: the wells' mean position (symmetric motion), the deepest or the shallowest well */
+export const TARGET_HOLDS = ['center', 'deepest', 'shallowest'] as const;
+/** wells of a split, merge or collision at least, and at most (each is a distinct bound state) */
+const TARGET_WELLS_MAX = 8;
+
+export const targetInitialSchema = strictSection(
   {
-    error: (iss) =>
-      iss.code === 'invalid_union'
-        ? `must be one of ${INITIAL_KINDS.join(', ')}`
-        : `must be a mapping with a key kind (${INITIAL_KINDS.join(', ')})`,
+    kind: z.literal('target'),
+    outcome: oneOf(TARGET_OUTCOMES),
+    depths: z
+      .array(depthPositive, { error: 'must be a list of well depths (energy unit), all different' })
+      .min(1, { error: 'must list at least one depth' })
+      .max(TARGET_WELLS_MAX, { error: `must list at most ${TARGET_WELLS_MAX} depths` })
+      .superRefine((list, ctx) => {
+        const message = equalDepthsMessage(list);
+        if (message) ctx.addIssue({ code: 'custom', message });
+      }),
+    separation: positive('distance between the outermost wells, in the length unit').optional(),
+    positions: z.array(numberWhere('must be a number (final well position, in the length unit)'), { error: 'must be a list of final well positions (length unit), one per depth' }).optional(),
+    center: centerSchema,
+    distance: numberWhere('must be a number ≠ 0 (how far the well moves, in the length unit)', (v) => v !== 0).optional(),
+    gap: positive('distance between the wells before and after they pass, in the length unit').optional(),
+    hold: oneOf(TARGET_HOLDS).default('center'),
   },
+  'initial (kind target)',
+).superRefine((t, ctx) => {
+  for (const [path, message] of targetShapeIssues(t)) ctx.addIssue({ code: 'custom', path: [path], message });
+});
+
+export const INITIAL_KINDS = [...TRAP_KINDS, 'reflectionless', 'target'] as const;
+
+export const initialSchema = kindUnion(
+  [sech2InitialSchema, wellsInitialSchema, solitonsInitialSchema, samplesInitialSchema, reflectionlessInitialSchema, targetInitialSchema],
+  INITIAL_KINDS,
 );
 
 export const DISPERSIONS = ['quantum', 'classical'] as const;
 export const flowSchema = strictSection(
   {
     dispersion: oneOf(DISPERSIONS).default('quantum'),
-    lambda_end: positive('final KdV time λ, dimensionless'),
+    lambda_end: positive('final KdV time λ, dimensionless').optional(),
     frames: intBetween(2, 10000).default(11),
     tolerance: numberWhere(`must be a number from ${FLOW_TOLERANCE_MIN} to 1e-2 (local error per step relative to max|u|; ${FLOW_TOLERANCE_MIN} is the smallest double precision can meet)`, (v) => v >= FLOW_TOLERANCE_MIN && v <= 1e-2).default(1e-10),
     drift: numberWhere('must be a number (co-moving drift c, length unit per unit λ)').default(0),
   },
   'flow',
-);
+).transform((f) => ({ ...f, lambda_end: f.lambda_end ?? Number.NaN })); // NaN until parseConfigWith sets or refuses it (io/target.ts)
 
 export const protocolSchema = strictSection(
   {
@@ -290,6 +331,14 @@ export const verifySchema = strictSection(
   'verify',
 );
 
+export const budgetSchema = strictSection(
+  {
+    depth: positive('deepest potential the lab can paint, in the energy unit').optional(),
+    feature: positive('narrowest well (full width at half depth) the optics resolve, in the length unit').optional(),
+  },
+  'budget',
+);
+
 /** top-level keys; extend with `configSchema.extend({...})` */
 export const configShape = {
   name: nameSchema,
@@ -300,6 +349,7 @@ export const configShape = {
   flow: flowSchema,
   protocol: protocolSchema.optional(),
   verify: verifySchema.optional(),
+  budget: budgetSchema.optional(),
 };
 
 export const configSchema = strictSection(configShape, 'the config');
@@ -398,12 +448,15 @@ export function parseYaml(text: string, sourceName: string): unknown {
 
 /** file-system checks that zod cannot do: samples file must exist (resolved against baseDir) */
 function fileIssues(raw: unknown, sourceName: string, baseDir: string): string[] {
-  const { value: file } = lookup(raw, ['initial', 'file']);
-  const { value: kind } = lookup(raw, ['initial', 'kind']);
+  const nested = lookup(raw, ['initial', 'kind']).value === 'reflectionless';
+  const at = nested ? ['initial', 'from'] : ['initial'];
+  const { value: file } = lookup(raw, [...at, 'file']);
+  const { value: kind } = lookup(raw, [...at, 'kind']);
   if (kind !== 'samples' || typeof file !== 'string' || file === '') return [];
+  const key = `${at.join('.')}.file`;
   const abs = isAbsolute(file) ? file : resolve(baseDir, file);
-  if (!existsSync(abs)) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: file not found (looked for ${abs})`];
-  if (!statSync(abs).isFile()) return [`${sourceName}: initial.file = ${showValue(file)} is not allowed: ${abs} is not a regular file`];
+  if (!existsSync(abs)) return [`${sourceName}: ${key} = ${showValue(file)} is not allowed: file not found (looked for ${abs})`];
+  if (!statSync(abs).isFile()) return [`${sourceName}: ${key} = ${showValue(file)} is not allowed: ${abs} is not a regular file`];
   return [];
 }
 
@@ -430,11 +483,11 @@ export function parseConfigWith<S extends z.ZodType<ConfigData>>(
   const result = schema.safeParse(raw);
   const lines = result.success ? [] : formatIssues(result.error.issues, raw, sourceName);
   lines.push(...fileIssues(raw, sourceName, baseDir));
+  if (result.success && lines.length === 0) lines.push(...settleFlow(result.data, (path) => lookup(raw, path).present, unitSystemOf(result.data.units)).map((l) => `${sourceName}: ${l}`));
   if (!result.success || lines.length > 0) throw new UserError(listProblems(lines, sourceName));
   const data = result.data as z.output<S>;
-  if (data.initial.kind === 'samples' && !isAbsolute(data.initial.file)) {
-    data.initial.file = resolve(baseDir, data.initial.file);
-  }
+  const trap = data.initial.kind === 'reflectionless' ? data.initial.from : data.initial;
+  if (trap.kind === 'samples' && !isAbsolute(trap.file)) trap.file = resolve(baseDir, trap.file);
   return Object.assign(data, { meta: { source: sourceName, baseDir: resolve(baseDir) } });
 }
 

@@ -78,6 +78,10 @@ function depthKey(config: Config): string {
     }
     case 'samples':
       return `the samples in initial.file = ${init.file}`;
+    case 'reflectionless':
+      return 'the trap in initial.from';
+    case 'target':
+      return `initial.depths = [${init.depths.join(', ')}]`;
   }
 }
 

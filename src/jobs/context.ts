@@ -11,6 +11,8 @@ import { naturalFlowEquation, spectralResolution } from '../flow/kdv.ts';
 import { nSolitonPotential } from '../flow/solitons.ts';
 import { sech2Trap, wellScale, wellsTrap } from '../flow/traps.ts';
 import { dispersionNumber, type UnitSystem } from '../units/scales.ts';
+import { targetSequenceOf } from '../io/target.ts';
+import { fitToTrap } from './outcome.ts';
 
 export interface JobContext {
   config: Config;
@@ -81,6 +83,10 @@ export function initialPotential(config: Config, units: UnitSystem, grid: Grid):
       const natural = s.values.map((v) => E(v));
       return m === grid.n ? natural : resample(natural, grid.n);
     }
+    case 'reflectionless':
+      return fitToTrap(grid, initialPotential({ ...config, initial: init.from }, units, grid)).potential;
+    case 'target':
+      return targetSequenceOf(init, units, config.flow.lambda_end).potential(grid.x, 0);
   }
 }
 
@@ -115,6 +121,10 @@ function initialKeys(config: Config): string {
       return init.solitons.map((w, i) => `initial.solitons[${i}].kappa ${w.kappa}`).join(', ');
     case 'samples':
       return `initial.file ${init.file}`;
+    case 'reflectionless':
+      return `initial.from (kind ${init.from.kind})`;
+    case 'target':
+      return `initial.depths ${init.depths.join(', ')}`;
   }
 }
 

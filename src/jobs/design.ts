@@ -18,11 +18,20 @@ import { NumericalError } from '../core/errors.ts';
 import type { DesignSummary, SolitonPrediction } from '../io/formats/sequence.ts';
 import { configIdentity, writeRun, type RunFolder } from '../io/run-folder.ts';
 import { assertDesignAffordable, denseOutputBudget } from '../io/cost.ts';
+import { depthBudget, narrowestFeature } from '../flow/budgets.ts';
+import { TARGET_DEPTH_TOL, TARGET_POSITION_TOL } from '../io/target.ts';
+import type { BudgetSummary, OutcomeSummary } from '../io/formats/sequence.ts';
+import { compareWithExact, exactEndOf } from './outcome.ts';
+import { initialPotential } from './context.ts';
 export type { DesignSummary, SolitonPrediction };
 
 /** a spectral tail (top-of-band amplitude relative to the largest mode) above this means the sequence carries
  * relative errors of about that size from the grid (common practice for this kind of indicator) */
 export const TAIL_WARNING = 1e-7;
+
+/** the sequence counts as beyond the starting trap's depth or resolution only past this fraction: budgets are read
+ * off the grid samples, which miss a moving minimum by up to (κh/2)² of its depth (common practice) */
+export const BUDGET_SLACK = 1e-2;
 
 export const DESIGN_FILES = ['potential.npy', 'potential.csv', 'sequence.json'] as const;
 
@@ -118,6 +127,10 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
         `; ${run.frames.length} of ${flowCfg.frames} frames were written`,
     );
   }
+  const budgets = budgetSummary(config, ctx, run);
+  warnings.push(...budgetWarnings(budgets, units.labels));
+  const outcome = outcomeSummary(config, ctx, run);
+  if (outcome && !outcome.met) warnings.push(`the design misses its ${outcome.kind} outcome: ${outcome.verdict}`);
   const E = units.labels.energy;
   const Lb = units.labels.length;
   const summary: DesignSummary = {
@@ -129,13 +142,15 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     lambda_reached: run.lambdas[run.lambdas.length - 1],
     complete: run.breaking === null,
     max_invariant_drift: drift.max,
-    spectral_drift: units.energyFromNatural(spectrum.maxDrift),
+    spectral_drift: bound.energies.length > 0 ? units.energyFromNatural(spectrum.maxDrift) : null,
     predicted_solitons: predicted.map((p) => ({ kappa: p.kappa_user, depth: p.depth, speed: p.speed })),
     wells_found: wellsFound.map((w) => ({ position: w.position, depth: w.depth })),
     units: { length: Lb, energy: E, lambda: 'dimensionless (KdV time in the natural units of ℓ)', speed: `${Lb} per unit λ`, kappa: `1/${Lb}` },
     scales: scalesText(ctx),
     delta2: ctx.delta2,
     delta2_meaning: DISPERSION_EXPLANATION,
+    budgets,
+    outcome,
     breaking: run.breaking
       ? {
           lambda_reached: run.breaking.lambdaReached,
@@ -155,6 +170,76 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
     warnings,
   };
   return { spectrum, ctx, run, bound, predicted, wellsFound, invariantsFirst, invariantsLast, drift, breakingPredicted, warnings, summary };
+}
+
+/**
+ * Depth (laser power) and resolution budgets over the stored frames (flow/budgets.ts), in the config's units, with
+ * the user's `budget` limits.
+ */
+function budgetSummary(config: Config, ctx: JobContext, run: FlowRun): BudgetSummary {
+  const { units, grid } = ctx;
+  const depth = depthBudget(run.frames);
+  const narrow = narrowestFeature(grid.x, run.frames);
+  const start = narrowestFeature(grid.x, run.frames.slice(0, 1));
+  const length = (v: number) => (Number.isFinite(v) ? units.lengthFromNatural(v) : null);
+  return {
+    start_depth: units.energyFromNatural(depth.startDepth),
+    deepest: units.energyFromNatural(depth.deepest),
+    deepest_lambda: run.lambdas[depth.frame],
+    depth_ratio: depth.ratio,
+    start_feature: length(start.narrowest),
+    narrowest_feature: length(narrow.narrowest),
+    narrowest_lambda: narrow.frame >= 0 ? run.lambdas[narrow.frame] : null,
+    narrowest_position: length(narrow.position),
+    limit_depth: config.budget?.depth ?? null,
+    limit_feature: config.budget?.feature ?? null,
+    sampled: `over the ${run.frames.length} stored frames; feature = full width at half depth of a well`,
+  };
+}
+
+/** warnings when the sequence needs more than the starting trap or than the user's budget */
+function budgetWarnings(b: BudgetSummary, labels: { energy: string; length: string }): string[] {
+  const out: string[] = [];
+  const at = (l: number | null) => `at λ = ${l?.toPrecision(4)}`;
+  if (b.depth_ratio > 1 + BUDGET_SLACK) out.push(`the sequence reaches ${b.depth_ratio.toPrecision(4)} times the starting depth (${b.deepest.toPrecision(4)} ${labels.energy} ${at(b.deepest_lambda)}): the laser power must allow it`);
+  if (b.limit_depth !== null && b.deepest > b.limit_depth) out.push(`the sequence reaches ${b.deepest.toPrecision(4)} ${labels.energy} ${at(b.deepest_lambda)}, beyond budget.depth = ${b.limit_depth} ${labels.energy}`);
+  const f = b.narrowest_feature;
+  if (f !== null && b.start_feature !== null && f < b.start_feature * (1 - BUDGET_SLACK)) out.push(`the narrowest well (${f.toPrecision(4)} ${labels.length} wide ${at(b.narrowest_lambda)}) is narrower than the starting trap's (${b.start_feature.toPrecision(4)} ${labels.length}): the optics must resolve it`);
+  if (f !== null && b.limit_feature !== null && f < b.limit_feature) out.push(`the narrowest well is ${f.toPrecision(4)} ${labels.length} wide ${at(b.narrowest_lambda)}, below budget.feature = ${b.limit_feature} ${labels.length}`);
+  return out;
+}
+
+/** the requested outcome against the last frame (null for starts not built from an outcome), in the config's units */
+function outcomeSummary(config: Config, ctx: JobContext, run: FlowRun): OutcomeSummary | null {
+  const { units, grid } = ctx;
+  const init = config.initial;
+  const trap = init.kind === 'reflectionless' ? initialPotential({ ...config, initial: init.from }, units, grid) : ctx.u0;
+  const exact = exactEndOf(config, units, grid, trap);
+  if (!exact) return null;
+  const last = run.frames[run.frames.length - 1];
+  const kappaMax = Math.max(...findWells(grid, exact.potential).map((w) => w.kappa));
+  const c = compareWithExact(grid, last, exact, kappaMax, TARGET_POSITION_TOL, TARGET_DEPTH_TOL);
+  const L = units.lengthFromNatural;
+  const E = units.energyFromNatural;
+  const e = (v: number | null) => (v === null ? 'n/a' : v.toExponential(2));
+  const verdict = c.met
+    ? `${c.wells.length} wells where asked: positions within ${e(c.positionError)} of the narrowest width and depths within ${e(c.depthError)} (tolerances ${TARGET_POSITION_TOL}, ${TARGET_DEPTH_TOL} of the depth)`
+    : `${c.wellsFound} wells found for ${c.wells.length} asked; positions off by ${e(c.positionError)} of the narrowest width (tolerance ${TARGET_POSITION_TOL}), depths by ${e(c.depthError)} (tolerance ${TARGET_DEPTH_TOL}); raise grid.points or lower flow.tolerance`;
+  const opt = (v: number | null, f: (x: number) => number) => (v === null ? null : f(v));
+  const fit = exact.fit;
+  let fitMax = 0;
+  if (fit) trap.forEach((v, j) => (fitMax = Math.max(fitMax, Math.abs(fit.potential[j] - v))));
+  return {
+    kind: exact.kind,
+    notes: exact.notes,
+    wells: c.wells.map((w) => ({ requested_position: L(w.requestedPosition), reached_position: opt(w.reachedPosition, L), requested_depth: E(w.requestedDepth), reached_depth: opt(w.reachedDepth, E) })),
+    position_error_widths: c.positionError,
+    depth_error_relative: c.depthError,
+    exact_distance_relative: c.exactDistance,
+    met: c.met,
+    verdict,
+    fit: fit ? { distance_l2_relative: fit.distance, max_difference: E(fitMax), radiation_fraction: fit.radiationFraction } : null,
+  };
 }
 
 export function scalesText(ctx: JobContext): { E0: string; t0: string; ell: string } {

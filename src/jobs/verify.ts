@@ -254,6 +254,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     lambdaEnd: input.lambdaEnd,
     ramp: input.protocol.ramp,
     duration: input.duration,
+    drift: design.ctx.units.lengthToNatural(config.flow.drift),
     states: input.verify.states,
     tol: input.verify.tolerance,
     temperature: input.temperature,

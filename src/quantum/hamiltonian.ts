@@ -40,17 +40,20 @@ export function bareTerms(u: Float64Array, out: OperatorTerms = emptyTerms()): O
 }
 
 /**
- * H(s) = k² + u + σ τ′ (−4k³ − 3{u,k}): σ = 1 CD drive, σ = 0 bare, σ = −1 sign-flipped (physics.md §3).
+ * H(s) = k² + u + σ τ′ (−4k³ − 3{u,k} + c k): σ = 1 CD drive, σ = 0 bare, σ = −1 sign-flipped (physics.md §3).
+ * c is the co-moving drift of the flow u_τ = 6uu_ξ − u_ξξξ − c u_ξ (flow/kdv.ts): −c u_ξ = [−c∂_ξ, −∂² + u] adds
+ * −c∂_ξ = −ic k to the Lax operator B = i(4k³ + 3{u,k}), so A_τ gains +c k (the classical +c p of classical/cd.ts).
  */
-export function cdTerms(u: Float64Array, tauPrime: number, sigma: number, out: OperatorTerms = emptyTerms()): OperatorTerms {
+export function cdTerms(u: Float64Array, tauPrime: number, sigma: number, out: OperatorTerms = emptyTerms(), drift = 0): OperatorTerms {
   const c = sigma * tauPrime;
-  out.c1 = 0; out.c2 = 1; out.c3 = -4 * c; out.v = u; out.w = c === 0 ? null : u; out.b = -3 * c;
+  out.c1 = c * drift; out.c2 = 1; out.c3 = -4 * c; out.v = u; out.w = c === 0 ? null : u; out.b = -3 * c;
   return out;
 }
 
-/** A_τ = −(4k³ + 3{u,k}) (physics.md §3); `part` selects the p³ part (−4k³) or the potential part (−3{u,k}) */
-export function laxTerms(u: Float64Array, part: 'full' | 'cubic' | 'potential' = 'full', out: OperatorTerms = emptyTerms()): OperatorTerms {
-  out.c1 = 0; out.c2 = 0; out.v = null;
+/** A_τ = −(4k³ + 3{u,k}) + c k (physics.md §3; drift c as in cdTerms); `part` selects the p³ part (−4k³) or the
+ *  potential part (−3{u,k}); the drift term belongs to the full operator only */
+export function laxTerms(u: Float64Array, part: 'full' | 'cubic' | 'potential' = 'full', out: OperatorTerms = emptyTerms(), drift = 0): OperatorTerms {
+  out.c1 = part === 'full' ? drift : 0; out.c2 = 0; out.v = null;
   out.c3 = part === 'potential' ? 0 : -4;
   out.w = part === 'cubic' ? null : u;
   out.b = part === 'cubic' ? 0 : -3;

@@ -63,16 +63,17 @@ const MIN_STEP_FRACTION = 1e-9;
 export type PotentialFn = (lambda: number, out: Float64Array) => void;
 
 /**
- * The KdV drive of physics.md §3: H(s) = k² + u(λ(s)) + σ λ'(s)(−4k³ − 3{u,k}); λ = τ is the KdV time.
- * σ = 1: exact CD for a KdV-admissible sequence; σ = 0: bare ramp; σ = −1: sign-flipped correction.
+ * The KdV drive of physics.md §3: H(s) = k² + u(λ(s)) + σ λ'(s)(−4k³ − 3{u,k} + c k); λ = τ is the KdV time and c
+ * the co-moving drift of the flow (hamiltonian.ts cdTerms). σ = 1: exact CD for a KdV-admissible sequence;
+ * σ = 0: bare ramp; σ = −1: sign-flipped correction.
  */
-export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number): DrivenHamiltonian {
+export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number, drift = 0): DrivenHamiltonian {
   const u = new Float64Array(grid.n);
   return {
     grid,
     terms(s, out) {
       potential(ramp.value(s), u);
-      cdTerms(u, ramp.rate(s), sigma, out);
+      cdTerms(u, ramp.rate(s), sigma, out, drift);
     },
   };
 }

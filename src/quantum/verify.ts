@@ -34,6 +34,8 @@ export interface VerifyOptions {
   lambdaEnd: number;
   ramp: RampKind;
   duration: number;
+  /** co-moving drift c of the flow that made the sequence (natural units; default 0) */
+  drift?: number;
   /** number of propagated states; default: bound states (E < −(2π/L)²) + 4 */
   states?: number;
   /** infidelity budget of the time stepping (default 1e-8) */
@@ -229,7 +231,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; s
   const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
   const uS = new Float64Array(grid.n);
   const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
-  const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma), ctx.init, 0, opts.duration, {
+  const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma, opts.drift ?? 0), ctx.init, 0, opts.duration, {
     scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: sigma === 0 ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
     onProgress: (f) => ctx.meter.driveAt(drive, f),
     onSample: (s, sts) => {
@@ -259,7 +261,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; s
 
 /** one sample of the correction's coupling out of the occupied subspace (CdStrength) */
 function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, rate: number, uS: Float64Array, sts: readonly Float64Array[]): void {
-  const full = occupiedCoupling(ctx.op, laxTerms(uS, 'full'), sts, ctx.occupied, ctx.scratch);
+  const full = occupiedCoupling(ctx.op, laxTerms(uS, 'full', undefined, ctx.opts.drift ?? 0), sts, ctx.occupied, ctx.scratch);
   c.time.push(s);
   c.leakage.push(rate * full.leakage);
   c.window.push(rate * full.window);

@@ -146,4 +146,4 @@ export function dispersionNumber(depthNatural: number, widthNatural: number): nu
 }
 
 export const DISPERSION_EXPLANATION =
-  'δ² = ħ²/(2mV₀w²) compares the quantum (dispersive, ∝ ħ²) term of the KdV flow with its nonlinear term for a well of depth V₀ and width w: δ² → 0 is the classical limit, where the dispersionless flow breaks, so light atoms and shallow, narrow wells need the quantum design.';
+  'δ² = ħ²/(2mV₀w²), with V₀ the depth and w = √(2V₀/V″) the curvature width at the minimum of the deepest well (the width of a sech² well, √2σ for a Gaussian of standard deviation σ), compares the quantum (dispersive, ∝ ħ²) term of the KdV flow with its nonlinear term: δ² → 0 is the classical limit, where the dispersionless flow breaks, so light atoms and shallow, narrow wells need the quantum design.';

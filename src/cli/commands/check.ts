@@ -60,7 +60,7 @@ function checkRows(r: CheckReport, files: string[]): [string, string][] {
     ['intervals', `${r.intervals.length}, ${passing} pass the KdV flow fit (max residual ${num(r.fit.max_residual, 3)})`],
     ['fitted τ', `0 … ${num(tauEnd, 4)} (${r.units.tau})`],
     ...(r.time_map ? [['time map', `τ(t) at ${r.time_map.time.length} lab times, peak dτ/dt ${num(Math.max(...r.time_map.rate), 3)} per ${r.units.time}`] as [string, string]] : []),
-    ['bound-state drift', `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
+    ['bound-state drift', r.isospectral === null ? 'not tested (no bound state below the box threshold in some frame)' : `${num(r.spectral_drift, 3)} ${r.units.energy} (relative ${num(r.spectral_drift_relative, 3)})`],
     ['repaired sequence', `max distance ${num(r.repaired.max_distance, 3)} ${r.units.energy}, relative L² ${num(r.repaired.relative_l2, 3)}`],
     ...(r.grid.resampled ? [['grid', `${r.grid.input_points} input points resampled spectrally onto ${r.grid.points}`] as [string, string]] : []),
     ...(r.variational

@@ -1,6 +1,6 @@
 /** `isotrap design <config>`: integrate the flow and write the sequence. */
 import { checkOutputDir } from '../../io/files.ts';
-import { DESIGN_FILES, runDesign, toJson, writeDesignOutputs, type DesignResult } from '../../jobs/design.ts';
+import { DESIGN_FILES, runDesign, toJson, writeDesignOutputs, type DesignResult, type DesignSummary } from '../../jobs/design.ts';
 import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
 import { makeProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
@@ -15,11 +15,32 @@ function designRows(result: DesignResult, dir: string): [string, string][] {
     ['frames × points', `${s.frames} × ${s.points}, λ = 0 … ${num(s.lambda_reached)}${s.complete ? '' : ` (asked ${s.lambda_end})`}`],
     ['integrator', `${s.integrator.steps} steps (${s.integrator.rejected} rejected), ${num(s.integrator.seconds, 3)} s, tolerance ${s.integrator.tolerance}`],
     ['invariant drift (max rel.)', num(s.max_invariant_drift, 3)],
-    ['bound-state drift', `${num(s.spectral_drift, 3)} ${E} (isospectrality along the sequence)`],
+    ['bound-state drift', s.spectral_drift === null ? 'not tested (no bound state below the box threshold)' : `${num(s.spectral_drift, 3)} ${E} (isospectrality along the sequence)`],
     ['predicted solitons', s.predicted_solitons.map((p) => `depth ${num(p.depth)} ${E}, speed ${num(p.speed)} ${s.units.speed}`).join('; ') || 'none'],
     ['wells in last frame', s.wells_found.map((w) => `depth ${num(w.depth)} ${E} at ${num(w.position)} ${s.units.length}`).join('; ') || 'none'],
+    ...budgetRows(s),
+    ...outcomeRows(s),
     ['outputs', dir],
   ];
+}
+
+function budgetRows(s: DesignSummary): [string, string][] {
+  const b = s.budgets;
+  const L = s.units.length;
+  const limit = (v: number | null, u: string) => (v === null ? '' : `; budget ${num(v)} ${u}`);
+  return [
+    ['deepest potential', `${num(b.deepest)} ${s.units.energy} at λ = ${num(b.deepest_lambda)}: ${num(b.depth_ratio)} × the starting depth (laser power)${limit(b.limit_depth, s.units.energy)}`],
+    ['narrowest well', b.narrowest_feature === null ? 'none' : `${num(b.narrowest_feature)} ${L} full width at half depth at λ = ${num(b.narrowest_lambda)} (start ${num(b.start_feature)} ${L}; optical resolution)${limit(b.limit_feature, L)}`],
+  ];
+}
+
+function outcomeRows(s: DesignSummary): [string, string][] {
+  const o = s.outcome;
+  if (!o) return [];
+  const rows: [string, string][] = [[`${o.kind} outcome`, `${o.met ? 'met' : 'NOT met'}: ${o.verdict}; flow against the exact N-soliton sequence ${num(o.exact_distance_relative, 3)} of the depth`]];
+  if (o.fit) rows.push(['reflectionless fit', `relative L² distance ${num(o.fit.distance_l2_relative, 3)} from the trap (largest ${num(o.fit.max_difference, 3)} ${s.units.energy}); the trap itself would shed ${num(o.fit.radiation_fraction, 3)} of ∫V² as radiation`]);
+  rows.push(['wells at the end', o.wells.map((w) => `depth ${num(w.reached_depth)} ${s.units.energy} at ${num(w.reached_position)} ${s.units.length}`).join('; ')]);
+  return rows;
 }
 
 export async function designCommand(configPath: string, opts: CommonOptions): Promise<number> {

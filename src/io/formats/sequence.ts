@@ -31,17 +31,54 @@ export interface DesignSummary {
   lambda_reached: number;
   complete: boolean;
   max_invariant_drift: number;
-  /** largest bound-state energy drift along the sequence, user energy unit */
-  spectral_drift: number;
+  /** largest bound-state energy drift along the sequence, user energy unit; null: not tested (no bound state) */
+  spectral_drift: number | null;
   predicted_solitons: { kappa: number; depth: number; speed: number }[];
   wells_found: { position: number; depth: number }[];
   units: { length: string; energy: string; lambda: string; speed: string; kappa: string };
   scales: { E0: string; t0: string; ell: string };
   delta2: number;
   delta2_meaning: string;
+  budgets: BudgetSummary;
+  outcome: OutcomeSummary | null;
   breaking: null | { lambda_reached: number; lambda_extrapolated: number; lambda_characteristics: number; reason: string };
   integrator: { method: string; steps: number; rejected: number; seconds: number; tolerance: number; tail: number };
   warnings: string[];
+}
+
+/** depth (laser power) and resolution budgets of the sequence, config units (flow/budgets.ts) */
+export interface BudgetSummary {
+  start_depth: number;
+  deepest: number;
+  deepest_lambda: number;
+  /** deepest / start_depth: the laser power relative to the starting trap */
+  depth_ratio: number;
+  /** narrowest full width at half depth of a well, in the first frame and over all frames (null: no well) */
+  start_feature: number | null;
+  narrowest_feature: number | null;
+  narrowest_lambda: number | null;
+  narrowest_position: number | null;
+  /** the config's budget.depth and budget.feature (null when not given) */
+  limit_depth: number | null;
+  limit_feature: number | null;
+  sampled: string;
+}
+
+/** a start built from an outcome (initial.kind reflectionless or target) against the last frame, config units */
+export interface OutcomeSummary {
+  kind: 'reflectionless' | 'target';
+  notes: string[];
+  /** reached_*: null when no well was found */
+  wells: { requested_position: number; reached_position: number | null; requested_depth: number; reached_depth: number | null }[];
+  /** largest position error in units of the narrowest width 1/κ_max, largest relative depth error (null: no well found) */
+  position_error_widths: number | null;
+  depth_error_relative: number | null;
+  /** max |u_flow − u_exact| over the depth at λ_end (the exact N-soliton sequence, Kay & Moses 1956) */
+  exact_distance_relative: number;
+  met: boolean;
+  verdict: string;
+  /** reflectionless: relative L² and largest distance from the user's trap, and the share of ∫u² it sheds as radiation */
+  fit: { distance_l2_relative: number; max_difference: number; radiation_fraction: number } | null;
 }
 
 export interface SequenceFile {
@@ -84,13 +121,28 @@ const summarySchema: z.ZodType<DesignSummary> = z.object({
   lambda_reached: num,
   complete: z.boolean(),
   max_invariant_drift: num,
-  spectral_drift: num,
+  spectral_drift: numOrNull,
   predicted_solitons: z.array(z.object({ kappa: num, depth: num, speed: num })),
   wells_found: z.array(z.object({ position: num, depth: num })),
   units: z.object({ length: str, energy: str, lambda: str, speed: str, kappa: str }),
   scales: z.object({ E0: str, t0: str, ell: str }),
   delta2: num,
   delta2_meaning: str,
+  budgets: z.object({
+    start_depth: num, deepest: num, deepest_lambda: num, depth_ratio: num, start_feature: numOrNull, narrowest_feature: numOrNull,
+    narrowest_lambda: numOrNull, narrowest_position: numOrNull, limit_depth: numOrNull, limit_feature: numOrNull, sampled: str,
+  }),
+  outcome: z.object({
+    kind: z.enum(['reflectionless', 'target']),
+    notes: z.array(str),
+    wells: z.array(z.object({ requested_position: num, reached_position: numOrNull, requested_depth: num, reached_depth: numOrNull })),
+    position_error_widths: numOrNull,
+    depth_error_relative: numOrNull,
+    exact_distance_relative: num,
+    met: z.boolean(),
+    verdict: str,
+    fit: z.object({ distance_l2_relative: num, max_difference: num, radiation_fraction: num }).nullable(),
+  }).nullable(),
   breaking: z.object({ lambda_reached: num, lambda_extrapolated: num, lambda_characteristics: num, reason: str }).nullable(),
   integrator: z.object({ method: str, steps: num, rejected: num, seconds: num, tolerance: num, tail: num }),
   warnings: z.array(str),

@@ -93,7 +93,7 @@ export function checkSummaryRows(r: CheckReport): SummaryRow[] {
     { key: 'intervals', value: r.intervals.length },
     { key: 'largest residual', value: r.fit.max_residual },
     { key: 'fitted τ at the last frame', value: r.frames[r.frames.length - 1].tau },
-    { key: 'bound-state drift', value: r.spectral_drift, unit: r.units.energy },
+    r.isospectral === null ? { key: 'bound-state drift', value: 'not tested (no bound state)' } : { key: 'bound-state drift', value: r.spectral_drift, unit: r.units.energy },
     { key: 'repaired: relative L² distance', value: r.repaired.relative_l2 },
   ];
 }

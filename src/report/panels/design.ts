@@ -136,6 +136,20 @@ export function designSummaryRows(seq: SequenceFile): SummaryRow[] {
     { key: 'dispersion number δ²', value: sm.delta2 },
     { key: 'solitons predicted', value: seq.solitons.predicted.map((p) => `${p.depth.toPrecision(4)} ${seq.energy_unit}`).join(', ') || 'none' },
     { key: 'wells found at λ_end', value: seq.solitons.found_in_last_frame.map((w) => `${w.depth.toPrecision(4)} ${seq.energy_unit}`).join(', ') || 'none' },
-    { key: 'bound-state drift', value: seq.spectrum.max_drift, unit: seq.energy_unit },
+    sm.spectral_drift === null ? { key: 'bound-state drift', value: 'not tested (no bound state)' } : { key: 'bound-state drift', value: sm.spectral_drift, unit: seq.energy_unit },
+    ...outcomeSummaryRows(seq),
   ];
+}
+
+/** budgets and, for a start built from an outcome, whether it was met */
+function outcomeSummaryRows(seq: SequenceFile): SummaryRow[] {
+  const { budgets: b, outcome: o } = seq.summary;
+  const rows: SummaryRow[] = [
+    { key: 'deepest potential / starting depth', value: b.depth_ratio },
+    { key: 'deepest potential', value: b.deepest, unit: seq.energy_unit },
+    ...(b.narrowest_feature === null ? [] : [{ key: 'narrowest well (full width at half depth)', value: b.narrowest_feature, unit: seq.length_unit }]),
+  ];
+  if (o) rows.push({ key: `${o.kind} outcome`, value: `${o.met ? 'met' : 'not met'}: ${o.verdict}` });
+  if (o?.fit) rows.push({ key: 'radiation the trap would shed (share of ∫V²)', value: o.fit.radiation_fraction });
+  return rows;
 }
