@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { boundEnergies, boxThreshold } from '../src/quantum/bound.ts';
 import { lowestEigenpairs } from '../src/quantum/eigen.ts';
+import { cyclicEigenvalues } from '../src/linalg/cyclic-sturm.ts';
 import { ATOMIC_MASS_CONSTANT, BOLTZMANN_K, HBAR } from '../src/units/constants.ts';
 import { speciesMass } from '../src/units/species.ts';
 
@@ -35,5 +36,23 @@ describe('bound-state energies converged in the grid size (src/quantum/bound.ts)
     expect(r.energies.length).toBe(11);
     expect(ref.energies.filter((e) => e < boxThreshold(grid.length)).length).toBe(11);
     for (let i = 0; i < r.energies.length; i++) expect(Math.abs(r.energies[i] - ref.energies[i])).toBeLessThan(1e-6 * depth);
+  });
+});
+
+describe('cyclic tridiagonal bisection with narrowed brackets (src/linalg/cyclic-sturm.ts)', () => {
+  // the cyclic (circulant) tridiagonal with diagonal a and couplings b has eigenvalues a + 2b cos(2πk/n)
+  // (Gray, Toeplitz and Circulant Matrices: A Review, 2006, §3.1)
+  const n = 16;
+  const d = new Float64Array(n).fill(2);
+  const e = new Float64Array(n).fill(-1);
+  const exact = Array.from({ length: n }, (_, k) => 2 - 2 * Math.cos((2 * Math.PI * k) / n)).sort((x, y) => x - y).slice(0, 4);
+  it('a bracket that holds the level narrows the search, one that misses it falls back to the full range: both give a + 2b cos(2πk/n)', () => {
+    const good = cyclicEigenvalues(d, e, 4, -1, 5, { centre: exact.map((x) => x + 1e-3), halfWidth: [1e-2, 1e-2, 1e-2, 1e-2] });
+    const wrong = cyclicEigenvalues(d, e, 4, -1, 5, { centre: [3, 3, 3, 3], halfWidth: [0.1, 0.1, 0.1, 0.1] });
+    // 1e-8: the counts lose digits at the degenerate pair k = ±1 (measured 5e-10 with or without brackets)
+    for (let k = 0; k < 4; k++) {
+      expect(Math.abs(good[k] - exact[k])).toBeLessThan(1e-8);
+      expect(Math.abs(wrong[k] - exact[k])).toBeLessThan(1e-8);
+    }
   });
 });

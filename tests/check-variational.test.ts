@@ -152,7 +152,9 @@ describe('a sequence that is not admissible: a Pöschl–Teller well that deepen
     for (let i = 0; i < 2; i++) {
       expect(vf.fidelity[i]).toBeGreaterThanOrEqual(cf.fidelity[i]); // variational principle: the cubic A is in the span
       expect(cf.fidelity[i]).toBeGreaterThan(nf.fidelity[i]);
-      expect(vf.excessEnergy[i]).toBeLessThanOrEqual(cf.excessEnergy[i]);
+      // excess energy is a deviation from the adiabatic level either way: compare magnitudes (the fitted cubic one of
+      // this non-admissible sequence rests on drifts fitted over Δτ ~ 1e-11 and may land below the level)
+      expect(Math.abs(vf.excessEnergy[i])).toBeLessThanOrEqual(Math.abs(cf.excessEnergy[i]));
     }
   });
 });

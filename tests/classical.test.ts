@@ -18,8 +18,8 @@ describe('Hopf flow by characteristics (src/classical/hopf.ts)', () => {
   // τ_b = 1/max(6u₀′) = √3 w/(8d) (physics.md §4 formula; the maximum by elementary calculus, common practice)
   const tauB = (Math.sqrt(3) * width) / (8 * depth);
 
-  it('pseudo-spectral ETDRK4 flow with β = 0 matches the characteristics solution u = u₀(ξ + 6uτ) before breaking', () => {
-    // independent methods: Fourier/ETDRK4 (flow/kdv.ts) against the method of characteristics
+  it('pseudo-spectral flow with β = 0 matches the characteristics solution u = u₀(ξ + 6uτ) before breaking', () => {
+    // independent methods: Fourier/exponential Runge–Kutta (flow/kdv.ts) against the method of characteristics
     // (Whitham, Linear and Nonlinear Waves, 1974, §2.1; physics.md §4)
     const frames = [0.25 * tauB, 0.5 * tauB]; // well resolved on this grid (the front sharpens as 1/(1 − τ/τ_b))
     const run = integrateFlow(grid, naturalFlowEquation('classical'), u0, { tolerance: 1e-11, frames, detectBreaking: false });

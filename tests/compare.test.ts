@@ -70,7 +70,7 @@ describe('runCompare (src/jobs/compare.ts)', () => {
     // closed form of 1/max(6∂ξu₀) for −d sech²(x/w) (physics.md §4; calculus, common practice)
     expect(Math.abs(s.breaking_lambda - (Math.sqrt(3) * width) / (8 * depth)) / s.breaking_lambda).toBeLessThan(1e-9);
     expect(s.lambda_common).toBeCloseTo(0.95 * s.breaking_lambda, 12);
-    // Fourier/ETDRK4 Hopf run against the exact solution u = u₀(ξ + 6uτ) (Whitham 1974, §2.1)
+    // Fourier/exponential Runge–Kutta Hopf run against the exact solution u = u₀(ξ + 6uτ) (Whitham 1974, §2.1)
     for (const e of s.characteristics_check.max_error) expect(e).toBeLessThan(1e-5);
   });
 

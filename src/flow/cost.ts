@@ -1,26 +1,27 @@
 /**
  * Cost of a flow run before it starts (pure functions of the run's sizes; natural units of physics.md §3).
  *
- * Steps. The linear (dispersive) part of u_τ + αuu_ξ + βu_ξξξ = 0 is integrated exactly by ETDRK4 (Cox & Matthews,
- * J. Comput. Phys. 176, 2002), so the step is limited by the explicit nonlinear part, whose fastest rate on the
+ * Steps. The linear (dispersive) part of u_τ + αuu_ξ + βu_ξξξ = 0 is integrated exactly by the exponential
+ * Runge–Kutta pair of flow/kdv.ts (Whalen, Brio & Moloney, J. Comput. Phys. 280, 579, 2015), so the step is limited by the explicit nonlinear part, whose fastest rate on the
  * retained band is |α|·max|u|·k_cut (k_cut = 2π⌊N/3⌋/L, the 2/3-rule band edge): the accepted steps keep
  * h·|α|·max|u|·k_cut ≈ FLOW_STEP_NUMBER, so a flow to λ_end takes about
  *
  *     steps ≈ λ_end·|α|·max|u₀|·k_cut / FLOW_STEP_NUMBER.
  *
- * Work. Each accepted step of the step-doubling driver costs three ETDRK4 steps of a few FFTs of N points; the work
- * is counted in grid-point steps (steps × N) and converted to time with FLOW_SECONDS_PER_POINT_STEP.
+ * Work. Each accepted step costs six evaluations of the nonlinear term (two FFTs of N points each); the work is
+ * counted in grid-point steps (steps × N) and converted to time with FLOW_SECONDS_PER_POINT_STEP.
  *
  * Memory. The dense output holds value and rate of the ⌊N/3⌋ + 1 retained modes per accepted step
  * (DenseFlow.bytesPerPoint); the frames are held and written as FRAME_VALUE_BYTES per value.
  */
 import { DenseFlow } from './dense.ts';
 
-/** h·|α|·max|u₀|·k_cut of the accepted steps at the default tolerance: measured 0.12–0.84 (N = 128 … 2048, depths
- *  2 … 24, tolerance 1e-10 … 1e-6; deep traps shed solitons deeper than the start, hence the low end), common practice */
-export const FLOW_STEP_NUMBER = 0.3;
-/** wall time per grid-point step on a 2-core laptop: measured 0.7–0.9 µs for N ≥ 1024 (step doubling included) */
-export const FLOW_SECONDS_PER_POINT_STEP = 1e-6;
+/** h·|α|·max|u₀|·k_cut of the accepted steps at the default tolerance 1e-9: measured 0.05–0.4 (N = 128 … 2048,
+ *  sech² depths 2 and 6; grids that do not resolve the solitons at the low end), common practice */
+export const FLOW_STEP_NUMBER = 0.15;
+/** wall time per grid-point step: six evaluations per step, 6/11 of the 0.7–0.9 µs measured for N ≥ 1024 with eleven
+ *  (step doubling) on a 2-core laptop, rounded up */
+export const FLOW_SECONDS_PER_POINT_STEP = 0.6e-6;
 /** bytes per frame value held and written by `design`: the frame (8), the converted copy (8), the .npy buffer (8)
  *  and the .csv text (about 24 characters of two bytes each: 48) */
 export const FRAME_VALUE_BYTES = 72;

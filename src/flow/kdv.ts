@@ -5,29 +5,28 @@
  *
  * In Fourier space û_t = L û + N(û) with L = i(βk³ − ck) (k odd: Nyquist zeroed) and
  * N(û) = −(α/2) ik · P₂/₃ F[(F⁻¹û)²] (2/3-rule dealiasing, Orszag, J. Atmos. Sci. 28, 1074, 1971).
- * Time stepping: ETDRK4 (integrate/etdrk4.ts) with step-doubling error control and local Richardson extrapolation
- * (Hairer, Nørsett & Wanner, Solving ODEs I, 2nd ed. 1993, §II.4): one step h and two steps h/2 give the
- * error estimate ‖y_{h/2} − y_h‖/15 and the fifth-order result y_{h/2} + (y_{h/2} − y_h)/15; the step factor comes
- * from the shared controller (integrate/controller.ts). Step sizes live on a geometric ladder so the exponential
- * coefficients can be cached (physics.md §5); steps are clipped to land exactly on requested frames. Unless the
+ * Time stepping: the embedded exponential Runge–Kutta pair ETD5(3) (integrate/etd-pair.ts; Whalen, Brio & Moloney,
+ * J. Comput. Phys. 280, 579, 2015): six evaluations of N per step, the last (N at the new point) serving as the
+ * next step's first stage and the dense output's rate, and an error estimate from the stages already computed; the
+ * step factor comes from the shared controller (integrate/controller.ts) with the embedded order. Step sizes live on a geometric ladder so the exponential coefficients can be cached
+ * (physics.md §5); steps are clipped to land exactly on requested frames. Unless the
  * caller declines it (`keepDense: false`), every accepted step is kept for dense output (cubic Hermite in λ with
  * u_λ from the right-hand side), so that the Schrödinger solver can ask for u at any λ.
  */
 import { NumericalError } from '../core/errors.ts';
 import { errorExponent, stepFactor } from '../integrate/controller.ts';
-import { etdrk4Coefficients, etdrk4Step, etdrk4Workspace, type Etdrk4Coefficients, type Etdrk4Workspace } from '../integrate/etdrk4.ts';
+import { etdPairCoefficients, etdPairStep, etdPairWorkspace, WHALEN_ETD53, type EtdPairCoefficients, type EtdPairTable, type EtdPairWorkspace } from '../integrate/etd-pair.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { DenseFlow } from './dense.ts';
 
 
-/** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): four rungs per octave keeps the cache small and h/2 on it */
-export const LADDER_DIVISIONS = 4;
-/** order of ETDRK4 (Cox & Matthews 2002): the step-doubling estimate scales as h⁵ */
-const ETDRK4_ORDER = 4;
-/** Richardson factor 2⁴ − 1 of a fourth-order method */
-const RICHARDSON = 15;
-/** coefficient sets kept before the cache is emptied (ladder rungs, halves and frame-landing steps; bounds memory) */
+/** ladder of step sizes h = 2^(j/LADDER_DIVISIONS): eight rungs per octave lose at most 8 % of the step the
+ *  controller asks for and keep the coefficient cache small */
+export const LADDER_DIVISIONS = 8;
+/** the embedded pair of the flow (integrate/etd-pair.ts) */
+export const FLOW_PAIR: EtdPairTable = WHALEN_ETD53;
+/** coefficient sets kept before the cache is emptied (ladder rungs and frame-landing steps; bounds memory) */
 const COEFFICIENT_CACHE_SIZE = 256;
 /** default cap on step attempts (a runaway guard far above any design run) */
 const MAX_STEPS_DEFAULT = 2_000_000;
@@ -68,10 +67,10 @@ export interface FlowStats {
   accepted: number;
   rejected: number;
   nonlinearEvaluations: number;
-  /** ETDRK4 coefficient sets computed (distinct step sizes: ladder rungs, their halves, frame-landing steps) */
+  /** coefficient sets computed (distinct step sizes: ladder rungs and frame-landing steps) */
   coefficientSets: number;
   wallSeconds: number;
-  /** sum of the local error estimates (before extrapolation): a conservative global error indicator */
+  /** sum of the local error estimates (embedded minus propagated solution, RMS): a conservative global error indicator */
   errorEstimate: number;
   minStep: number;
   maxStep: number;
@@ -177,12 +176,12 @@ function ladderStep(j: number): number {
   return Math.pow(2, j / LADDER_DIVISIONS);
 }
 
-/** RMS over the physical grid of the difference of two half spectra (Parseval), first `active` modes */
-function rmsDifference(a: Float64Array, b: Float64Array, active: number, n: number): number {
+/** RMS over the physical grid of a half spectrum (Parseval), first `active` modes */
+function rmsNorm(a: Float64Array, active: number, n: number): number {
   let s = 0;
   for (let m = 0; m < active; m++) {
-    const dr = a[2 * m] - b[2 * m];
-    const di = a[2 * m + 1] - b[2 * m + 1];
+    const dr = a[2 * m];
+    const di = a[2 * m + 1];
     const w = m === 0 || m === n / 2 ? 1 : 2;
     s += w * (dr * dr + di * di);
   }
@@ -221,16 +220,16 @@ export function spectralResolution(grid: Grid, eq: FlowEquation, u: Float64Array
   return { discardedTail, tail: op.tail(v) };
 }
 
-/** ETDRK4 coefficient sets by step size (steps live on a ladder, so few distinct sizes occur) */
+/** coefficient sets of the flow's pair by step size (steps live on a ladder, so few distinct sizes occur) */
 class CoefficientCache {
-  private readonly cache = new Map<number, Etdrk4Coefficients>();
+  private readonly cache = new Map<number, EtdPairCoefficients>();
   /** sets computed so far */
   computed = 0;
   constructor(private readonly lim: Float64Array) {}
-  get(h: number): Etdrk4Coefficients {
+  get(h: number): EtdPairCoefficients {
     let c = this.cache.get(h);
     if (!c) {
-      c = etdrk4Coefficients(h, this.lim);
+      c = etdPairCoefficients(FLOW_PAIR, h, this.lim);
       this.computed++;
       if (this.cache.size > COEFFICIENT_CACHE_SIZE) this.cache.clear();
       this.cache.set(h, c);
@@ -240,39 +239,22 @@ class CoefficientCache {
 }
 
 /**
- * Step doubling with local Richardson extrapolation (module comment): `attempt` computes one step h and two steps
- * h/2 from (v, nv) and returns the error estimate; `extrapolate` writes the fifth-order result into out.
+ * One attempt of the embedded pair (module comment): `attempt` writes y(t + h) into out and N of it into nOut and
+ * returns the RMS of the embedded error estimate.
  */
-class DoublingStepper {
-  private readonly yFull: Float64Array;
-  private readonly yMid: Float64Array;
-  private readonly nMid: Float64Array;
-  private readonly yHalf: Float64Array;
-  private readonly ws: Etdrk4Workspace;
+class EmbeddedStepper {
+  private readonly err: Float64Array;
+  private readonly ws: EtdPairWorkspace;
   readonly coefficients: CoefficientCache;
   constructor(private readonly op: FlowOperator, private readonly active: number) {
-    const alloc = () => new Float64Array(2 * op.modes);
-    this.yFull = alloc();
-    this.yMid = alloc();
-    this.nMid = alloc();
-    this.yHalf = alloc();
-    this.ws = etdrk4Workspace(op.modes);
+    this.err = new Float64Array(2 * op.modes);
+    this.ws = etdPairWorkspace(FLOW_PAIR, op.modes);
     this.coefficients = new CoefficientCache(op.lim.subarray(0, active));
   }
-  /** RMS difference of the two results divided by 2⁴ − 1 */
-  attempt(h: number, v: Float64Array, nv: Float64Array): number {
-    const { op, active, ws, yFull, yMid, nMid, yHalf } = this;
-    const half = this.coefficients.get(h / 2);
-    etdrk4Step(this.coefficients.get(h), op.nonlinear, v, nv, yFull, ws, active);
-    etdrk4Step(half, op.nonlinear, v, nv, yMid, ws, active);
-    op.nonlinear(yMid, nMid);
-    etdrk4Step(half, op.nonlinear, yMid, nMid, yHalf, ws, active);
-    return rmsDifference(yHalf, yFull, active, op.grid.n) / RICHARDSON;
-  }
-  /** out = y_{h/2} + (y_{h/2} − y_h)/15 of the last attempt */
-  extrapolate(out: Float64Array): void {
-    const { yHalf, yFull } = this;
-    for (let i = 0; i < 2 * this.active; i++) out[i] = yHalf[i] + (yHalf[i] - yFull[i]) / RICHARDSON;
+  attempt(h: number, v: Float64Array, nv: Float64Array, out: Float64Array, nOut: Float64Array): number {
+    const { op, active, err } = this;
+    etdPairStep(this.coefficients.get(h), op.nonlinear, v, nv, out, nOut, err, this.ws, active);
+    return rmsNorm(err, active, op.grid.n);
   }
 }
 
@@ -374,7 +356,7 @@ interface LoopResult {
 }
 
 /**
- * The driver: ladder steps, clipped to land exactly on each frame, accepted when the step-doubling estimate is
+ * The driver: ladder steps, clipped to land exactly on each frame, accepted when the embedded estimate is
  * within tolerance·max|u(0)|; every accepted step is stored for dense output.
  */
 function runFlowLoop(op: FlowOperator, v0: Float64Array, frames: readonly number[], scale: number, recorder: FlowRecorder, opts: FlowOptions): LoopResult {
@@ -384,7 +366,7 @@ function runFlowLoop(op: FlowOperator, v0: Float64Array, frames: readonly number
   const tolAbs = opts.tolerance * scale;
   const detect = opts.detectBreaking ?? op.eq.beta === 0;
   const maxSteps = opts.maxSteps ?? MAX_STEPS_DEFAULT;
-  const exponent = errorExponent(ETDRK4_ORDER);
+  const exponent = errorExponent(FLOW_PAIR.embeddedOrder);
   let v = v0;
   let nv: Float64Array = new Float64Array(2 * modes);
   op.nonlinear(v, nv);
@@ -392,7 +374,7 @@ function runFlowLoop(op: FlowOperator, v0: Float64Array, frames: readonly number
   let nvNew: Float64Array = new Float64Array(2 * modes);
   const ux = new Float64Array(op.grid.n);
   const uxSpec = new Float64Array(2 * modes);
-  const stepper = new DoublingStepper(op, active);
+  const stepper = new EmbeddedStepper(op, active);
   recorder.store(0, v, nv);
   let fi = 0;
   // frames at λ ≤ 0: the field the integrator actually evolves, u₀ restricted to the retained band
@@ -411,11 +393,9 @@ function runFlowLoop(op: FlowOperator, v0: Float64Array, frames: readonly number
       breaking = { lambdaReached: t, lambdaExtrapolated: NaN, reason: `step size fell below ${MIN_STEP_FRACTION * tEnd} at λ = ${t}` };
       break;
     }
-    const err = stepper.attempt(h, v, nv);
+    const err = stepper.attempt(h, v, nv, vNew, nvNew);
     const ratio = err / tolAbs;
     if (ratio <= 1 && Number.isFinite(ratio)) {
-      stepper.extrapolate(vNew);
-      op.nonlinear(vNew, nvNew);
       [v, vNew] = [vNew, v];
       [nv, nvNew] = [nvNew, nv];
       t = clipped ? target : t + h;

@@ -298,7 +298,7 @@ export const flowSchema = strictSection(
     dispersion: oneOf(DISPERSIONS).default('quantum'),
     lambda_end: positive('final KdV time λ, dimensionless').optional(),
     frames: intBetween(2, 10000).default(11),
-    tolerance: numberWhere(`must be a number from ${FLOW_TOLERANCE_MIN} to 1e-2 (local error per step relative to max|u|; ${FLOW_TOLERANCE_MIN} is the smallest double precision can meet)`, (v) => v >= FLOW_TOLERANCE_MIN && v <= 1e-2).default(1e-10),
+    tolerance: numberWhere(`must be a number from ${FLOW_TOLERANCE_MIN} to 1e-2 (local error per step relative to max|u|; ${FLOW_TOLERANCE_MIN} is the smallest double precision can meet)`, (v) => v >= FLOW_TOLERANCE_MIN && v <= 1e-2).default(1e-9),
     drift: numberWhere('must be a number (co-moving drift c, length unit per unit λ)').default(0),
   },
   'flow',

@@ -352,7 +352,7 @@ function judge(seq: Sequence, rawFit: SequenceFit, energies: ReadonlyMap<number,
     failures,
     units: reportUnits(seq),
     fit: {
-      method: 'per interval: Δτ ≥ 0 and drift c minimising ‖S_{cΔτ} Φ_Δτ(u_k) − u_{k+1}‖ (ETDRK4 flow with dense output, Brent in τ, spectral cross-correlation in the shift); residual relative to ‖u_{k+1} − u_k‖',
+      method: 'per interval: Δτ ≥ 0 and drift c minimising ‖S_{cΔτ} Φ_Δτ(u_k) − u_{k+1}‖ (flow with dense output, Brent in τ, spectral cross-correlation in the shift); residual relative to ‖u_{k+1} − u_k‖',
       max_residual: fit.maxResidual,
       worst_interval: fit.worstInterval,
       failed: fit.failed,

@@ -5,7 +5,7 @@
 import type { Config } from '../io/config.ts';
 import { writeCsv } from '../io/csv.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
+import { FLOW_PAIR, integrateFlow, naturalFlowEquation, type FlowRun } from '../flow/kdv.ts';
 import { invariantDrift, invariants, type Invariants } from '../flow/invariants.ts';
 import { findWells } from '../flow/wells.ts';
 import { gridBreaking } from '../flow/breaking.ts';
@@ -160,7 +160,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
         }
       : null,
     integrator: {
-      method: 'Fourier pseudo-spectral, 2/3 dealiasing, ETDRK4 (full-circle contour) with step doubling',
+      method: `Fourier pseudo-spectral, 2/3 dealiasing, ${FLOW_PAIR.name} embedded exponential Runge–Kutta pair (${FLOW_PAIR.source})`,
       steps: run.stats.accepted,
       rejected: run.stats.rejected,
       seconds: run.stats.wallSeconds,

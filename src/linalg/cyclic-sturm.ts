@@ -37,16 +37,25 @@ export function cyclicCountBelow(d: Float64Array, e: Float64Array, sigma: number
 }
 
 /**
- * The eigenvalues number `first` … `first + count − 1` (0-based, ascending) of the cyclic tridiagonal (d, e),
- * each by bisection on the count inside [lo, hi] (which must contain them).
+ * The lowest `count` eigenvalues (ascending) of the cyclic tridiagonal (d, e), each by bisection on the count inside
+ * [lo, hi] (which must contain them). `near` (optional, per level: a centre and a half width) narrows a level's
+ * bracket when two counts confirm that it holds exactly that level; otherwise the full bracket is used.
  */
-export function cyclicEigenvalues(d: Float64Array, e: Float64Array, count: number, lo: number, hi: number): Float64Array {
+export function cyclicEigenvalues(d: Float64Array, e: Float64Array, count: number, lo: number, hi: number, near?: { centre: ArrayLike<number>; halfWidth: ArrayLike<number> }): Float64Array {
   if (d.length < 3 || e.length !== d.length) throw new RangeError(`cyclic tridiagonal: need n ≥ 3 and as many couplings as diagonal entries, got ${d.length} and ${e.length}`);
   const scale = Math.max(Math.abs(lo), Math.abs(hi));
   const out = new Float64Array(count);
   for (let k = 0; k < count; k++) {
     let a = k > 0 ? out[k - 1] : lo;
     let b = hi;
+    if (near && Number.isFinite(near.centre[k]) && near.halfWidth[k] > 0) {
+      const na = Math.max(a, near.centre[k] - near.halfWidth[k]);
+      const nb = Math.min(b, near.centre[k] + near.halfWidth[k]);
+      if (na < nb && cyclicCountBelow(d, e, na, scale) <= k && cyclicCountBelow(d, e, nb, scale) > k) {
+        a = na;
+        b = nb;
+      }
+    }
     while (b - a > BISECTION_ULPS * Number.EPSILON * Math.max(Math.abs(a), Math.abs(b), 1e-300)) {
       const mid = 0.5 * (a + b);
       if (mid <= a || mid >= b) break;

@@ -17,7 +17,7 @@
 import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { resample, spectrum } from '../spectral/ops.ts';
-import { cyclicEigenvalues } from '../linalg/cyclic-sturm.ts';
+import { cyclicCountBelow, cyclicEigenvalues } from '../linalg/cyclic-sturm.ts';
 
 /**
  * Bound-state threshold of a periodic box of length L: E < −(2π/L)² (natural units E₀). A state decaying more
@@ -31,8 +31,6 @@ export function boxThreshold(length: number): number {
 const GRID_MIN = 256;
 /** first grid: h₀ times the largest local wavenumber √(max|u|) at most this (second-difference error ~ (hk)²/12) */
 const START_HK = 0.25;
-/** levels asked for on the first grid before checking that one of them lies above the threshold */
-const FIRST_LEVELS = 64;
 /** Richardson levels at most (the finest grid is 2^(LEVELS−1) times the first) */
 const MAX_LEVELS = 7;
 /** u counts as resolved on a coarse grid when the spectral amplitude it drops is below this (common practice) */
@@ -70,8 +68,9 @@ function coarsestResolving(grid: Grid, u: Float64Array): number {
   return Math.max(n, GRID_MIN);
 }
 
-/** lowest `count` levels of the finite-difference Hamiltonian of the n-point resampling, and its scale 2/h² */
-function finiteDifferenceLevels(length: number, u: Float64Array, n: number, count: number): { levels: Float64Array; scale: number } {
+/** the finite-difference Hamiltonian of the n-point resampling (cyclic tridiagonal d, e), a bracket of its spectrum
+ *  and its scale 2/h² */
+function finiteDifferenceMatrix(length: number, u: Float64Array, n: number): { d: Float64Array; e: Float64Array; lo: number; hi: number; scale: number } {
   const h = length / n;
   const un = n === u.length ? u : resample(u, n);
   const d = new Float64Array(n);
@@ -83,7 +82,31 @@ function finiteDifferenceLevels(length: number, u: Float64Array, n: number, coun
     lo = Math.min(lo, un[j]);
     hi = Math.max(hi, d[j] + 2 / (h * h));
   }
-  return { levels: cyclicEigenvalues(d, e, count, lo - 1, hi), scale: 2 / (h * h) };
+  return { d, e, lo: lo - 1, hi, scale: 2 / (h * h) };
+}
+
+/** lowest `count` levels of the finite-difference Hamiltonian on n points (brackets narrowed by `near`) */
+function finiteDifferenceLevels(length: number, u: Float64Array, n: number, count: number, near?: { centre: ArrayLike<number>; halfWidth: ArrayLike<number> }): { levels: Float64Array; scale: number } {
+  const m = finiteDifferenceMatrix(length, u, n);
+  return { levels: cyclicEigenvalues(m.d, m.e, count, m.lo, m.hi, near), scale: m.scale };
+}
+
+/**
+ * Where the levels of the second grid lie: the second difference underestimates k² by k⁴h²/12, so a level moves by
+ * at most about h²(|E| + max|u|)²/12 when h halves; the half width allows twice that.
+ */
+function firstStepBrackets(raw: Float64Array, h: number, depth: number): { centre: Float64Array; halfWidth: Float64Array } {
+  return { centre: raw, halfWidth: raw.map((r) => (h * h * (Math.abs(r) + depth) ** 2) / 6) };
+}
+
+/**
+ * Where the levels of the next grid (h/2) lie: the error of a level falls by 4 when h halves, so the raw level moves
+ * from E(h) to about best + (E(h) − best)/4, best the extrapolated level; the half width allows twice that move.
+ */
+function nextGridBrackets(raw: Float64Array, best: Float64Array): { centre: Float64Array; halfWidth: Float64Array } {
+  const centre = raw.map((r, i) => best[i] + (r - best[i]) / 4);
+  const halfWidth = raw.map((r, i) => 2 * Math.abs(r - best[i]));
+  return { centre, halfWidth };
 }
 
 /**
@@ -96,23 +119,17 @@ export function boundEnergies(grid: Grid, u: Float64Array, threshold: number, ma
   for (let j = 0; j < u.length; j++) depth = Math.max(depth, Math.abs(u[j]));
   let n = coarsestResolving(grid, u);
   while (grid.length / n > START_HK / Math.sqrt(Math.max(depth, 1e-300))) n *= 2;
-  // how many levels to follow: those below the threshold on the first grid, and one more
-  let asked = Math.min(n, FIRST_LEVELS, maxLevels + 1);
-  let first = finiteDifferenceLevels(grid.length, u, n, asked);
-  while (asked < Math.min(n, maxLevels + 1) && first.levels[asked - 1] < threshold) {
-    // every level asked for is bound: ask for more until one lies above the threshold
-    asked = Math.min(n, maxLevels + 1, 2 * asked);
-    first = finiteDifferenceLevels(grid.length, u, n, asked);
-  }
-  let count = 0;
-  while (count < first.levels.length && first.levels[count] < threshold) count++;
-  count = Math.min(count + 1, first.levels.length, maxLevels);
-  const tableau: Float64Array[] = [first.levels.slice(0, count)];
+  // how many levels to follow: those below the threshold on the first grid (one Sturm count), and one more
+  const m0 = finiteDifferenceMatrix(grid.length, u, n);
+  const bound = cyclicCountBelow(m0.d, m0.e, threshold, Math.max(Math.abs(m0.lo), Math.abs(m0.hi)));
+  const count = Math.min(bound + 1, n, maxLevels);
+  const tableau: Float64Array[] = [cyclicEigenvalues(m0.d, m0.e, count, m0.lo, m0.hi)];
   let change = Infinity;
   let tolerance = 0;
   for (let level = 1; level < MAX_LEVELS; level++) {
     n *= 2;
-    const fd = finiteDifferenceLevels(grid.length, u, n, count);
+    const near = level > 1 ? nextGridBrackets(tableau[0], tableau[level - 1]) : firstStepBrackets(tableau[0], grid.length / (n / 2), depth);
+    const fd = finiteDifferenceLevels(grid.length, u, n, count, near);
     const row = [fd.levels];
     for (let k = 1; k <= level; k++) {
       const f = 4 ** k;

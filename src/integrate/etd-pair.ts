@@ -1,0 +1,222 @@
+/**
+ * Embedded exponential Runge–Kutta pairs for y' = L y + N(y) with a diagonal, purely imaginary linear part
+ * L = i·lim (dispersive Fourier problems), as data (tables) run by one step function, in the manner of scipy's
+ * `integrate/_ivp/rk.py` (Butcher tables run by `rk_step`).
+ *
+ * A table with stages i = 0 … s−1 at nodes c_i and an FSAL stage s (N at the new point) defines
+ *
+ *     Y_i = e^{c_i hL} y + Σ_{j<i} a_ij N_j,          N_j = N(Y_j),   Y_0 = y
+ *     y₁  = e^{hL} y + Σ_j b_j N_j,                    N_s = N(y₁)    (first stage of the next step)
+ *     err = Σ_{j≤s} d_j N_j                            (difference of the embedded and the main solution)
+ *
+ * with every coefficient a φ-combination (Hochbruck & Ostermann, Acta Numerica 19, 209, 2010, eq. (2.10), (2.17)):
+ *     a_ij = c_i h Σ_k α_ijk φ_k(c_i hL),   b_j = h Σ_k β_jk φ_k(hL),   d_j = h Σ_k δ_jk φ_k(hL),   k = 1, 2, 3,
+ * the φ-functions from phi.ts (series / closed form at imaginary argument). The error estimate reuses the stages:
+ * the FSAL evaluation N(y₁) is needed anyway as the next step's first stage and for the dense output's rate.
+ *
+ * All arrays are interleaved complex (re, im).
+ */
+import { phiImaginary } from './phi.ts';
+import type { StageRhs } from './etdrk4.ts';
+
+/** weights (of φ₁, φ₂, φ₃) of one coefficient; null: the coefficient is zero */
+export type PhiWeights = readonly [number, number, number] | null;
+
+export interface EtdPairTable {
+  readonly name: string;
+  /** the paper and equation the table is taken from */
+  readonly source: string;
+  /** order of the propagated solution */
+  readonly order: number;
+  /** order of the embedded solution: the estimate scales as h^(embeddedOrder + 1) */
+  readonly embeddedOrder: number;
+  /** c_i of the stages 0 … s−1 (c_0 = 0) */
+  readonly nodes: readonly number[];
+  /** a[i][j], j < i (a[0] is empty) */
+  readonly a: readonly (readonly PhiWeights[])[];
+  /** b[j], j = 0 … s−1 */
+  readonly b: readonly PhiWeights[];
+  /** d[j], j = 0 … s (the last is the FSAL stage N(y₁)) */
+  readonly d: readonly PhiWeights[];
+}
+
+/**
+ * Krogstad's fourth-order exponential Runge–Kutta method (Krogstad, J. Comput. Phys. 203, 72, 2005, eq. (13);
+ * Hochbruck & Ostermann 2010, eq. (2.39)) with the third-order FSAL embedding of Whalen, Brio & Moloney
+ * (J. Comput. Phys. 280, 579, 2015, §3, the ETD4(3) pair): the embedded solution replaces N(Y₃) by N(y₁) in the
+ * last weight, so err = b₃ (N(y₁) − N(Y₃)) with b₃ = h(4φ₃ − φ₂).
+ */
+export const KROGSTAD_ETD43: EtdPairTable = Object.freeze<EtdPairTable>({
+  name: 'ETD4(3) Krogstad',
+  source: 'Krogstad, J. Comput. Phys. 203, 72 (2005), eq. (13); embedding: Whalen, Brio & Moloney, J. Comput. Phys. 280, 579 (2015), §3',
+  order: 4,
+  embeddedOrder: 3,
+  nodes: [0, 0.5, 0.5, 1],
+  a: [[], [[1, 0, 0]], [[1, -2, 0], [0, 2, 0]], [[1, -2, 0], null, [0, 2, 0]]],
+  b: [[1, -3, 4], [0, 2, -4], [0, 2, -4], [0, -1, 4]],
+  d: [null, null, null, [0, 1, -4], [0, -1, 4]],
+});
+
+/**
+ * The fifth-order exponential Runge–Kutta method with third-order embedding of Whalen, Brio & Moloney (J. Comput.
+ * Phys. 280, 579, 2015, §3, the ETD5(3) pair; nodes 0, ¼, ¼, ½, ¾, 1), written with φ_k = ψ_k/k!. The φ₂ weight of
+ * b₂ is −467·2/1350, the value the order conditions Σ_j b_j c_j^(k−1)/(k−1)! = φ_k (Hochbruck & Ostermann 2010,
+ * Table 2) require. The estimate is b₄ times the fourth difference −N₀ + 4N₂ − 6N₃ + 4N₄ − N₅ of the stage
+ * values at ¼, ½, ¾, 1; N(y₁) is the next step's first stage.
+ */
+export const WHALEN_ETD53: EtdPairTable = Object.freeze<EtdPairTable>({
+  name: 'ETD5(3)',
+  source: 'Whalen, Brio & Moloney, J. Comput. Phys. 280, 579 (2015), §3',
+  order: 5,
+  embeddedOrder: 3,
+  nodes: [0, 0.25, 0.25, 0.5, 0.75, 1],
+  a: [
+    [],
+    [[1, 0, 0]],
+    [[1, -1, 0], [0, 1, 0]],
+    [[1, -2, 0], null, [0, 2, 0]],
+    [[1, -1.5, 0], [-0.5, 0, 0], [0.5, 0, 0], [0, 1.5, 0]],
+    [[-77 / 42, 118 / 42, 0], [8 / 7, 0, 0], [111 / 28, -174 / 28, 0], [-12 / 7, 0, 0], [-47 / 84, 286 / 84, 0]],
+  ],
+  b: [
+    [1799 / 2700, -6958 / 2700, 11340 / 2700],
+    null,
+    [1097 / 1350, -934 / 1350, -900 / 1350],
+    [-98 / 225, 796 / 225, -1620 / 225],
+    [-313 / 1350, 1766 / 1350, -540 / 1350],
+    [509 / 2700, -4258 / 2700, 10980 / 2700],
+  ],
+  d: [
+    [313 / 1350, -1766 / 1350, 540 / 1350],
+    null,
+    [-4 * 313 / 1350, 4 * 1766 / 1350, -4 * 540 / 1350],
+    [6 * 313 / 1350, -6 * 1766 / 1350, 6 * 540 / 1350],
+    [-4 * 313 / 1350, 4 * 1766 / 1350, -4 * 540 / 1350],
+    [313 / 1350, -1766 / 1350, 540 / 1350],
+    null,
+  ],
+});
+
+interface Term {
+  readonly from: number;
+  readonly coef: Float64Array;
+}
+
+/** the coefficients of a table for one step size h: exponentials and φ-combinations per mode */
+export interface EtdPairCoefficients {
+  readonly h: number;
+  readonly table: EtdPairTable;
+  /** e^{c_i hL} per stage (index 0 unused) */
+  readonly stageExp: readonly Float64Array[];
+  readonly stageTerms: readonly (readonly Term[])[];
+  /** e^{hL} */
+  readonly exp: Float64Array;
+  readonly resultTerms: readonly Term[];
+  readonly errorTerms: readonly Term[];
+}
+
+/**
+ * Coefficients of `table` for step h and L_j = i·lim[j]: per distinct node scale c, φ₁,₂,₃(i c h lim[j]) and
+ * e^{i c h lim[j]}; equal φ-combinations share one array.
+ */
+export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64Array): EtdPairCoefficients {
+  const m = lim.length;
+  const phis = new Map<number, { exp: Float64Array; phi: Float64Array }>();
+  const scratch = new Float64Array(6);
+  const phiAt = (c: number) => {
+    let p = phis.get(c);
+    if (!p) {
+      const exp = new Float64Array(2 * m);
+      const phi = new Float64Array(6 * m);
+      for (let j = 0; j < m; j++) {
+        const th = c * h * lim[j];
+        exp[2 * j] = Math.cos(th);
+        exp[2 * j + 1] = Math.sin(th);
+        phiImaginary(th, scratch);
+        phi.set(scratch, 6 * j);
+      }
+      p = { exp, phi };
+      phis.set(c, p);
+    }
+    return p;
+  };
+  const combos = new Map<string, Float64Array>();
+  const combo = (c: number, scale: number, w: readonly [number, number, number]): Float64Array => {
+    const key = `${c}:${scale}:${w.join(',')}`;
+    let out = combos.get(key);
+    if (!out) {
+      const { phi } = phiAt(c);
+      out = new Float64Array(2 * m);
+      for (let j = 0; j < m; j++) {
+        for (let k = 0; k < 3; k++) {
+          out[2 * j] += scale * w[k] * phi[6 * j + 2 * k];
+          out[2 * j + 1] += scale * w[k] * phi[6 * j + 2 * k + 1];
+        }
+      }
+      combos.set(key, out);
+    }
+    return out;
+  };
+  const terms = (ws: readonly PhiWeights[], c: number, scale: number): Term[] =>
+    ws.flatMap((w, from) => (w ? [{ from, coef: combo(c, scale, w) }] : []));
+  const stageExp = table.nodes.map((c, i) => (i === 0 ? new Float64Array(0) : phiAt(c).exp));
+  const stageTerms = table.a.map((row, i) => terms(row, table.nodes[i], table.nodes[i] * h));
+  return { h, table, stageExp, stageTerms, exp: phiAt(1).exp, resultTerms: terms(table.b, 1, h), errorTerms: terms(table.d, 1, h) };
+}
+
+/** scratch of one integration: a stage value and N of every stage (including the FSAL one, which is the caller's) */
+export interface EtdPairWorkspace {
+  readonly y: Float64Array;
+  readonly n: Float64Array[];
+}
+
+export function etdPairWorkspace(table: EtdPairTable, m: number): EtdPairWorkspace {
+  return { y: new Float64Array(2 * m), n: table.nodes.map(() => new Float64Array(2 * m)) };
+}
+
+/** out = e ⊙ v (complex, first n2 doubles); e empty: out = v */
+function scale(e: Float64Array, v: Float64Array, out: Float64Array, n2: number): void {
+  for (let i = 0; i < n2; i += 2) {
+    const er = e[i], ei = e[i + 1], vr = v[i], vi = v[i + 1];
+    out[i] = er * vr - ei * vi;
+    out[i + 1] = er * vi + ei * vr;
+  }
+}
+
+/** out += Σ terms (coef ⊙ N_from), N_j = stages[j] for j < s and N_s = last (the FSAL stage) */
+function accumulate(terms: readonly Term[], stages: readonly Float64Array[], last: Float64Array, out: Float64Array, n2: number): void {
+  for (const { from, coef } of terms) {
+    const g = from < stages.length ? stages[from] : last;
+    for (let i = 0; i < n2; i += 2) {
+      const cr = coef[i], ci = coef[i + 1], gr = g[i], gi = g[i + 1];
+      out[i] += cr * gr - ci * gi;
+      out[i + 1] += cr * gi + ci * gr;
+    }
+  }
+}
+
+/**
+ * One step of an embedded pair (module comment): out = y₁ from v = y and nv = N(y); nOut = N(y₁) (the FSAL stage,
+ * evaluated as stage index s); err = the embedded minus the propagated solution. Only the first `active` modes are
+ * stepped (the rest stay as the caller left them, e.g. zero beyond a dealiasing cut). Allocates nothing; v and nv
+ * are read only; out, nOut and err must be distinct from v, nv and the workspace.
+ */
+export function etdPairStep(
+  co: EtdPairCoefficients, rhs: StageRhs, v: Float64Array, nv: Float64Array,
+  out: Float64Array, nOut: Float64Array, err: Float64Array, ws: EtdPairWorkspace, active = v.length / 2,
+): void {
+  const n2 = 2 * active;
+  const s = co.table.nodes.length;
+  const stages = ws.n;
+  stages[0].set(nv.subarray(0, n2));
+  for (let i = 1; i < s; i++) {
+    scale(co.stageExp[i], v, ws.y, n2);
+    accumulate(co.stageTerms[i], stages, nOut, ws.y, n2);
+    rhs(ws.y, stages[i], i);
+  }
+  scale(co.exp, v, out, n2);
+  accumulate(co.resultTerms, stages, nOut, out, n2);
+  rhs(out, nOut, s);
+  err.fill(0, 0, n2);
+  accumulate(co.errorTerms, stages, nOut, err, n2);
+}
