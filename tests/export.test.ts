@@ -1,4 +1,4 @@
-import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -11,6 +11,11 @@ import { EXPORT_ARRAY_KEYS, readExportFile } from '../src/io/formats/export.ts';
 import { decodeNpy } from '../src/io/npy.ts';
 import { EXPORT_CSV, EXPORT_JSON, EXPORT_NPY, labSeries, runExport, sampleTimes, writeExportOutputs } from '../src/jobs/export.ts';
 import { runPipeline } from '../src/jobs/run.ts';
+import { runDesign, writeDesignOutputs } from '../src/jobs/design.ts';
+import { renderFolder } from '../src/jobs/report.ts';
+import { spawnSync } from 'node:child_process';
+import { resolve } from 'node:path';
+import { parseSvg } from './report-helpers.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { SMALL_SOLITON } from './fixtures.ts';
@@ -113,8 +118,80 @@ describe('isotrap export of a run folder', () => {
     expect(readdirSync(out).sort()).toEqual(before);
     const bare = join(dir, '..', 'bare');
     const root = join(dir, '..');
-    runPipeline(parseConfig(SMALL_SOLITON('exp'), 'exp.yaml', root), { dir: bare, force: false, report: false, toolVersion: 'test' });
-    rmSync(join(bare, 'verify.json'));
-    expect(() => runExport(bare, { samples: 3, csv: false, force: false })).toThrow(/has no the verification \(verify\.json\)|verify\.json/);
+    writeDesignOutputs(runDesign(parseConfig(SMALL_SOLITON('exp'), 'exp.yaml', root), { keepDense: false }), bare, false);
+    const designOnly = readdirSync(bare).sort();
+    expect(() => runExport(bare, { samples: 3, csv: false, force: false })).toThrow(/is missing verify\.json: the design was not verified; give the config a protocol section/);
+    expect(readdirSync(bare).sort()).toEqual(designOnly);
+    expect(() => runExport(join(root, 'nowhere'), { samples: 3, csv: false, force: false })).toThrow(/does not exist/);
+  }, 120_000);
+
+  it('a sidecar that misnames an array is refused naming the key (common practice: validated readers)', () => {
+    const out = join(dir, '..', 'out1');
+    const good = JSON.parse(readFileSync(join(out, EXPORT_JSON), 'utf8'));
+    const bad = join(dir, '..', 'bad.json');
+    writeFileSync(bad, JSON.stringify({ ...good, arrays: { ...good.arrays, potential: { ...good.arrays.potential, axes: ['t'] } } }));
+    expect(() => readExportFile(bad)).toThrow(/key arrays\.potential\.axes: names 1 axes for a shape of 2/);
+    const { velocity: _dropped, ...fewer } = good.arrays;
+    writeFileSync(bad, JSON.stringify({ ...good, arrays: fewer }));
+    expect(() => readExportFile(bad)).toThrow(/key arrays\.velocity: missing/);
+  });
+
+  it('the report of a folder with an export gains the lab-time figures, peaking at the summary values', () => {
+    const r = runExport(dir, { samples: 9, csv: false, force: false });
+    writeExportOutputs(r, false);
+    renderFolder(dir, { force: false, toolVersion: 'test' });
+    const html = readFileSync(join(dir, 'report.html'), 'utf8');
+    expect(html).toContain('id="export-ramp');
+    expect(html).toContain('lab-time export');
+    const doc = parseSvg(readFileSync(join(dir, 'export-correction.svg'), 'utf8'));
+    const cubic = doc.querySelector('path.series-line[data-series="p³ term"]');
+    expect(Number(cubic?.getAttribute('data-ymax'))).toBeCloseTo(r.file.correction.max_cubic_energy, 10);
+    const linear = doc.querySelector('path.series-line[data-series="½{w, p} term"]');
+    expect(Number(linear?.getAttribute('data-ymax'))).toBeCloseTo(r.file.correction.max_linear_energy, 10);
+  });
+
+  it('the command exits 2 naming the option for a bad --samples and writes nothing (needs npm run build)', () => {
+    const bin = resolve('bin/isotrap.js');
+    const out = join(dir, '..', 'cli-out');
+    const bad = spawnSync(process.execPath, [bin, 'export', dir, '--samples', '0', '--out', out], { encoding: 'utf8' });
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/--samples = 0 is not allowed/);
+    expect(bad.stderr).not.toMatch(/ at .*\.js:\d+/);
+    expect(existsSync(out)).toBe(false);
+    const none = spawnSync(process.execPath, [bin, 'export', dir, '--out', out], { encoding: 'utf8' });
+    expect(none.status).toBe(2);
+    expect(none.stderr).toMatch(/--rate/);
+    const ok = spawnSync(process.execPath, [bin, 'export', dir, '--samples', '3', '--out', out, '--json'], { encoding: 'utf8' });
+    expect(ok.status, ok.stderr).toBe(0);
+    expect(JSON.parse(ok.stdout).sampling.samples).toBe(3);
+  }, 60_000);
+});
+
+describe('isotrap export in lab units', () => {
+  it('C₃ = −4λ̇ħℓ³ = −(2/π)λ̇ h·kHz·ms·µm³ and w = −6λ̇ℓV/E₀ (physics.md §3; CODATA 2018 ħ, h; AME2020 ⁸⁷Rb mass)', () => {
+    const root = mkdtempSync(join(tmpdir(), 'isotrap-export-lab-'));
+    const dir = join(root, 'run');
+    // the one-soliton scenario of SMALL_SOLITON in ⁸⁷Rb units, ℓ = 1 µm: depth 2 E₀, duration 0.4 t₀ (illustrative)
+    const hbar = 1.054571817e-34, h = 6.62607015e-34, m = 86.909180531 * 1.6605390666e-27;
+    const E0kHz = (hbar * hbar) / (2 * m * 1e-12) / h / 1e3;
+    const t0ms = (hbar / (E0kHz * 1e3 * h)) * 1e3;
+    const yaml = `name: lab
+units: { system: lab, species: Rb87, length_unit_um: 1, energy: h*kHz }
+grid: { length: 40, points: 256 }
+initial: { kind: sech2, depth: ${2 * E0kHz}, width: 1, center: -2 }
+flow: { lambda_end: 0.2, frames: 5 }
+protocol: { duration: ${0.4 * t0ms}, ramp: sin2 }
+verify: { states: 2 }
+`;
+    runPipeline(parseConfig(yaml, 'lab.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
+    const r = runExport(dir, { rate: 4, csv: false, force: false });
+    expect(r.file.units).toMatchObject({ energy: 'h·kHz', time: 'ms', length: 'µm', velocity: 'µm/ms' });
+    const { lambda_rate: rate, cubic, potential, velocity } = r.arrays;
+    const n = potential.shape[1];
+    for (let i = 0; i < rate.data.length; i++) {
+      expect(cubic.data[i]).toBeCloseTo((-2 / Math.PI) * rate.data[i], 12);
+      for (let j = 0; j < n; j += 23) expect(velocity.data[i * n + j] / (-6 * rate.data[i] * potential.data[i * n + j] / E0kHz + 1e-300)).toBeCloseTo(rate.data[i] === 0 ? 0 : 1, 8);
+    }
+    expect(r.file.sampling.step).toBeCloseTo(0.25, 15); // --rate 4 kHz: one update every 0.25 ms
   }, 120_000);
 });

@@ -26,7 +26,8 @@ import { makeGrid, type Grid } from '../spectral/grid.ts';
 import type { UnitSystem } from '../units/scales.ts';
 import { toJson } from './design.ts';
 import type { ReportFigure } from '../report/index.ts';
-import { exportFigures } from '../report/panels/export.ts';
+import { EXPORT_FIGURE_IDS, exportFigures } from '../report/panels/export.ts';
+export { EXPORT_FIGURE_IDS };
 
 export const EXPORT_JSON = 'export.json';
 /** the .npy files by array key (export.json names each with its axes and unit) */
@@ -162,8 +163,10 @@ function requireSources(dir: string): void {
   if (!existsSync(dir)) throw new UserError(`folder ${dir} does not exist: give a finished isotrap run/verify output folder`);
   const missing = SOURCES.filter((f) => !existsSync(join(dir, f)));
   if (missing.length === 0) return;
-  const what = missing.includes('verify.json') && missing.length === 1 ? 'the verification (verify.json): run isotrap verify (or run) on the config first, so the exported correction is proven' : `the design (${missing.join(', ')}): run isotrap run on the config first`;
-  throw new UserError(`${dir} has no ${what}`);
+  const what = missing.length === 1 && missing[0] === 'verify.json'
+    ? 'verify.json: the design was not verified; give the config a protocol section (duration and ramp) and run isotrap verify (or run) on it, so the exported correction is proven'
+    : `${missing.join(', ')}: it is not a finished design/verify folder; run isotrap run on the config first`;
+  throw new UserError(`${dir} is missing ${what}`);
 }
 
 export interface ExportResult {
@@ -181,8 +184,6 @@ export function exportProduces(csv: boolean, figures: readonly string[]): string
   return [...Object.values(EXPORT_NPY), ...(csv ? EXPORT_CSV : []), ...figures.map((f) => `${f}.svg`), EXPORT_JSON];
 }
 
-/** the figure ids of an export (report/panels/export.ts) */
-export const EXPORT_FIGURE_IDS = ['export-ramp', 'export-correction'] as const;
 
 /** largest |x| of a series and its index */
 function peak(xs: ArrayLike<number>): { value: number; index: number } {

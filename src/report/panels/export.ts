@@ -4,10 +4,13 @@
  * max_cubic_energy and max_linear_energy.
  */
 import type { ExportFile } from '../../io/formats/export.ts';
-import type { ReportFigure } from '../html.ts';
+import type { ReportFigure, SummaryRow } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
 import type { FigureSize } from '../style.ts';
 import type { FrameArray } from './design.ts';
+
+/** the ids (and .svg names) of the export's figures */
+export const EXPORT_FIGURE_IDS = ['export-ramp', 'export-correction'] as const;
 
 /** the arrays the export figures read (keys of export.json arrays) */
 export interface ExportSeries {
@@ -29,6 +32,17 @@ export function correctionSizes(f: ExportFile, a: ExportSeries): { cubic: number
   return { cubic: Array.from(a.cubic.data, (v) => Math.abs(v) * c.k_ref ** 3), linear: maxW.map((w) => w * perVelocity) };
 }
 
+/** the export's rows of the report's summary: the peaks of the correction figure, with the sampling */
+export function exportSummaryRows(f: ExportFile): SummaryRow[] {
+  const c = f.correction;
+  const u = f.units;
+  return [
+    { key: 'lab-time export', value: `${f.sampling.samples} samples every ${Number(f.sampling.step.toPrecision(4))} ${u.time}` },
+    { key: `p³ term |C₃|k_ref³ at k_ref = ${c.k_ref.toPrecision(4)}/${u.length} (largest)`, value: c.max_cubic_energy, unit: u.energy },
+    { key: `½{w, p} term ħk_ref·max|w| (largest)`, value: c.max_linear_energy, unit: u.energy },
+  ];
+}
+
 export function exportFigures(f: ExportFile, a: ExportSeries, size: FigureSize = 'paper'): ReportFigure[] {
   const T = f.protocol.duration;
   const tu = f.units.time;
@@ -36,7 +50,7 @@ export function exportFigures(f: ExportFile, a: ExportSeries, size: FigureSize =
   const sizes = correctionSizes(f, a);
   return [
     {
-      id: 'export-ramp',
+      id: EXPORT_FIGURE_IDS[0],
       caption: `The ${f.protocol.ramp} ramp on the exported lab-time grid (${f.sampling.samples} samples): λ(t) and T·λ̇(t) with T = ${T} ${tu}, both dimensionless.`,
       svg: lineChart({
         xLabel: `time t (${tu})`,
@@ -50,7 +64,7 @@ export function exportFigures(f: ExportFile, a: ExportSeries, size: FigureSize =
       }),
     },
     {
-      id: 'export-correction',
+      id: EXPORT_FIGURE_IDS[1],
       caption:
         `Size of the two terms of the correction against t (${f.units.energy}) at k_ref = ${f.correction.k_ref.toPrecision(4)}/${f.units.length}: ` +
         `|C₃|·k_ref³ of the p³ term and ħ·k_ref·max_x|w| of the momentum-linear term; their peaks are the summary's values.`,
