@@ -1,4 +1,4 @@
-import { existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -124,6 +124,15 @@ describe('isotrap export of a run folder', () => {
     expect(readdirSync(bare).sort()).toEqual(designOnly);
     expect(() => runExport(join(root, 'nowhere'), { samples: 3, csv: false, force: false })).toThrow(/does not exist/);
   }, 120_000);
+
+  it('refuses to write when the design was rewritten while the export was computed (common practice: check under the lock)', () => {
+    const copy = join(dir, '..', 'copy');
+    cpSync(dir, copy, { recursive: true });
+    const r = runExport(copy, { samples: 3, csv: false, force: false });
+    writeDesignOutputs(runDesign(parseConfig(SMALL_SOLITON('exp'), 'exp.yaml', join(dir, '..')), { keepDense: false }), copy, true);
+    expect(() => writeExportOutputs(r, false)).toThrow(/changed while the export was computed/);
+    expect(existsSync(join(copy, EXPORT_JSON))).toBe(false);
+  });
 
   it('a sidecar that misnames an array is refused naming the key (common practice: validated readers)', () => {
     const out = join(dir, '..', 'out1');

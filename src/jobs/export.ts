@@ -18,7 +18,7 @@ import { readVerifyFile } from '../io/formats/verify.ts';
 import { EXPORT_FORMAT, recordedSettings, type ExportArray, type ExportFile } from '../io/formats/export.ts';
 import { unitSystemOf } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
-import { requireOneConfig, writeRun } from '../io/run-folder.ts';
+import { requireOneConfig, verifiedEntries, writeRun } from '../io/run-folder.ts';
 import { integrateFlow, naturalFlowEquation, type FlowEquation } from '../flow/kdv.ts';
 import { makeRamp, type Ramp } from '../protocol/ramp.ts';
 import { drivePieces } from '../quantum/drive-pieces.ts';
@@ -177,6 +177,8 @@ export interface ExportResult {
   /** where the outputs go and the config hash of the sources */
   dir: string;
   configHash: string;
+  /** the design folder and the SHA-256 of each source file as read */
+  sources: { dir: string; sha256: string[] };
 }
 
 /** the file names an export writes */
@@ -249,7 +251,7 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   };
   file.seconds = (performance.now() - started) / 1000;
   const csv = opts.csv ? csvTables(result.arrays, seq.x, L) : [];
-  return { file, arrays: result.arrays, csv, figures: exportFigures(file, result.arrays), dir: outDir, configHash: entries[0].config_hash };
+  return { file, arrays: result.arrays, csv, figures: exportFigures(file, result.arrays), dir: outDir, configHash: entries[0].config_hash, sources: { dir, sha256: entries.map((e) => e.sha256) } };
 }
 
 /** max over the stored frames of |re-integrated − stored|, relative to max|V(0)| */
@@ -354,6 +356,10 @@ export function writeExportOutputs(r: ExportResult, force: boolean): string[] {
   const produces = exportProduces(r.csv.length > 0, r.figures.map((f) => f.id));
   const identity = { run: `${new Date().toISOString()}-${randomBytes(4).toString('hex')}`, configHash: r.configHash };
   return writeRun(r.dir, { force, produces, job: 'export', identity }, (out) => {
+    // under the lock: the sources must still be the files that were read (no run committed in between)
+    const now = verifiedEntries(r.sources.dir, SOURCES);
+    const changed = SOURCES.filter((_, i) => now[i].sha256 !== r.sources.sha256[i]);
+    if (changed.length > 0) throw new UserError(`${changed.map((n) => join(r.sources.dir, n)).join(', ')} changed while the export was computed (another run committed): run isotrap export again`);
     for (const [key, name] of Object.entries(EXPORT_NPY)) {
       const a = r.arrays[key as keyof typeof EXPORT_NPY];
       out.write(name, encodeNpy(a.data, a.shape));
