@@ -15,6 +15,8 @@ export { runCheck, runCheckParallel, writeCheckOutputs } from './jobs/check.ts';
 export { runCompare, runCompareWithDrives } from './jobs/compare.ts';
 export { runLattice } from './jobs/lattice.ts';
 export { renderFolder } from './jobs/report.ts';
+export { runExport, writeExportOutputs, type ExportOptions, type ExportResult } from './jobs/export.ts';
+export { readExportFile, type ExportFile } from './io/formats/export.ts';
 export { AcceptanceFailure, NumericalError, UserError } from './core/errors.ts';
 
 /** a config object, or the path of a YAML config to load and validate */

@@ -6,6 +6,7 @@
 import { Command, CommanderError } from 'commander';
 import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts';
 import type { CheckCliOptions } from './commands/check.ts';
+import type { ExportCliOptions } from './commands/export.ts';
 import { FIGURES_HELP, version, type CommonOptions } from './options.ts';
 
 /** a command's entry: its argument and options in, exit code out */
@@ -17,6 +18,7 @@ function lazy<O>(load: () => Promise<CommandFn<O>>): CommandFn<O> {
 }
 const checkCommand = lazy<CheckCliOptions>(async () => (await import('./commands/check.ts')).checkCommand);
 const compareCommand = lazy<CommonOptions>(async () => (await import('./commands/compare.ts')).compareCommand);
+const exportCommand = lazy<ExportCliOptions>(async () => (await import('./commands/export.ts')).exportCommand);
 const designCommand = lazy<CommonOptions>(async () => (await import('./commands/design.ts')).designCommand);
 const latticeCommand = lazy<CommonOptions>(async () => (await import('./commands/lattice.ts')).latticeCommand);
 const reportCommand = lazy<CommonOptions>(async () => (await import('./commands/report.ts')).reportCommand);
@@ -70,6 +72,18 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
   scenarioCommand('lattice', 'tight-binding realisation of the design: on-site energies, tunnellings and Peierls couplings, verified on the lattice', 'YAML scenario with a lattice section', latticeCommand).option('--figures <size>', FIGURES_HELP);
   scenarioCommand('compare', 'quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check', 'YAML scenario', compareCommand).option('--figures <size>', FIGURES_HELP);
   checkProgram(program, handlers.exit);
+  program
+    .command('export')
+    .argument('<dir>', 'a finished run/verify output folder (sequence.json, potential.npy, verify.json)')
+    .description('the protocol in lab time at the hardware update rate: V(x, t), λ, λ̇, λ̈ and the correction in lab units (.npy + export.json)')
+    .option('--rate <r>', 'hardware update rate, samples per time unit (kHz in lab units)')
+    .option('--samples <n>', 'number of samples on [0, T], both ends included (instead of --rate)')
+    .option('--csv', 'also write the potential and the ramp as CSV tables')
+    .option('--out <dir>', 'output folder (default: the run folder itself)')
+    .option('--force', 'overwrite an export already in the output folder')
+    .option('--json', 'print the sidecar as JSON on stdout')
+    .option('--quiet', 'no progress on stderr')
+    .action(async (dir: string, opts: ExportCliOptions) => handlers.exit(await exportCommand(dir, opts)));
   program
     .command('report')
     .argument('<dir>', 'a finished output folder')

@@ -36,6 +36,7 @@ export const COMMAND_JOBS: Readonly<Record<string, readonly string[]>> = {
   compare: ['compare', 'figures'],
   lattice: ['lattice', 'figures'],
   report: ['report'],
+  export: ['export'],
 };
 
 /** whether a standard stream is a terminal, and its width */

@@ -259,3 +259,24 @@ export function assertCheckAffordable(seq: Sequence, variational: VariationalSiz
       `make a least-squares system of ${approxCount(cost.rows)} rows × ${cost.columns} columns per frame; use fewer Legendre terms (the default is ${defaultLegendre}) or fewer states ${LIFT_TEXT}`,
   );
 }
+
+/** the arrays of the export's size that it holds and writes: the potential and the velocity field (.npy), and the
+ *  potential table of --csv at about three times the bytes of a value (common practice for 17-digit text) */
+export const EXPORT_FIELD_ARRAYS = 2;
+export const EXPORT_CSV_FACTOR = 3;
+
+/**
+ * Refuse an export whose sampled fields (samples × points values of 8 bytes, EXPORT_FIELD_ARRAYS of them, and the
+ * CSV table with --csv) pass the memory limit; `option` names what set the sample count (e.g. "--rate 500").
+ */
+export function assertExportAffordable(samples: number, points: number, csv: boolean, option: string): void {
+  if (limitsLifted()) return;
+  const bytes = samples * points * Float64Array.BYTES_PER_ELEMENT * (EXPORT_FIELD_ARRAYS + (csv ? EXPORT_CSV_FACTOR : 0));
+  if (bytes > MEMORY_LIMIT_BYTES) {
+    throw new UserError(
+      `option ${option} is not allowed: it asks for ${samples} samples × ${points} grid points, and the export would hold ${approxBytes(bytes)} ` +
+        `(${EXPORT_FIELD_ARRAYS} fields${csv ? ' and the --csv table' : ''} at ${Float64Array.BYTES_PER_ELEMENT} bytes a value), over the memory limit of ${approxBytes(MEMORY_LIMIT_BYTES).slice(2)}; ` +
+        `lower the rate or the sample count ${LIFT_TEXT}`,
+    );
+  }
+}

@@ -23,6 +23,9 @@ import { latticeFigures, latticeSummaryRows } from '../report/panels/lattice.ts'
 import { readLatticeFile } from '../io/formats/lattice.ts';
 import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
+import { exportFigures, exportSummaryRows, type ExportSeries } from '../report/panels/export.ts';
+import { readExportFile, type ExportFile } from '../io/formats/export.ts';
+import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY } from './export.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
 /** the compare.json content the compare figures read */
@@ -54,6 +57,7 @@ export interface ReportOptions {
 
 /** the files of a finished output folder that the report reads */
 interface OutputFolder {
+  exported: { file: ExportFile; series: ExportSeries } | null;
   seq: SequenceFile;
   potential: FrameArray;
   verify: VerifyFile | null;
@@ -75,17 +79,29 @@ function readSources(dir: string, names: string[]): Sources {
 function readFolder(dir: string): OutputFolder {
   const hasVerify = existsSync(join(dir, 'verify.json'));
   // every file read must be the one its run recorded, and all of one configuration (io/run-folder.ts)
-  const sources = readSources(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : [])].filter((f) => existsSync(join(dir, f))));
+  const hasExport = hasVerify && existsSync(join(dir, EXPORT_JSON));
+  const sources = readSources(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : []), ...(hasExport ? [EXPORT_JSON, ...EXPORT_FIGURE_ARRAYS.map((k) => EXPORT_NPY[k])] : [])].filter((f) => existsSync(join(dir, f))));
   const seq = readSequenceFile(join(dir, 'sequence.json'));
   const potential = readNpyFile(join(dir, 'potential.npy'));
-  if (!hasVerify) return { seq, potential, verify: null, traces: null, sources };
+  if (!hasVerify) return { seq, potential, verify: null, traces: null, sources, exported: null };
+  const exported = hasExport ? readExport(dir) : null;
   const verify = readVerifyFile(join(dir, 'verify.json'));
   const file = verify.traces.file;
   if (basename(file) !== file || file.startsWith('.')) {
     throw new UserError(`${join(dir, 'verify.json')}: traces.file = ${JSON.stringify(file)} is not allowed: must name a file inside the folder`);
   }
   const tp = join(dir, file);
-  return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null, sources };
+  return { seq, potential, verify, traces: existsSync(tp) ? readNpyFile(tp) : null, sources, exported };
+}
+
+/** the arrays of the export figures (report/panels/export.ts) */
+const EXPORT_FIGURE_ARRAYS = ['t', 'lambda', 'lambda_rate', 'cubic', 'velocity'] as const;
+
+/** export.json and the arrays its figures read, by the names the sidecar gives */
+function readExport(dir: string): { file: ExportFile; series: ExportSeries } {
+  const file = readExportFile(join(dir, EXPORT_JSON));
+  const read = (k: (typeof EXPORT_FIGURE_ARRAYS)[number]) => readNpyFile(join(dir, EXPORT_NPY[k]));
+  return { file, series: { t: read('t'), lambda: read('lambda'), lambda_rate: read('lambda_rate'), cubic: read('cubic'), velocity: read('velocity') } };
 }
 
 function folderFigures(f: OutputFolder, size: FigureSize): ReportFigure[] {
@@ -95,6 +111,7 @@ function folderFigures(f: OutputFolder, size: FigureSize): ReportFigure[] {
     if (lab) figures.push(lab);
     figures.push(...verifyFigures(f.verify, f.traces, size));
   }
+  if (f.exported) figures.push(...exportFigures(f.exported.file, f.exported.series, size));
   return figures;
 }
 
@@ -123,7 +140,7 @@ function pageHtml(title: string, summaryRows: SummaryRow[], figures: ReportFigur
 }
 
 function folderHtml(f: OutputFolder, figures: ReportFigure[], opts: ReportOptions): string {
-  const summary = [...designSummaryRows(f.seq), ...(f.verify?.summary_rows ?? [])];
+  const summary = [...designSummaryRows(f.seq), ...(f.verify?.summary_rows ?? []), ...(f.exported ? exportSummaryRows(f.exported.file) : [])];
   const warnings = [...f.seq.summary.warnings, ...(f.verify?.warnings ?? [])];
   return pageHtml(`isotrap report: ${f.seq.summary.name}`, summary, figures, stringify(f.seq.config), opts.runSeconds ?? recordedSeconds(f), warnings, opts);
 }
@@ -170,12 +187,14 @@ export function renderFolder(dir: string, opts: ReportOptions): string[] {
     sources = folder.sources;
   }
   const first = sources.entries[0];
-  const produces = [...figures.map((f) => `${f.id}.svg`), 'report.html'];
+  // the export's figures are the export's own files (jobs/export.ts): the page shows them, the report leaves them
+  const own = figures.filter((f) => !(EXPORT_FIGURE_IDS as readonly string[]).includes(f.id));
+  const produces = [...own.map((f) => `${f.id}.svg`), 'report.html'];
   return writeRun(dir, { force: opts.force, produces, job: 'report', identity: { run: first.run, configHash: first.config_hash } }, (out) => {
     const now = verifiedEntries(dir, sources.names);
     const changed = sources.names.filter((_, i) => now[i].sha256 !== sources.entries[i].sha256);
     if (changed.length > 0) throw new UserError(`${changed.map((n) => join(dir, n)).join(', ')} changed while the report was rendered (another run committed): run isotrap report ${dir} again`);
-    for (const f of figures) out.write(`${f.id}.svg`, f.svg);
+    for (const f of own) out.write(`${f.id}.svg`, f.svg);
     out.write('report.html', html());
   });
 }
