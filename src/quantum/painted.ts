@@ -23,7 +23,10 @@
  *    function. Where ρ vanishes the quotient is round-off: it is clipped smoothly,
  *        g = −J ρ/(ρ² + ρ_c²),   J = ∫_{−∞}^ξ ∂_λρ,   ρ_c = CLIP_FLOOR · max ρ,
  *    equal to −J/ρ where ρ ≫ ρ_c and going to zero (a flat painted correction) where ρ ≪ ρ_c. Its cost: the
- *    weight of the state in the clipped region (`clippedWeight`), and the fidelity measured in the tests.
+ *    weight of the state in the clipped region (`clippedWeight`); measured on the two-soliton split of −6sech²ξ
+ *    (N = 256, L = 30, τ ∈ [0, 0.25] in T = 0.5 t₀, smooth ramp), the final infidelity of the painted drive was
+ *    3.4e-6, 3.4e-9, 7e-12 at ρ_c/max ρ = 1e-6, 1e-9, 1e-12 (clipped weights 8.7e-7, 7.9e-10, 7.8e-13; bare ramp
+ *    0.99996).
  */
 import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
