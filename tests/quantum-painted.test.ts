@@ -91,6 +91,9 @@ describe('painted potential of a momentum-linear correction (quantum/painted.ts,
     }
     const field: VelocityField = { grid, at: (_l, g, gl) => { g.fill(1); gl.fill(0); } };
     expect(() => paintedDrive(grid, (_l, out) => out.fill(0), field, linear)).toThrow(RampNotPaintableError);
+    // a ramp λ = 3r² − 2r³ (λ̇ = 0 but λ̈ = 6/T² ≠ 0 at r = 0, closed form) is refused for λ̈
+    const cubic = { ...makeRamp('smooth', 2, 1), rate: (s: number) => (6 * (s / 2) * (1 - s / 2)) / 2, accel: (s: number) => (6 - 12 * (s / 2)) / 4 };
+    expect(() => assertPaintableRamp(cubic)).toThrow(/λ̈ = 1\.4999\d* ≠ 0 at the start/);
     expect(() => assertPaintableRamp(makeRamp('sin2', 2, 1))).not.toThrow();
     expect(() => assertPaintableRamp(makeRamp('smooth', 2, 1))).not.toThrow();
   });
@@ -133,6 +136,10 @@ describe('one-state exact painted field of the ground state (quantum/painted.ts)
   const split = (tau: number, out: Float64Array): void => { grid.x.forEach((x, j) => { out[j] = twoSolitonFromSech2(x, tau); }); };
   const ramp = makeRamp('smooth', 0.3, 0.1);
   const field = groundStateField(grid, split, 0, 0.1);
+
+  it('a clip floor outside (0, 1) is a RangeError naming the value', () => {
+    expect(() => groundStateField(grid, split, 0, 0.1, { clipFloor: 0 })).toThrow(/clipFloor = 0 must be in \(0, 1\)/);
+  });
 
   it('two-soliton split: the painted potential alone keeps the ground state to 1 − 1e-6; the clip costs about its clipped weight (common practice)', () => {
     const u = new Float64Array(grid.n);
