@@ -72,6 +72,16 @@ export class SequenceInterpolant {
     for (let j = 0; j < out.length; j++) out[j] = a0 * u0[j] + b0 * d0[j] + a1 * u1[j] + b1 * d1[j];
     return out;
   }
+  /** ∂_λu(·, λ) of the same interpolant into out (at the clamped λ outside the frames; allocation-free) */
+  rateAt(lambda: number, out: Float64Array): Float64Array {
+    const { i, t } = locate(this.lambda, lambda);
+    const h = this.lambda[i + 1] - this.lambda[i];
+    const t2 = t * t;
+    const a0 = (6 * t2 - 6 * t) / h, b0 = 3 * t2 - 4 * t + 1, a1 = -a0, b1 = 3 * t2 - 2 * t;
+    const u0 = this.frames[i], d0 = this.rates[i], u1 = this.frames[i + 1], d1 = this.rates[i + 1];
+    for (let j = 0; j < out.length; j++) out[j] = a0 * u0[j] + b0 * d0[j] + a1 * u1[j] + b1 * d1[j];
+    return out;
+  }
 }
 
 /**

@@ -66,6 +66,9 @@ export interface VariationalOptions {
   /** number K of Legendre terms (default LEGENDRE_TERMS) */
   legendre?: number;
   eigenMethod?: EigenMethod;
+  /** false: fit ½{g, k} alone (a = 0, the k³ column left out), the best correction a potential can paint
+   *  (quantum/painted.ts, physics.md §7); default true */
+  cubic?: boolean;
 }
 
 export interface GaugeFit {
@@ -126,7 +129,7 @@ export function basisLabels(terms: number): string[] {
 }
 
 /** g(ξ) = θ_u u + θ_1 + Σ θ_{P_c} P_c into out (allocation-free) */
-export function evaluateG(coefficients: readonly number[], u: Float64Array, legendre: readonly Float64Array[], out: Float64Array): Float64Array {
+export function evaluateG(coefficients: ArrayLike<number>, u: Float64Array, legendre: readonly Float64Array[], out: Float64Array): Float64Array {
   const n = out.length;
   const cu = coefficients[0], c1 = coefficients[1];
   for (let j = 0; j < n; j++) out[j] = cu * u[j] + c1;
@@ -249,9 +252,9 @@ export function gaugeCost(grid: Grid, u: Float64Array, uLambda: Float64Array, su
 
 /**
  * The variational gauge potential at one λ (see module doc): minimise Σ_m w_m ‖Q_m G ψ_m‖² over a and θ, given
- * u(ξ, λ), u_λ(ξ, λ) and the subspace.
+ * u(ξ, λ), u_λ(ξ, λ) and the subspace; `cubic` false leaves the k³ column out (a = 0).
  */
-export function fitGaugePotential(grid: Grid, u: Float64Array, uLambda: Float64Array, sub: SubspaceBasis, weights: readonly number[], legendre: readonly Float64Array[]): GaugeFit {
+export function fitGaugePotential(grid: Grid, u: Float64Array, uLambda: Float64Array, sub: SubspaceBasis, weights: readonly number[], legendre: readonly Float64Array[], cubic = true): GaugeFit {
   const { cols, rhs, rows, levelRates } = gaugeSystem(grid, u, uLambda, sub, weights, legendre);
   const P = cols.length;
   const rateNorm = Math.sqrt(dot(rhs, rhs));
@@ -260,7 +263,7 @@ export function fitGaugePotential(grid: Grid, u: Float64Array, uLambda: Float64A
   const kept: boolean[] = [];
   const qs: Float64Array[] = [];
   for (let p = 0; p < P; p++) {
-    if (!(scale[p] > 0)) {
+    if (!(scale[p] > 0) || (p === 0 && !cubic)) {
       kept.push(false);
       continue;
     }
@@ -359,7 +362,7 @@ export function variationalFit(grid: Grid, lambda: readonly number[], frames: re
   const out: VariationalFrame[] = frames.map((u, k) => {
     const sub = subspaceOf(grid, u, states, opts.eigenMethod);
     const w = subspaceWeights(sub.energies, opts.temperature);
-    return { index: k, lambda: lambda[k], ...fitGaugePotential(grid, u, r[k], sub, w, legendre) };
+    return { index: k, lambda: lambda[k], ...fitGaugePotential(grid, u, r[k], sub, w, legendre, opts.cubic ?? true) };
   });
   return { lambda: [...lambda], frames: out, basis: basisLabels(K), legendre: K, states, temperature: opts.temperature ?? null };
 }
