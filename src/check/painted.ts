@@ -1,7 +1,7 @@
 /**
  * The painted correction of a sequence u(ξ, λ_k): the best momentum-linear correction ½{g, k} (the variational
- * fit of check/variational.ts with the k³ column left out, a = 0, on the occupied low-energy subspace; Sels &
- * Polkovnikov, PNAS 114, E3909, 2017; physics.md §7), as a velocity field g(ξ, λ) that quantum/painted.ts turns
+ * fit of check/variational.ts with the k³ column left out, a = 0, on the occupied low-energy subspace; variational
+ * gauge potentials, PNAS 114, E3909, 2017; physics.md §7), as a velocity field g(ξ, λ) that quantum/painted.ts turns
  * into the local potential V_loc. It lives at the check layer because the fit does. Natural units (physics.md §3).
  *
  *     g(ξ, λ) = Σ_c θ_c(λ) φ_c(ξ, λ),   φ = [u(·, λ), 1, P₁(2ξ/L), …],
