@@ -41,6 +41,3 @@ export function figureSizeOption(v: string | undefined): FigureSize {
 
 /** help text of --figures, one for every command that draws figures */
 export const FIGURES_HELP = `figure size: ${FIGURE_SIZES.join(' or ')} (paper: journal columns, 7 pt text; slides: 16:9 panels 254 mm wide, text ≥ 16 pt)`;
-
-// every command reads the same scenario file, so all of them validate against the full schema (compare, lattice)
-export { loadLatticeConfig as loadScenario } from '../io/config-lattice.ts';

@@ -3,7 +3,8 @@ import { checkOutputDir } from '../../io/files.ts';
 import { configIdentity } from '../../io/run-folder.ts';
 import { COMPARE_FILES, runCompareWithDrives, writeCompareFigures, writeCompareOutputs, type CompareSummary } from '../../jobs/compare.ts';
 import { toJson } from '../../jobs/design.ts';
-import { figureSizeOption, loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { figureSizeOption, outputDir, type CommonOptions } from '../options.ts';
+import { loadScenario } from '../scenario.ts';
 import { makeStagedProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 

@@ -1,7 +1,8 @@
 /** `isotrap design <config>`: integrate the flow and write the sequence. */
 import { checkOutputDir } from '../../io/files.ts';
 import { DESIGN_FILES, runDesign, toJson, writeDesignOutputs, type DesignResult, type DesignSummary } from '../../jobs/design.ts';
-import { loadScenario, outputDir, type CommonOptions } from '../options.ts';
+import { outputDir, type CommonOptions } from '../options.ts';
+import { loadScenario } from '../scenario.ts';
 import { makeProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 

@@ -5,7 +5,8 @@ import { configIdentity } from '../../io/run-folder.ts';
 import { LATTICE_FILES, LATTICE_REPORT_FILES, runLattice, writeLatticeOutputs, type LatticeSummary } from '../../jobs/lattice.ts';
 import { renderFolder } from '../../jobs/report.ts';
 import { latticeSummaryRows } from '../../report/panels/lattice.ts';
-import { figureSizeOption, loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
+import { figureSizeOption, outputDir, version, type CommonOptions } from '../options.ts';
+import { loadScenario } from '../scenario.ts';
 import { makeStagedProgress } from '../progress.ts';
 import { table } from '../table.ts';
 

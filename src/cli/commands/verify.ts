@@ -2,7 +2,8 @@
 import { toJson } from '../../jobs/design.ts';
 import { runPipeline, type PipelineResult } from '../../jobs/run.ts';
 import type { VerifyFile } from '../../jobs/verify.ts';
-import { figureSizeOption, loadScenario, outputDir, version, type CommonOptions } from '../options.ts';
+import { figureSizeOption, outputDir, version, type CommonOptions } from '../options.ts';
+import { loadScenario } from '../scenario.ts';
 import { makeStagedProgress } from '../progress.ts';
 import { num, table } from '../table.ts';
 
