@@ -23,6 +23,8 @@
  * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
  */
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
+import { MAX_KRYLOV_DEFAULT } from './eigen.ts';
+import { GLOBAL_INITIAL_STEPS } from './propagator.ts';
 
 /** products of one eigen solve of up to EIGEN_LEVELS_PER_RUN levels: measured 3,900–6,000 (N = 256, 10–45 levels) */
 export const EIGEN_MATVECS_BASE = 6000;
@@ -30,15 +32,11 @@ export const EIGEN_MATVECS_BASE = 6000;
 export const EIGEN_LEVELS_PER_RUN = 45;
 /** growth exponent beyond one run: measured 82,000 products for 60 levels against 4,000 for 45 (N = 256) */
 export const EIGEN_GROWTH = 9;
-/** largest Krylov basis of one run (quantum/eigen.ts MAX_KRYLOV_DEFAULT) */
-export const EIGEN_BASIS_VECTORS = 400;
 /** T·r per accepted step of the global control: measured 0.95 (N = 1024, −6sech² split to λ = 0.5 in 2 t₀: 1600 steps)
  *  and 0.5–1 (N = 256, to λ = 0.1: level 256), tol 1e-8; common practice */
 export const SCHRODINGER_STEP_NUMBER = 0.9;
 /** the infidelity budget the step number was measured at */
 export const TOL_REFERENCE = 1e-8;
-/** smallest level of the global control (quantum/propagator.ts GLOBAL_INITIAL_STEPS) */
-export const FIRST_LEVEL = 64;
 /** products per state and step of ETDRK4: measured 4.2 */
 export const SCHRODINGER_MATVECS_PER_STEP = 4;
 /** wall time of one product per N log₂N on a 2-core laptop: measured 24–38 ns in propagation (N = 1024 / 256) and
@@ -47,8 +45,6 @@ export const SECONDS_PER_MATVEC_POINT = 3e-8;
 /** copies of every propagated state held at once: scheme and step-doubling buffers (~10) plus the copy the global
  *  control keeps at each sample time (10 trace and 33 strength samples) */
 export const STATE_COPIES = 55;
-/** samples of the strength of the correction (quantum/verify.ts STRENGTH_SAMPLES_DEFAULT) */
-export const STRENGTH_SAMPLES = 33;
 
 export interface VerifySize {
   points: number;
@@ -92,10 +88,10 @@ export function eigenSolveMatvecs(levels: number): number {
   return EIGEN_MATVECS_BASE * Math.pow(Math.max(1, levels / EIGEN_LEVELS_PER_RUN), EIGEN_GROWTH);
 }
 
-/** steps of a doubling ladder FIRST_LEVEL, 2·FIRST_LEVEL, … up to the first level ≥ accepted (at least three levels) */
+/** steps of a doubling ladder GLOBAL_INITIAL_STEPS, 2·GLOBAL_INITIAL_STEPS, … up to the first level ≥ accepted (at least three levels) */
 export function ladderSteps(accepted: number): number {
   let total = 0;
-  let level = FIRST_LEVEL;
+  let level = GLOBAL_INITIAL_STEPS;
   for (let count = 1; ; count++) {
     total += level;
     if (count >= 3 && level >= accepted) return total;
@@ -111,12 +107,12 @@ function peakRate(kind: RampKind, duration: number, lambdaEnd: number): number {
   return peak;
 }
 
-/** the estimated accepted step count n* of the global control (module comment), at least FIRST_LEVEL */
+/** the estimated accepted step count n* of the global control (module comment), at least GLOBAL_INITIAL_STEPS */
 export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length' | 'maxAbsU' | 'lambdaEnd' | 'ramp' | 'duration' | 'tol'>, corrected: boolean): number {
   const kMax = (Math.PI * s.points) / s.length;
   const rate = s.maxAbsU + (corrected ? 6 * peakRate(s.ramp, s.duration, s.lambdaEnd) * s.maxAbsU * kMax : 0);
   const n = ((s.duration * rate) / SCHRODINGER_STEP_NUMBER) * Math.pow(TOL_REFERENCE / s.tol, 1 / 8);
-  return Math.max(FIRST_LEVEL, Math.ceil(n));
+  return Math.max(GLOBAL_INITIAL_STEPS, Math.ceil(n));
 }
 
 /** the whole cost of a verify (module comment) */
@@ -131,7 +127,7 @@ export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const matvecs = eigenSolves * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
   const perMatvec = SECONDS_PER_MATVEC_POINT * s.points * Math.log2(s.points);
   const vector = s.points * Float64Array.BYTES_PER_ELEMENT;
-  const bytes = s.states * 2 * vector * STATE_COPIES + EIGEN_BASIS_VECTORS * vector + eigenSolves * levels * vector;
+  const bytes = s.states * 2 * vector * STATE_COPIES + MAX_KRYLOV_DEFAULT * vector + eigenSolves * levels * vector;
   return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs, seconds: matvecs * perMatvec, bytes };
 }
 

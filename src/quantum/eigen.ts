@@ -25,7 +25,7 @@ import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
 /** residual tolerance relative to ‖H‖ (~1e-10·‖H‖: well below the fidelity budgets of verify) */
 const RESIDUAL_REL = 1e-10;
 /** Lanczos dimension cap per run */
-const MAX_KRYLOV_DEFAULT = 400;
+export const MAX_KRYLOV_DEFAULT = 400;
 /** Ritz extraction is attempted at these fractions of growth (geometric checkpoints keep the QL cost low) */
 const CHECK_GROWTH = 1.35;
 /** restarts allowed before giving up */

@@ -40,7 +40,7 @@ const KRYLOV_SHARE = 0.02;
 const KRYLOV_TOL_FLOOR = 1e-13;
 /** global error control: first level, largest level, smallest convergence ratio trusted (a 4th-order method
  *  gives 16 asymptotically; below 2 the levels are not converging yet) */
-const GLOBAL_INITIAL_STEPS = 64;
+export const GLOBAL_INITIAL_STEPS = 64;
 const GLOBAL_MAX_STEPS = 1 << 16;
 const GLOBAL_MIN_RATIO = 2;
 /** two successive levels whose states agree to this relative amplitude agree to round-off (a few hundred FFTs of
