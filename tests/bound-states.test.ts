@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { boundEnergies, boxThreshold } from '../src/quantum/bound.ts';
 import { lowestEigenpairs } from '../src/quantum/eigen.ts';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { cyclicEigenvalues } from '../src/linalg/cyclic-sturm.ts';
 import { ATOMIC_MASS_CONSTANT, BOLTZMANN_K, HBAR } from '../src/units/constants.ts';
 import { speciesMass } from '../src/units/species.ts';
@@ -53,6 +54,27 @@ describe('cyclic tridiagonal bisection with narrowed brackets (src/linalg/cyclic
     for (let k = 0; k < 4; k++) {
       expect(Math.abs(good[k] - exact[k])).toBeLessThan(1e-8);
       expect(Math.abs(wrong[k] - exact[k])).toBeLessThan(1e-8);
+    }
+  });
+  it('levels isolated by the counts and refined by Newton agree with a dense eigensolver (ml-matrix), with and without brackets', () => {
+    // a cyclic tridiagonal with a deep well on the diagonal and uneven couplings: no degenerate levels; reference:
+    // ml-matrix's EigenvalueDecomposition of the same dense symmetric matrix (an npm reference library)
+    const m = 64;
+    const dd = Float64Array.from({ length: m }, (_, j) => 2 - 6 / Math.cosh(0.25 * (j - 20)) ** 2 + 0.1 * Math.sin(j));
+    const ee = Float64Array.from({ length: m }, (_, j) => -1 - 0.2 * Math.cos(0.7 * j));
+    const dense = Matrix.zeros(m, m);
+    for (let j = 0; j < m; j++) {
+      dense.set(j, j, dd[j]);
+      dense.set(j, (j + 1) % m, ee[j]);
+      dense.set((j + 1) % m, j, ee[j]);
+    }
+    const ref = [...new EigenvalueDecomposition(dense, { assumeSymmetric: true }).realEigenvalues].sort((x, y) => x - y).slice(0, 6);
+    const plain = cyclicEigenvalues(dd, ee, 6, -10, 10);
+    const bracketed = cyclicEigenvalues(dd, ee, 6, -10, 10, { centre: ref.map((x) => x + 1e-4), halfWidth: ref.map(() => 1e-3) });
+    // 1e-12: a few ε times the matrix scale (common practice)
+    for (let k = 0; k < 6; k++) {
+      expect(Math.abs(plain[k] - ref[k])).toBeLessThan(1e-12);
+      expect(Math.abs(bracketed[k] - ref[k])).toBeLessThan(1e-12);
     }
   });
 });

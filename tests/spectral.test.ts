@@ -20,18 +20,58 @@ function naiveDft(x: Float64Array): Float64Array {
   return out;
 }
 
+/** direct O(N²) inverse DFT of a Hermitian half spectrum: x_j = (1/N) Σ_k X_k e^{2πijk/N} over all k, X_{N−k} = X̄_k,
+ *  the imaginary parts of X_0 and X_{N/2} taken as zero (the definition, as naiveDft) */
+function naiveInverse(spec: Float64Array, n: number): Float64Array {
+  const x = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    let s = spec[0] + (j % 2 === 0 ? 1 : -1) * spec[n];
+    for (let k = 1; k < n / 2; k++) {
+      const th = (2 * Math.PI * j * k) / n;
+      s += 2 * (spec[2 * k] * Math.cos(th) - spec[2 * k + 1] * Math.sin(th));
+    }
+    x[j] = s / n;
+  }
+  return x;
+}
+
+/** a spectrum with every mode populated: real and imaginary parts of order one (common practice) */
+function testSpectrum(n: number): Float64Array {
+  const spec = Float64Array.from({ length: n + 2 }, (_, i) => Math.cos(1.7 * i + 0.3) + 0.5 * Math.sin(0.37 * i * i));
+  spec[1] = 0;
+  spec[n + 1] = 0;
+  return spec;
+}
+
 describe('RealFFT', () => {
-  for (const n of [4, 8, 64, 256]) {
+  // sizes reach every shape of the transform: last stages of length 2, 4 and 8 after zero to four radix-4 stages
+  for (const n of [4, 8, 16, 32, 64, 256, 1024, 2048]) {
     it(`matches the direct DFT and inverts itself, N = ${n}`, () => {
       const x = Float64Array.from({ length: n }, (_, j) => Math.sin(0.3 * j * j) + 0.1 * j);
       const f = new RealFFT(n);
       const s = new Float64Array(n + 2);
       f.forward(x, s);
       const ref = naiveDft(x);
-      for (let i = 0; i < n + 2; i++) expect(s[i]).toBeCloseTo(ref[i], 9);
+      // the direct sums carry round-off of about ε·N·max|x| (common practice)
+      const scale = n * Math.max(...x.map(Math.abs));
+      for (let i = 0; i < n + 2; i++) expect(Math.abs(s[i] - ref[i])).toBeLessThan(1e-12 * scale);
       const back = new Float64Array(n);
       f.inverse(s, back);
       for (let j = 0; j < n; j++) expect(back[j]).toBeCloseTo(x[j], 12);
+    });
+    it(`inverse and spectrum of the square match the direct sums, N = ${n}`, () => {
+      const f = new RealFFT(n);
+      const spec = testSpectrum(n);
+      const x = new Float64Array(n);
+      f.inverse(spec, x);
+      const ref = naiveInverse(spec, n);
+      for (let j = 0; j < n; j++) expect(Math.abs(x[j] - ref[j])).toBeLessThan(1e-13);
+      // DFT of u², u the direct inverse of spec
+      const sq = naiveDft(ref.map((u) => u * u));
+      const out = new Float64Array(n + 2);
+      f.squareOf(spec, out);
+      const scale = n * Math.max(...ref.map((u) => u * u));
+      for (let i = 0; i < n + 2; i++) expect(Math.abs(out[i] - sq[i])).toBeLessThan(1e-12 * scale);
     });
   }
   it('complex transform round trip', () => {

@@ -106,7 +106,6 @@ export class FlowOperator {
   readonly fft: RealFFT;
   /** nonlinear prefactor −(α/2) k · mask (multiplies i·F[u²]) */
   private readonly gk: Float64Array;
-  private readonly ub: Float64Array;
   private readonly sb: Float64Array;
   readonly cutoff: number;
   evaluations = 0;
@@ -125,18 +124,14 @@ export class FlowOperator {
       this.lim[m] = eq.beta * k * k * k - eq.drift * k;
       this.gk[m] = m <= this.cutoff ? -(eq.alpha / 2) * k : 0;
     }
-    this.ub = new Float64Array(n);
     this.sb = new Float64Array(n + 2);
   }
 
   /** out = N(v) = −(α/2) ik P F[(F⁻¹v)²] */
   readonly nonlinear = (v: Float64Array, out: Float64Array): void => {
     this.evaluations++;
-    const u = this.ub;
-    this.fft.inverse(v, u);
-    for (let j = 0; j < u.length; j++) u[j] *= u[j];
     const s = this.sb;
-    this.fft.forward(u, s);
+    this.fft.squareOf(v, s);
     const g = this.gk;
     // modes beyond the cut have g = 0: they are never written, so callers' buffers keep their zeros there
     for (let m = 0; m <= this.cutoff; m++) {
