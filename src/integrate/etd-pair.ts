@@ -164,17 +164,23 @@ export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64
   return { h, table, stageExp, stageTerms, exp: phiAt(1).exp, resultTerms: terms(table.b, 1, h), errorTerms: terms(table.d, 1, h) };
 }
 
-/** scratch of one integration: a stage value and N of every stage (including the FSAL one, which is the caller's) */
+/** scratch of one integration: a stage value, N of every stage, and the stage table the step reads (N₀ and the FSAL
+ *  stage are the caller's arrays) */
 export interface EtdPairWorkspace {
   readonly y: Float64Array;
   readonly n: Float64Array[];
+  readonly refs: Float64Array[];
 }
 
 export function etdPairWorkspace(table: EtdPairTable, m: number): EtdPairWorkspace {
-  return { y: new Float64Array(2 * m), n: table.nodes.map(() => new Float64Array(2 * m)) };
+  const n = table.nodes.map(() => new Float64Array(2 * m));
+  return { y: new Float64Array(2 * m), n, refs: [...n, new Float64Array(0)] };
 }
 
-/** out = e ⊙ v (complex, first n2 doubles); e empty: out = v */
+/* Kernels of the step (complex, interleaved, first n2 doubles): each pass reads every operand once and writes out
+ * once; the step runs a combination in passes of one or two terms. */
+
+/** out = e ⊙ v */
 function scale(e: Float64Array, v: Float64Array, out: Float64Array, n2: number): void {
   for (let i = 0; i < n2; i += 2) {
     const er = e[i], ei = e[i + 1], vr = v[i], vi = v[i + 1];
@@ -183,16 +189,57 @@ function scale(e: Float64Array, v: Float64Array, out: Float64Array, n2: number):
   }
 }
 
-/** out += Σ terms (coef ⊙ N_from), N_j = stages[j] for j < s and N_s = last (the FSAL stage) */
-function accumulate(terms: readonly Term[], stages: readonly Float64Array[], last: Float64Array, out: Float64Array, n2: number): void {
-  for (const { from, coef } of terms) {
-    const g = from < stages.length ? stages[from] : last;
-    for (let i = 0; i < n2; i += 2) {
-      const cr = coef[i], ci = coef[i + 1], gr = g[i], gi = g[i + 1];
-      out[i] += cr * gr - ci * gi;
-      out[i + 1] += cr * gi + ci * gr;
-    }
+/** out = e ⊙ v + a ⊙ f */
+function start1(e: Float64Array, v: Float64Array, a: Float64Array, f: Float64Array, out: Float64Array, n2: number): void {
+  for (let i = 0; i < n2; i += 2) {
+    const er = e[i], ei = e[i + 1], vr = v[i], vi = v[i + 1], ar = a[i], ai = a[i + 1], fr = f[i], fi = f[i + 1];
+    out[i] = er * vr - ei * vi + ar * fr - ai * fi;
+    out[i + 1] = er * vi + ei * vr + ar * fi + ai * fr;
   }
+}
+
+/** out = e ⊙ v + a ⊙ f + b ⊙ g */
+function start2(e: Float64Array, v: Float64Array, a: Float64Array, f: Float64Array, b: Float64Array, g: Float64Array, out: Float64Array, n2: number): void {
+  for (let i = 0; i < n2; i += 2) {
+    const er = e[i], ei = e[i + 1], vr = v[i], vi = v[i + 1], ar = a[i], ai = a[i + 1], fr = f[i], fi = f[i + 1];
+    const br = b[i], bi = b[i + 1], gr = g[i], gi = g[i + 1];
+    out[i] = er * vr - ei * vi + ar * fr - ai * fi + br * gr - bi * gi;
+    out[i + 1] = er * vi + ei * vr + ar * fi + ai * fr + br * gi + bi * gr;
+  }
+}
+
+/** out += a ⊙ f */
+function add1(a: Float64Array, f: Float64Array, out: Float64Array, n2: number): void {
+  for (let i = 0; i < n2; i += 2) {
+    const ar = a[i], ai = a[i + 1], fr = f[i], fi = f[i + 1];
+    out[i] += ar * fr - ai * fi;
+    out[i + 1] += ar * fi + ai * fr;
+  }
+}
+
+/** out += a ⊙ f + b ⊙ g */
+function add2(a: Float64Array, f: Float64Array, b: Float64Array, g: Float64Array, out: Float64Array, n2: number): void {
+  for (let i = 0; i < n2; i += 2) {
+    const ar = a[i], ai = a[i + 1], fr = f[i], fi = f[i + 1], br = b[i], bi = b[i + 1], gr = g[i], gi = g[i + 1];
+    out[i] += ar * fr - ai * fi + br * gr - bi * gi;
+    out[i + 1] += ar * fi + ai * fr + br * gi + bi * gr;
+  }
+}
+
+/** out = e ⊙ v + Σ terms (coef ⊙ N_from), or without e: out = Σ terms; N_j = refs[j] */
+function combine(terms: readonly Term[], refs: readonly Float64Array[], e: Float64Array | null, v: Float64Array, out: Float64Array, n2: number): void {
+  let t = 0;
+  if (!e) out.fill(0, 0, n2);
+  else if (terms.length === 0) scale(e, v, out, n2);
+  else if (terms.length === 1) {
+    start1(e, v, terms[0].coef, refs[terms[0].from], out, n2);
+    t = 1;
+  } else {
+    start2(e, v, terms[0].coef, refs[terms[0].from], terms[1].coef, refs[terms[1].from], out, n2);
+    t = 2;
+  }
+  for (; t + 1 < terms.length; t += 2) add2(terms[t].coef, refs[terms[t].from], terms[t + 1].coef, refs[terms[t + 1].from], out, n2);
+  if (t < terms.length) add1(terms[t].coef, refs[terms[t].from], out, n2);
 }
 
 /**
@@ -207,16 +254,14 @@ export function etdPairStep(
 ): void {
   const n2 = 2 * active;
   const s = co.table.nodes.length;
-  const stages = ws.n;
-  stages[0].set(nv.subarray(0, n2));
+  const refs = ws.refs;
+  refs[0] = nv;
+  refs[s] = nOut;
   for (let i = 1; i < s; i++) {
-    scale(co.stageExp[i], v, ws.y, n2);
-    accumulate(co.stageTerms[i], stages, nOut, ws.y, n2);
-    rhs(ws.y, stages[i], i);
+    combine(co.stageTerms[i], refs, co.stageExp[i], v, ws.y, n2);
+    rhs(ws.y, refs[i], i);
   }
-  scale(co.exp, v, out, n2);
-  accumulate(co.resultTerms, stages, nOut, out, n2);
+  combine(co.resultTerms, refs, co.exp, v, out, n2);
   rhs(out, nOut, s);
-  err.fill(0, 0, n2);
-  accumulate(co.errorTerms, stages, nOut, err, n2);
+  combine(co.errorTerms, refs, null, v, err, n2);
 }
