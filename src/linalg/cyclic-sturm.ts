@@ -19,9 +19,9 @@
 const ZERO_PIVOT = Number.EPSILON;
 /** bisection stops when the bracket is this many ulps of the bracket's magnitude wide */
 const BISECTION_ULPS = 4;
-/** Newton stops when its step is below this fraction of max(|σ|, 1): quadratic convergence leaves an error far below
- *  it, and the counts' own round-off (a few ε times the matrix scale) is of the same order (common practice) */
-const NEWTON_STEP_REL = 1e-13;
+/** Newton stops when its step is below this fraction of max(|σ|, 1): quadratic convergence leaves an error of about
+ *  the step squared over the gap to the next level, below the counts' own round-off (common practice) */
+const NEWTON_STEP_REL = 1e-11;
 /** a Newton step below this fraction of max(|σ|, 1) that no longer shrinks is the counts' round-off (seen at 1e-13
  *  on 8192 points): stop there (common practice) */
 const NEWTON_STALL = 1e-10;
