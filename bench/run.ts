@@ -66,7 +66,7 @@ flow: { dispersion: quantum, lambda_end: 0.5, frames: 11, tolerance: ${DESIGN_TO
   run.frames.forEach((f, i) => ctx.grid.x.forEach((x, j) => (err = Math.max(err, Math.abs(f[j] - twoSolitonFromSech2(x, run.lambdas[i]))))));
   return {
     case: 'design job: two-soliton split of -6 sech^2, N = 1024, L = 60, to tau = 0.5, 11 frames (error against the Drazin & Johnson closed form over all frames)',
-    method: `${FLOW_PAIR.name} embedded exponential Runge-Kutta pair (${FLOW_PAIR.source}), 2/3 dealiasing; bound states by Sturm bisection + Richardson`,
+    method: `${FLOW_PAIR.name} embedded exponential Runge-Kutta pair (${FLOW_PAIR.source}), 2/3 dealiasing; bound states by Sturm counts and Newton on the determinant + Richardson`,
     tolerance: DESIGN_TOLERANCE,
     max_error: err,
     requirement_max_error: 1e-7,

@@ -3,13 +3,14 @@
  * diagnostics and the isospectrality tracks, converged to a stated tolerance in the discretisation.
  *
  * Method: the three-point finite-difference Hamiltonian (a cyclic tridiagonal matrix, diagonal 2/h² + u_j,
- * couplings −1/h²) on grids h₀, h₀/2, h₀/4, …, its lowest levels by Sturm-count bisection (linalg/cyclic-sturm.ts,
- * O(n) per count), and Richardson extrapolation of each level in h² (the error of the symmetric second difference
+ * couplings −1/h²) on grids h₀, h₀/2, h₀/4, …, its lowest levels by Sturm counts until a bracket holds one level,
+ * then safeguarded Newton on the determinant (linalg/cyclic-sturm.ts, O(n) per count), and Richardson extrapolation of each level in h² (the error of the symmetric second difference
  * on a smooth periodic eigenfunction is an even power series in h; Richardson, Phil. Trans. R. Soc. A 226, 299,
  * 1927; Neville's tableau, Press et al., Numerical Recipes, 3rd ed. 2007, §3.2). u on the finer grids is the
  * caller's samples Fourier-interpolated (exact for band-limited u). Levels are added until the last two diagonal
  * entries of the tableau agree to max(REL_TOL · max|u|, ROUND_OFF · 2/h²); the finer one is returned. The first
- * grid resolves u and has h₀·√(max|u|) ≤ START_HK. Cost O(levels · n · 60) per bound state: no dense matrix.
+ * grid resolves u and has h₀·√(max|u|) ≤ START_HK. Cost: a few O(n) sweeps per level and grid (a few tens on the
+ * first, where only the counts bracket the levels); no dense matrix.
  * The limit is the spectrum of −∂² + u on the periodic box, u the trigonometric interpolant of the caller's
  * samples (an entire function, so the expansion in h² holds even for rough samples); the caller's own spectral
  * grid approximates that limit to its resolution.
