@@ -44,8 +44,8 @@ function testSpectrum(n: number): Float64Array {
 }
 
 describe('RealFFT', () => {
-  // sizes reach every shape of the transform: last stages of length 2, 4 and 8 after zero to four radix-4 stages
-  for (const n of [4, 8, 16, 32, 64, 256, 1024, 2048]) {
+  // sizes reach every shape of the transform: last stages of length 2, 4 and 8 after up to four stages of radix 4 and 8
+  for (const n of [4, 8, 16, 32, 64, 128, 256, 512, 1024, 2048]) {
     it(`matches the direct DFT and inverts itself, N = ${n}`, () => {
       const x = Float64Array.from({ length: n }, (_, j) => Math.sin(0.3 * j * j) + 0.1 * j);
       const f = new RealFFT(n);

@@ -7,7 +7,7 @@
  * (forward; the inverse builds Z_k = F_k + iG_k from X and unpacks), the classic real-input algorithm of
  * Cooley, Lewis & Welch, J. Sound Vib. 12, 315 (1970); Press et al., Numerical Recipes, 3rd ed. 2007, §12.3.
  * The complex transform is a Stockham autosort FFT (no bit reversal; Van Loan, Computational Frameworks for the
- * FFT, SIAM 1992, §1.7) of radix 4, its last stage (length 2, 4 or 8) without twiddles, on split real/imaginary
+ * FFT, SIAM 1992, §1.7) of radix 8 and 4, its last stage (length 2, 4 or 8) without twiddles, on split real/imaginary
  * arrays with every twiddle factor precomputed from cos/sin directly (no recurrence). The inverse runs the same forward
  * transform on the conjugated input (IDFT(Z) = conj DFT(conj Z)/M).
  * ComplexFFT: fft.js (radix-4, interleaved re/im).
@@ -35,9 +35,10 @@ export class ComplexFFT {
   }
 }
 
-/** a radix-4 butterfly stage with twiddles (n, s: sub-transform length and stride; tw: cos, sin of e^{−2πi pr/n},
- *  r = 1, 2, 3, per p) */
+/** a butterfly stage of radix 4 or 8 with twiddles (n, s: sub-transform length and stride; tw: cos, sin of
+ *  e^{−2πi pr/n}, r = 1 … radix − 1, per p) */
 interface TwiddledStage {
+  readonly radix: 4 | 8;
   readonly n: number;
   readonly s: number;
   readonly tw: Float64Array;
@@ -72,6 +73,62 @@ function radix4Stage(n: number, s: number, xr: Float64Array, xi: Float64Array, y
       yi[o2] = w2r * t2i + w2i * t2r;
       yr[o3] = w3r * t3r - w3i * t3i;
       yi[o3] = w3r * t3i + w3i * t3r;
+    }
+  }
+}
+
+/**
+ * One radix-8 Stockham stage: as radix4Stage with eight outputs per butterfly, the 8-point DFT taken as two 4-point
+ * DFTs (even and odd inputs) combined with W₈ʳ, then twiddled by e^{−2πi pr/n}, r = 1 … 7.
+ */
+function radix8Stage(n: number, s: number, xr: Float64Array, xi: Float64Array, yr: Float64Array, yi: Float64Array, tw: Float64Array): void {
+  const m = n >> 3;
+  const sm = s * m;
+  const h = Math.SQRT1_2;
+  for (let p = 0; p < m; p++) {
+    const t = 14 * p;
+    const w1r = tw[t], w1i = tw[t + 1], w2r = tw[t + 2], w2i = tw[t + 3], w3r = tw[t + 4], w3i = tw[t + 5], w4r = tw[t + 6], w4i = tw[t + 7];
+    const w5r = tw[t + 8], w5i = tw[t + 9], w6r = tw[t + 10], w6i = tw[t + 11], w7r = tw[t + 12], w7i = tw[t + 13];
+    const ib = s * p;
+    const ob = 8 * s * p;
+    for (let q = 0; q < s; q++) {
+      const j0 = ib + q, j1 = j0 + sm, j2 = j1 + sm, j3 = j2 + sm, j4 = j3 + sm, j5 = j4 + sm, j6 = j5 + sm, j7 = j6 + sm;
+      let ar = xr[j0], ai = xi[j0], br = xr[j2], bi = xi[j2], cr = xr[j4], ci = xi[j4], dr = xr[j6], di = xi[j6];
+      let apcr = ar + cr, apci = ai + ci, amcr = ar - cr, amci = ai - ci;
+      let bpdr = br + dr, bpdi = bi + di, bmdr = br - dr, bmdi = bi - di;
+      const e0r = apcr + bpdr, e0i = apci + bpdi, e1r = amcr + bmdi, e1i = amci - bmdr;
+      const e2r = apcr - bpdr, e2i = apci - bpdi, e3r = amcr - bmdi, e3i = amci + bmdr;
+      ar = xr[j1]; ai = xi[j1]; br = xr[j3]; bi = xi[j3]; cr = xr[j5]; ci = xi[j5]; dr = xr[j7]; di = xi[j7];
+      apcr = ar + cr; apci = ai + ci; amcr = ar - cr; amci = ai - ci;
+      bpdr = br + dr; bpdi = bi + di; bmdr = br - dr; bmdi = bi - di;
+      const o0r = apcr + bpdr, o0i = apci + bpdi, o1r = amcr + bmdi, o1i = amci - bmdr;
+      const o2r = apcr - bpdr, o2i = apci - bpdi, o3r = amcr - bmdi, o3i = amci + bmdr;
+      const t1r = h * (o1r + o1i), t1i = h * (o1i - o1r);
+      const t3r = h * (o3i - o3r), t3i = -h * (o3r + o3i);
+      const o = ob + q;
+      yr[o] = e0r + o0r;
+      yi[o] = e0i + o0i;
+      let zr = e0r - o0r, zi = e0i - o0i;
+      yr[o + 4 * s] = w4r * zr - w4i * zi;
+      yi[o + 4 * s] = w4r * zi + w4i * zr;
+      zr = e1r + t1r; zi = e1i + t1i;
+      yr[o + s] = w1r * zr - w1i * zi;
+      yi[o + s] = w1r * zi + w1i * zr;
+      zr = e1r - t1r; zi = e1i - t1i;
+      yr[o + 5 * s] = w5r * zr - w5i * zi;
+      yi[o + 5 * s] = w5r * zi + w5i * zr;
+      zr = e2r + o2i; zi = e2i - o2r;
+      yr[o + 2 * s] = w2r * zr - w2i * zi;
+      yi[o + 2 * s] = w2r * zi + w2i * zr;
+      zr = e2r - o2i; zi = e2i + o2r;
+      yr[o + 6 * s] = w6r * zr - w6i * zi;
+      yi[o + 6 * s] = w6r * zi + w6i * zr;
+      zr = e3r + t3r; zi = e3i + t3i;
+      yr[o + 3 * s] = w3r * zr - w3i * zi;
+      yi[o + 3 * s] = w3r * zi + w3i * zr;
+      zr = e3r - t3r; zi = e3i - t3i;
+      yr[o + 7 * s] = w7r * zr - w7i * zi;
+      yi[o + 7 * s] = w7r * zi + w7i * zr;
     }
   }
 }
@@ -146,8 +203,8 @@ function radix8Last(s: number, xr: Float64Array, xi: Float64Array, yr: Float64Ar
 }
 
 /**
- * Forward complex DFT of length M (a power of two ≥ 2), Stockham (module comment): radix-4 stages with twiddles
- * down to a last stage of length 2, 4 or 8 without them. The input goes into (inRe, inIm), the result appears in
+ * Forward complex DFT of length M (a power of two ≥ 2), Stockham (module comment): stages of radix 8 and 4 with
+ * twiddles down to a last stage of length 2, 4 or 8 without them. The input goes into (inRe, inIm), the result appears in
  * (outRe, outIm), which are fixed for the size; the input is overwritten.
  */
 class StockhamFFT {
@@ -166,21 +223,29 @@ class StockhamFFT {
     this.bufRe = [new Float64Array(m), new Float64Array(m)];
     this.bufIm = [new Float64Array(m), new Float64Array(m)];
     const log = Math.round(Math.log2(m));
-    this.last = m === 2 ? 2 : log % 2 === 0 ? 4 : 8;
+    this.last = m === 2 ? 2 : log === 2 || log === 4 ? 4 : 8;
+    // the twiddled stages: as many of radix 8 as leave a multiple of 2 bits for radix 4 (fewer passes over the data)
+    const rest = log - Math.log2(this.last);
+    let eights = Math.floor(rest / 3);
+    if (rest - 3 * eights === 1) eights--;
     const stages: TwiddledStage[] = [];
     let n = m;
     let s = 1;
-    for (; n > this.last; n >>= 2, s <<= 2) {
-      const q = n >> 2;
-      const tw = new Float64Array(6 * q);
+    while (n > this.last) {
+      const radix = eights > 0 ? 8 : 4;
+      if (radix === 8) eights--;
+      const q = n / radix;
+      const tw = new Float64Array(2 * (radix - 1) * q);
       for (let p = 0; p < q; p++) {
-        for (let r = 1; r <= 3; r++) {
+        for (let r = 1; r < radix; r++) {
           const th = (-2 * Math.PI * p * r) / n;
-          tw[6 * p + 2 * (r - 1)] = Math.cos(th);
-          tw[6 * p + 2 * (r - 1) + 1] = Math.sin(th);
+          tw[2 * (radix - 1) * p + 2 * (r - 1)] = Math.cos(th);
+          tw[2 * (radix - 1) * p + 2 * (r - 1) + 1] = Math.sin(th);
         }
       }
-      stages.push({ n, s, tw });
+      stages.push({ radix, n, s, tw });
+      n /= radix;
+      s *= radix;
     }
     this.stages = stages;
     this.lastStride = s;
@@ -195,8 +260,9 @@ class StockhamFFT {
     const re = this.bufRe;
     const im = this.bufIm;
     let from = 0;
-    for (const { n, s, tw } of this.stages) {
-      radix4Stage(n, s, re[from], im[from], re[1 - from], im[1 - from], tw);
+    for (const { radix, n, s, tw } of this.stages) {
+      if (radix === 8) radix8Stage(n, s, re[from], im[from], re[1 - from], im[1 - from], tw);
+      else radix4Stage(n, s, re[from], im[from], re[1 - from], im[1 - from], tw);
       from = 1 - from;
     }
     const s = this.lastStride;
