@@ -41,6 +41,18 @@ describe('lowest eigenpairs', () => {
     });
   }
 
+  it('one or two levels alone at 1024 points (the filter cut from the lowest probe Ritz values): −6sech²ξ gives −4, −1 (Landau & Lifshitz, QM §23)', () => {
+    const g = makeGrid(60, 1024);
+    const u = g.x.map((x) => -6 / Math.cosh(x) ** 2);
+    for (const count of [1, 2]) {
+      const r = lowestEigenpairs(g, u, count);
+      expect(Math.abs(r.energies[0] + 4)).toBeLessThan(1e-9); // closed form −(N − n)², N = 2
+      if (count === 2) expect(Math.abs(r.energies[1] + 1)).toBeLessThan(1e-9);
+      // the cut lies among the low levels, not near the top of the spectrum (|E| ≤ k_max² ≈ 2880)
+      expect(Number(/cut=([-\d.e+]+)/.exec(r.detail)?.[1])).toBeLessThan(100);
+    }
+  });
+
   it('Lanczos with locking and the dense solver agree, degenerate partners included (common practice: two independent solvers)', () => {
     const g = makeGrid(40, 128);
     const u = g.x.map((x) => -6 / Math.cosh(x) ** 2);

@@ -345,7 +345,8 @@ class LanczosSolver {
     if (degree <= 0) return;
     // the (count+2)-th Ritz value of a short plain run bounds λ_{count+2} from above
     const probe = this.run(Math.min(CUT_PROBE_STEPS, n), n + 1, 0);
-    const sortedRitz = probe.order.map((i) => this.d[i]);
+    // ascending whatever end `ritz` puts first
+    const sortedRitz = probe.order.map((i) => this.d[i]).sort((p, q) => p - q);
     const eCut = sortedRitz[Math.min(count + 1, sortedRitz.length - 1)];
     const eMax = h.normH;
     const c = 0.5 * (eCut + eMax);
@@ -447,4 +448,99 @@ export function groupDegenerate(energies: readonly number[], tol: number): numbe
     else groups.push([i]);
   }
   return groups;
+}
+
+/** residual target of `groundStateNear`, relative to ‖H‖: the eigenvector error is ≈ residual/gap, so a density
+ *  interpolated in λ (quantum/painted.ts) keeps its tail budget (~1e-10 of max ρ) */
+export const GROUND_RESIDUAL_REL = 1e-13;
+/** iterations allowed to `groundStateNear` (it converges in ~10–40 from a neighbouring λ's state) */
+const GROUND_MAX_ITERATIONS = 300;
+/** a search direction whose orthogonalised norm falls below this fraction of its own is dropped (it adds nothing) */
+const GROUND_DROP = 1e-10;
+
+/** y = (k² + σ)⁻¹x, the kinetic preconditioner of `groundStateNear` (σ > 0), by the real FFT */
+class KineticPreconditioner {
+  private readonly fft: RealFFT;
+  private readonly spec: Float64Array;
+  private readonly inv: Float64Array;
+  constructor(grid: Grid, sigma: number) {
+    this.fft = new RealFFT(grid.n);
+    this.spec = new Float64Array(grid.n + 2);
+    this.inv = Float64Array.from(grid.kHalf, (k) => 1 / (k * k + sigma));
+  }
+  apply(x: Float64Array, y: Float64Array): void {
+    const s = this.spec;
+    this.fft.forward(x, s);
+    for (let m = 0; m < this.inv.length; m++) { s[2 * m] *= this.inv[m]; s[2 * m + 1] *= this.inv[m]; }
+    this.fft.inverse(s, y);
+  }
+}
+
+/**
+ * The ground state of k² + u from a nearby guess (e.g. the ground state at a neighbouring λ): single-vector LOBPCG
+ * (Knyazev, SIAM J. Sci. Comput. 23, 517, 2001, Algorithm 4.1) with the kinetic preconditioner (k² + σ)⁻¹,
+ * σ = max(1, −min u): Rayleigh–Ritz on span{x, T r, p} each iteration, so the rate does not degrade with k_max
+ * as plain Lanczos does. The 1-D ground state is non-degenerate, so the guess's large overlap makes the lowest Ritz
+ * pair the ground state. NumericalError when ‖Hv − θv‖ does not reach GROUND_RESIDUAL_REL·‖H‖ (round-off floor
+ * included) within GROUND_MAX_ITERATIONS.
+ */
+export function groundStateNear(grid: Grid, u: Float64Array, guess: Float64Array): { energy: number; vector: Float64Array; residual: number; iterations: number } {
+  checkArgs(grid, u, 1);
+  if (guess.length !== grid.n) throw new RangeError(`eigen: guess length ${guess.length} must equal grid points ${grid.n}`);
+  const n = grid.n;
+  const h = new RealHamiltonian(grid, u);
+  let umin = 0;
+  for (let j = 0; j < n; j++) umin = Math.min(umin, u[j]);
+  const pre = new KineticPreconditioner(grid, Math.max(1, -umin));
+  const tol = Math.max(GROUND_RESIDUAL_REL * h.normH, 8 * Number.EPSILON * h.normH * Math.sqrt(n));
+  // columns x, w, p and their images under H
+  const S = [Float64Array.from(guess), new Float64Array(n), new Float64Array(n)];
+  const HS = [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
+  const r = new Float64Array(n);
+  const scale = (a: Float64Array, b: Float64Array, f: number): void => { for (let i = 0; i < n; i++) { a[i] *= f; b[i] *= f; } };
+  scale(S[0], HS[0], 1 / Math.sqrt(dot(S[0], S[0])));
+  h.apply(S[0], HS[0]);
+  let theta = dot(S[0], HS[0]);
+  let hasP = false;
+  let res = Infinity;
+  for (let it = 0; it < GROUND_MAX_ITERATIONS; it++) {
+    for (let i = 0; i < n; i++) r[i] = HS[0][i] - theta * S[0][i];
+    res = Math.sqrt(dot(r, r));
+    if (res <= tol) return { energy: theta, vector: S[0], residual: res, iterations: it };
+    pre.apply(r, S[1]);
+    // orthonormal basis of span{x, w, p} by Gram–Schmidt (twice), the same combinations applied to H·columns
+    const cols = hasP ? [0, 1, 2] : [0, 1];
+    const kept: number[] = [0];
+    for (const c of cols.slice(1)) {
+      if (c === 1) h.apply(S[1], HS[1]);
+      const before = Math.sqrt(dot(S[c], S[c]));
+      for (let pass = 0; pass < 2; pass++) {
+        for (const k of kept) {
+          const f = dot(S[k], S[c]);
+          for (let i = 0; i < n; i++) { S[c][i] -= f * S[k][i]; HS[c][i] -= f * HS[k][i]; }
+        }
+      }
+      const after = Math.sqrt(dot(S[c], S[c]));
+      if (after <= GROUND_DROP * before) continue;
+      scale(S[c], HS[c], 1 / after);
+      kept.push(c);
+    }
+    const m = kept.length;
+    const A = new Matrix(m, m);
+    for (let a = 0; a < m; a++) for (let b = a; b < m; b++) { const v = dot(S[kept[a]], HS[kept[b]]); A.set(a, b, v); A.set(b, a, v); }
+    const eig = new EigenvalueDecomposition(A, { assumeSymmetric: true });
+    const vals = eig.realEigenvalues;
+    let lo = 0;
+    for (let i = 1; i < m; i++) if (vals[i] < vals[lo]) lo = i;
+    const c = kept.map((_, a) => eig.eigenvectorMatrix.get(a, lo));
+    // p = the new x's component outside the old x; x = Σ c_a S_a
+    const p = new Float64Array(n), hp = new Float64Array(n);
+    for (let a = 1; a < m; a++) for (let i = 0; i < n; i++) { p[i] += c[a] * S[kept[a]][i]; hp[i] += c[a] * HS[kept[a]][i]; }
+    for (let i = 0; i < n; i++) { S[0][i] = c[0] * S[0][i] + p[i]; HS[0][i] = c[0] * HS[0][i] + hp[i]; }
+    scale(S[0], HS[0], 1 / Math.sqrt(dot(S[0], S[0])));
+    S[2].set(p); HS[2].set(hp);
+    hasP = m > 1;
+    theta = dot(S[0], HS[0]);
+  }
+  throw new NumericalError(`eigen: the ground state from a nearby guess did not converge within ${GROUND_MAX_ITERATIONS} iterations (residual ${res.toExponential(2)}, budget ${tol.toExponential(2)})`);
 }
