@@ -20,6 +20,23 @@ import { makeRamp } from '../src/protocol/ramp.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { SMALL_SOLITON } from './fixtures.ts';
 
+// ⁸⁷Rb with ℓ = 1 µm: E₀ = ħ²/(2mℓ²) in h·kHz and t₀ = ħ/E₀ in ms (CODATA 2018 ħ, h; AME2020 mass)
+const hbar = 1.054571817e-34, h = 6.62607015e-34, m = 86.909180531 * 1.6605390666e-27;
+const E0kHz = (hbar * hbar) / (2 * m * 1e-12) / h / 1e3;
+const t0ms = (hbar / (E0kHz * 1e3 * h)) * 1e3;
+
+/** a ⁸⁷Rb config (ℓ = 1 µm, 256 points) of one sech² well 1 µm wide at −2 µm; depth and duration in E₀ and t₀ */
+function rbConfig(name: string, o: { length: number; depthE0: number; lambdaEnd: number; durationT0: number; ramp: string; verify: string }): string {
+  return `name: ${name}
+units: { system: lab, species: Rb87, length_unit_um: 1, energy: h*kHz }
+grid: { length: ${o.length}, points: 256 }
+initial: { kind: sech2, depth: ${o.depthE0 * E0kHz}, width: 1, center: -2 }
+flow: { lambda_end: ${o.lambdaEnd}, frames: 5 }
+protocol: { duration: ${o.durationT0 * t0ms}, ramp: ${o.ramp} }
+verify: ${o.verify}
+`;
+}
+
 const npy = (dir: string, name: string) => decodeNpy(readFileSync(join(dir, name)), name);
 
 describe('lab-time samples of the flow (natural units)', () => {
@@ -181,17 +198,7 @@ describe('isotrap export in lab units', () => {
     const root = mkdtempSync(join(tmpdir(), 'isotrap-export-lab-'));
     const dir = join(root, 'run');
     // the one-soliton scenario of SMALL_SOLITON in ⁸⁷Rb units, ℓ = 1 µm: depth 2 E₀, duration 0.4 t₀ (illustrative)
-    const hbar = 1.054571817e-34, h = 6.62607015e-34, m = 86.909180531 * 1.6605390666e-27;
-    const E0kHz = (hbar * hbar) / (2 * m * 1e-12) / h / 1e3;
-    const t0ms = (hbar / (E0kHz * 1e3 * h)) * 1e3;
-    const yaml = `name: lab
-units: { system: lab, species: Rb87, length_unit_um: 1, energy: h*kHz }
-grid: { length: 40, points: 256 }
-initial: { kind: sech2, depth: ${2 * E0kHz}, width: 1, center: -2 }
-flow: { lambda_end: 0.2, frames: 5 }
-protocol: { duration: ${0.4 * t0ms}, ramp: sin2 }
-verify: { states: 2 }
-`;
+    const yaml = rbConfig('lab', { length: 40, depthE0: 2, lambdaEnd: 0.2, durationT0: 0.4, ramp: 'sin2', verify: '{ states: 2 }' });
     runPipeline(parseConfig(yaml, 'lab.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
     const r = runExport(dir, { rate: 4, csv: false, force: false });
     expect(r.file.units).toMatchObject({ energy: 'h·kHz', time: 'ms', length: 'µm', velocity: 'µm/ms' });
@@ -202,5 +209,57 @@ verify: { states: 2 }
       for (let j = 0; j < n; j += 23) expect(velocity.data[i * n + j] / (-6 * rate.data[i] * potential.data[i * n + j] / E0kHz + 1e-300)).toBeCloseTo(rate.data[i] === 0 ? 0 : 1, 8);
     }
     expect(r.file.sampling.step).toBeCloseTo(0.25, 15); // --rate 4 kHz: one update every 0.25 ms
+  }, 120_000);
+});
+
+describe('isotrap export of painted corrections (physics.md §7)', () => {
+  // an illustrative ⁸⁷Rb scenario (invented): a −6 sech² well of 1 µm split into two; the ground state painted
+  let dir: string;
+  beforeAll(() => {
+    const root = mkdtempSync(join(tmpdir(), 'isotrap-export-painted-'));
+    dir = join(root, 'run');
+    const yaml = rbConfig('painted', { length: 24, depthE0: 6, lambdaEnd: 0.1, durationT0: 0.3, ramp: 'smooth', verify: '{ states: 2, painted: [ground] }' });
+    runPipeline(parseConfig(yaml, 'painted.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
+  }, 120_000);
+
+  it('the painted potential equals V at both ends (λ̇ = λ̈ = 0 there, so V_loc = 0), is named by the sidecar, and keeps the ground state to 1 − 1e-6 in verify.json (Masuda & Nakamura, Proc. R. Soc. A 466, 1135, 2010)', () => {
+    const verify = JSON.parse(readFileSync(join(dir, 'verify.json'), 'utf8'));
+    expect(1 - verify.painted.drives[0].fidelity[0]).toBeLessThan(1e-6);
+    const out = join(dir, '..', 'painted-out');
+    const r = runExport(dir, { samples: 9, csv: false, out, force: false });
+    writeExportOutputs(r, false);
+    const side = readExportFile(join(out, EXPORT_JSON));
+    const a = side.arrays.painted_ground;
+    expect(a.shape).toEqual([9, 256]);
+    expect(a.unit).toBe('h·kHz');
+    const painted = npy(out, a.file);
+    const v = r.arrays.potential.data;
+    const n = 256;
+    for (const i of [0, 8]) {
+      let worst = 0;
+      for (let j = 0; j < n; j++) worst = Math.max(worst, Math.abs(painted.data[i * n + j] - v[i * n + j]));
+      expect(worst).toBeLessThan(1e-12 * 6 * E0kHz);
+    }
+    // in between it differs: the correction is painted into the potential
+    let mid = 0;
+    for (let j = 0; j < n; j++) mid = Math.max(mid, Math.abs(painted.data[4 * n + j] - v[4 * n + j]));
+    expect(mid).toBeGreaterThan(1e-3 * 6 * E0kHz);
+    // the power budget: the painted range against the starting trap (−6 E₀ deep), in the energy unit
+    // (the grid misses the well's centre by up to half a step: sech²(dx/2) = 0.998 of the depth)
+    expect(Math.abs(side.painted!.start.deepest / (-6 * E0kHz) - 1)).toBeLessThan(3e-3);
+    expect(side.painted?.drives[0].deepest).toBeLessThanOrEqual(side.painted!.start.deepest);
+  }, 60_000);
+
+  it('--psf-um blurs every painted frame, simulates the blurred protocol and reports the fidelity lost; a PSF wider than the well warns (Gaussian PSF: spectral/blur.ts)', () => {
+    const sharp = runExport(dir, { samples: 5, csv: false, out: join(dir, '..', 'psf-small'), force: false, psfUm: 0.05 });
+    const wide = runExport(dir, { samples: 5, csv: false, out: join(dir, '..', 'psf-wide'), force: false, psfUm: 2 });
+    const lost = (r: typeof sharp) => r.file.painted!.psf!.drives[0].lost;
+    expect(Number.isFinite(lost(sharp)) && Number.isFinite(lost(wide))).toBe(true);
+    // a 2 µm blur of a 1 µm well costs more fidelity than a 0.05 µm one
+    expect(lost(wide)).toBeGreaterThan(lost(sharp));
+    expect(lost(wide)).toBeGreaterThan(1e-3);
+    expect(wide.file.warnings.some((w) => /narrower than the optics resolve/.test(w))).toBe(true);
+    expect(sharp.file.warnings.some((w) => /narrower than the optics resolve/.test(w))).toBe(false);
+    expect(() => runExport(dir, { samples: 5, csv: false, out: join(dir, '..', 'psf-bad'), force: false, psfUm: -1 })).toThrow(/--psf-um = -1 is not allowed/);
   }, 120_000);
 });

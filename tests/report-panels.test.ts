@@ -37,6 +37,7 @@ function verifyFixture(over: Partial<VerifyFile> = {}): VerifyFile {
     classical: null,
     propagation: {},
     traces: { file: 'traces.npy', times: [], rows: [] },
+    painted: null,
     accepted: true,
     acceptance: '',
     seconds: 0,

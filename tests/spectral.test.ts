@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { ComplexFFT, RealFFT } from '../src/spectral/fft.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
 import { derivative, resample } from '../src/spectral/ops.ts';
+import { GaussianBlur } from '../src/spectral/blur.ts';
 
 /** direct O(N²) DFT: the definition X_k = Σ x_j e^{-2πijk/N} (any DSP text, e.g. Oppenheim & Schafer 2010, eq. 8.67) */
 function naiveDft(x: Float64Array): Float64Array {
@@ -109,5 +110,19 @@ describe('spectral derivatives', () => {
     for (let j = 0; j < 128; j++) expect(v[j]).toBeCloseTo(Math.cos((2 * Math.PI * 3 * j) / 128) + 0.5 * Math.sin((2 * Math.PI * 5 * j) / 128), 12);
     const w = resample(v, 64);
     for (let j = 0; j < 64; j++) expect(w[j]).toBeCloseTo(u[j], 12);
+  });
+});
+
+describe('Gaussian point-spread blur (spectral/blur.ts)', () => {
+  it('a Gaussian of 1/e² radius a blurred by a PSF of radius w is the Gaussian of radius √(a² + w²) with peak a/√(a² + w²), to 1e-12 (closed form: convolution of Gaussians)', () => {
+    const grid = makeGrid(40, 512);
+    const a = 1.5, w = 0.8;
+    const f = grid.x.map((x) => Math.exp((-2 * x * x) / (a * a)));
+    const out = new GaussianBlur(grid, w).apply(f, new Float64Array(grid.n));
+    const s2 = a * a + w * w;
+    let err = 0;
+    grid.x.forEach((x, j) => { err = Math.max(err, Math.abs(out[j] - (a / Math.sqrt(s2)) * Math.exp((-2 * x * x) / s2))); });
+    expect(err).toBeLessThan(1e-12);
+    expect(() => new GaussianBlur(grid, 0)).toThrow(/radius = 0 must be a finite number > 0/);
   });
 });

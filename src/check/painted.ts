@@ -10,11 +10,34 @@
  * u(ξ, λ) and θ(λ) are cubic Hermite interpolants in λ through the frames and their λ-derivatives (check/drive.ts
  * SequenceInterpolant: the given rates or Fornberg derivatives for u, Fornberg derivatives for θ), so ∂_λg is the
  * exact derivative of a C¹ interpolant and the painted potential is continuous in time.
+ *
+ * The fit sees g only through gψ_m of the occupied states: where they vanish, g is free (its Legendre terms grow
+ * towards the box edges) and its painted potential −λ̇²g²/4 − ½λ̈G… would be huge where no atom is. So g is confined
+ * to the states' support: g_w = χ g, ∂_λg_w = χ ∂_λg + g ∂_λχ, with χ a C^∞ step in log ρ_S of the fit's weighted
+ * density ρ_S = Σ w_m ψ_m² at the frames (0 below WINDOW_LOW·max ρ_S, 1 above WINDOW_HIGH·max ρ_S), cubic-Hermite
+ * interpolated in λ like θ. The states feel the change only where their density is below WINDOW_HIGH of its peak.
  */
 import type { Grid } from '../spectral/grid.ts';
-import type { VelocityField } from '../quantum/painted.ts';
+import { smoothStep, type VelocityField } from '../quantum/painted.ts';
 import { SequenceInterpolant } from './drive.ts';
-import { evaluateG, legendreTable, variationalFit, type VariationalFit, type VariationalOptions } from './variational.ts';
+import { evaluateG, legendreTable, subspaceOf, subspaceWeights, variationalFit, type VariationalFit, type VariationalOptions } from './variational.ts';
+
+/** the support window χ is 1 where the occupied density exceeds WINDOW_HIGH of its peak and 0 below WINDOW_LOW:
+ *  the fidelity the window can cost is of the order of the weight below WINDOW_HIGH (common practice) */
+export const WINDOW_HIGH = 1e-10;
+export const WINDOW_LOW = 1e-14;
+
+/** χ at one frame: the step in log₁₀ of the fit's weighted density (module doc) */
+function supportWindow(grid: Grid, u: Float64Array, opts: Omit<VariationalOptions, 'cubic'>, states: number): Float64Array {
+  const sub = subspaceOf(grid, u, states, opts.eigenMethod);
+  const w = subspaceWeights(sub.energies, opts.temperature);
+  const rho = new Float64Array(grid.n);
+  sub.vectors.forEach((v, m) => { for (let j = 0; j < grid.n; j++) rho[j] += w[m] * v[j] * v[j]; });
+  let peak = 0;
+  for (const r of rho) peak = Math.max(peak, r);
+  const lo = Math.log10(WINDOW_LOW), hi = Math.log10(WINDOW_HIGH);
+  return rho.map((r) => smoothStep((Math.log10(r / peak + 1e-300) - lo) / (hi - lo)));
+}
 
 export interface PaintedVariationalField extends VelocityField {
   /** the a = 0 fit at the frames */
@@ -31,9 +54,10 @@ export function paintedVariationalField(grid: Grid, lambda: readonly number[], f
   const sequence = new SequenceInterpolant(lambda, frames, rates);
   const fit = variationalFit(grid, lambda, frames, { ...opts, cubic: false }, sequence.rates);
   const theta = new SequenceInterpolant(lambda, fit.frames.map((f) => Float64Array.from(f.coefficients)));
+  const window = new SequenceInterpolant(lambda, frames.map((f) => supportWindow(grid, f, opts, fit.states)));
   const legendre = legendreTable(grid, fit.legendre);
   const n = grid.n;
-  const u = new Float64Array(n), uLambda = new Float64Array(n);
+  const u = new Float64Array(n), uLambda = new Float64Array(n), chi = new Float64Array(n), chiLambda = new Float64Array(n);
   const th = new Float64Array(fit.basis.length), thLambda = new Float64Array(fit.basis.length);
   return {
     grid, fit, sequence,
@@ -44,7 +68,13 @@ export function paintedVariationalField(grid: Grid, lambda: readonly number[], f
       theta.rateAt(l, thLambda);
       evaluateG(th, u, legendre, g);
       evaluateG(thLambda, u, legendre, gLambda);
-      for (let j = 0; j < n; j++) gLambda[j] += th[0] * uLambda[j];
+      window.at(l, chi);
+      window.rateAt(l, chiLambda);
+      for (let j = 0; j < n; j++) {
+        const gl = gLambda[j] + th[0] * uLambda[j];
+        gLambda[j] = chi[j] * gl + g[j] * chiLambda[j];
+        g[j] *= chi[j];
+      }
     },
   };
 }

@@ -79,6 +79,7 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .option('--rate <r>', 'hardware update rate, samples per time unit (kHz in lab units)')
     .option('--samples <n>', 'number of samples on [0, T], both ends included (instead of --rate)')
     .option('--csv', 'also write the potential and the ramp as CSV tables')
+    .option('--psf-um <w>', "blur the painted potentials by the optics' Gaussian point-spread function of 1/e² radius w (µm) and simulate the blurred protocol")
     .option('--out <dir>', 'output folder (default: the run folder itself)')
     .option('--force', 'overwrite an export already in the output folder')
     .option('--json', 'print the sidecar as JSON on stdout')

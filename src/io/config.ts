@@ -314,6 +314,11 @@ export const protocolSchema = strictSection(
 
 const TEMPERATURE_RULE = 'must be a number ≥ 0 (in E₀ natural, nK lab)';
 
+/** painted corrections verify can simulate (quantum/painted.ts): the best momentum-linear correction on the
+ *  occupied states, and the one-state exact correction of the ground state */
+export const PAINTED_KINDS = ['variational', 'ground'] as const;
+export type PaintedKind = (typeof PAINTED_KINDS)[number];
+
 export const verifySchema = strictSection(
   {
     states: intBetween(1, 200).optional(),
@@ -327,6 +332,7 @@ export const verifySchema = strictSection(
       .optional(),
     fermions: intBetween(1, 200).optional(),
     compare_classical: z.boolean({ error: 'must be true or false' }).default(false),
+    painted: z.array(oneOf(PAINTED_KINDS), { error: `must be a list of ${PAINTED_KINDS.join(', ')}` }).default([]),
   },
   'verify',
 );

@@ -19,8 +19,14 @@ import { EXPORT_FORMAT, recordedSettings, type ExportArray, type ExportFile } fr
 import { unitSystemOf } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { requireOneConfig, verifiedEntries, writeRun } from '../io/run-folder.ts';
-import { integrateFlow, naturalFlowEquation, type FlowEquation } from '../flow/kdv.ts';
-import { makeRamp, type Ramp } from '../protocol/ramp.ts';
+import { integrateFlow, naturalFlowEquation, type FlowEquation, type FlowRun } from '../flow/kdv.ts';
+import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
+import { GaussianBlur } from '../spectral/blur.ts';
+import { groundStateField, paintedDrive, type VelocityField } from '../quantum/painted.ts';
+import { emptyTerms } from '../quantum/hamiltonian.ts';
+import { verifySequence } from '../quantum/verify.ts';
+import type { VerifyFile } from '../io/formats/verify.ts';
+import { variationalFieldOf } from './verify.ts';
 import { drivePieces } from '../quantum/drive-pieces.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import type { UnitSystem } from '../units/scales.ts';
@@ -42,6 +48,11 @@ export const EXPORT_NPY = {
   velocity: 'export-velocity.npy',
 } as const;
 export const EXPORT_CSV = ['export-potential.csv', 'export-ramp.csv'] as const;
+/** the painted potentials' .npy files by drive (written when verify.json holds painted drives) */
+export const PAINTED_NPY = { painted: 'export-painted.npy', painted_ground: 'export-painted-ground.npy' } as const;
+/** blurring that changes a painted frame by more than this fraction of its range means features narrower than the
+ *  optics resolve (common practice: 1 % of the painted range) */
+export const PSF_CHANGE_WARN = 0.01;
 /** the largest rate or sample count accepted before the memory estimate (a guard against typos such as 1e12) */
 export const MAX_SAMPLES = 10_000_000;
 
@@ -51,6 +62,9 @@ export interface ExportOptions {
   /** number of samples on [0, T] (both ends included) */
   samples?: number;
   csv: boolean;
+  /** 1/e² radius (µm) of a Gaussian point-spread function blurring every painted frame (--psf-um) */
+  psfUm?: number;
+  onProgress?: (fraction: number, stage: string) => void;
   /** output folder (default: the design folder itself) */
   out?: string;
   force: boolean;
@@ -118,8 +132,10 @@ export interface LabSeries {
   velocity: Float64Array;
   /** [samples], τ′(s)·a: the k³ coefficient of the drive term in E₀ (k in 1/ℓ) */
   cubic: Float64Array;
-  /** the re-integrated frames at the stored λ, for the agreement check */
+  /** the re-integrated frames at the stored λ, for the agreement check, and the flow's dense output */
   frames: Float64Array[];
+  lambdas: number[];
+  dense: FlowRun['dense'];
 }
 
 /**
@@ -134,7 +150,7 @@ export function labSeries(input: LabSeriesInput): LabSeries {
   const m = times.length;
   const out: LabSeries = {
     lambda: new Float64Array(m), rate: new Float64Array(m), accel: new Float64Array(m),
-    potential: new Float64Array(m * n), velocity: new Float64Array(m * n), cubic: new Float64Array(m), frames: run.frames,
+    potential: new Float64Array(m * n), velocity: new Float64Array(m * n), cubic: new Float64Array(m), frames: run.frames, lambdas: run.lambdas, dense: run.dense,
   };
   const u = new Float64Array(n);
   const field = new Float64Array(n);
@@ -172,6 +188,8 @@ function requireSources(dir: string): void {
 export interface ExportResult {
   file: ExportFile;
   arrays: Record<keyof typeof EXPORT_NPY, { data: Float64Array; shape: number[] }>;
+  /** the painted potentials [samples × points] in the energy unit, by drive */
+  painted: Partial<Record<keyof typeof PAINTED_NPY, { data: Float64Array; shape: number[] }>>;
   csv: { name: string; text: string }[];
   figures: ReportFigure[];
   /** where the outputs go and the config hash of the sources */
@@ -182,8 +200,8 @@ export interface ExportResult {
 }
 
 /** the file names an export writes */
-export function exportProduces(csv: boolean, figures: readonly string[]): string[] {
-  return [...Object.values(EXPORT_NPY), ...(csv ? EXPORT_CSV : []), ...figures.map((f) => `${f}.svg`), EXPORT_JSON];
+export function exportProduces(csv: boolean, figures: readonly string[], painted: readonly (keyof typeof PAINTED_NPY)[] = []): string[] {
+  return [...Object.values(EXPORT_NPY), ...painted.map((d) => PAINTED_NPY[d]), ...(csv ? EXPORT_CSV : []), ...figures.map((f) => `${f}.svg`), EXPORT_JSON];
 }
 
 
@@ -219,8 +237,14 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   const [nF, n] = stored.shape;
   if (stored.shape.length !== 2 || nF !== seq.lambda.length || n !== seq.x.length) throw new UserError(`${join(dir, 'potential.npy')}: shape [${stored.shape.join(', ')}] does not match sequence.json (${seq.lambda.length} frames × ${seq.x.length} points)`);
   assertExportAffordable(sampling.times.length, n, opts.csv, sampling.option);
+  const paintedDrives = (verify.painted?.drives ?? []).map((d) => d.drive);
+  if (opts.psfUm !== undefined) {
+    if (!(Number.isFinite(opts.psfUm) && opts.psfUm > 0)) throw new UserError(`option --psf-um = ${opts.psfUm} is not allowed: must be a number > 0 (1/e² radius of the optics' point-spread function, µm)`);
+    if (L.length !== 'µm') throw new UserError(`option --psf-um needs a design in lab units (lengths in µm); this one is in ${L.length}`);
+    if (paintedDrives.length === 0) throw new UserError(`option --psf-um blurs the painted potentials, but ${join(dir, 'verify.json')} has none: add verify.painted (e.g. [ground]) to the config and run isotrap run again`);
+  }
   const outDir = opts.out ?? dir;
-  checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, EXPORT_FIGURE_IDS) });
+  checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, EXPORT_FIGURE_IDS, paintedDrives) });
 
   const grid = makeGrid(units.lengthToNatural(settings.grid.length), n);
   const u0 = Float64Array.from(stored.data.subarray(0, n), (v) => units.energyToNatural(v));
@@ -228,6 +252,9 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   const eq = naturalFlowEquation(settings.flow.dispersion, units.lengthToNatural(settings.flow.drift));
   const series = labSeries({ grid, eq, u0, tolerance: settings.flow.tolerance, frameLambdas: seq.lambda, ramp, t0: units.timeFromNatural(1), times: sampling.times });
   const agreement = framesAgreement(series.frames, stored.data, n, units);
+  const paintedOut = paintedDrives.length > 0
+    ? paintedPotentials({ grid, units, verify, seqConfig: seq.config, series, rampKind, duration, lambdaEnd, drift: eq.drift, times: sampling.times, psfUm: opts.psfUm, onProgress: opts.onProgress })
+    : null;
   const result = toLabUnits(series, { units, grid, sampling, seq: { x: seq.x, kappas: seq.solitons.predicted.map((p) => p.kappa) } });
   const file: ExportFile = {
     format: EXPORT_FORMAT,
@@ -243,15 +270,17 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
       frames_agreement: agreement,
       statement:
         `V(x, t_i) is the KdV flow integrated again from the first stored frame with the design's flow.tolerance = ${settings.flow.tolerance} ` +
-        '(local error per step relative to max|V(0)|, ETDRK4 with step doubling) and read at λ(t_i) from its dense output (cubic Hermite in λ between accepted steps); ' +
+        '(local error per step relative to max|V(0)|, embedded ETD5(3) pair) and read at λ(t_i) from its dense output (cubic Hermite in λ between accepted steps); ' +
         `at the stored frames it differs from potential.npy by ${agreement.toExponential(2)} of max|V(0)|`,
     },
+    painted: paintedOut?.section ?? null,
     seconds: 0,
-    warnings: [],
+    warnings: paintedOut?.warnings ?? [],
   };
+  if (paintedOut) Object.assign(file.arrays, paintedIndex(paintedDrives, sampling.times.length, n, L));
   file.seconds = (performance.now() - started) / 1000;
   const csv = opts.csv ? csvTables(result.arrays, seq.x, L) : [];
-  return { file, arrays: result.arrays, csv, figures: exportFigures(file, result.arrays), dir: outDir, configHash: entries[0].config_hash, sources: { dir, sha256: entries.map((e) => e.sha256) } };
+  return { file, arrays: result.arrays, painted: paintedOut?.arrays ?? {}, csv, figures: exportFigures(file, result.arrays, paintedOut?.arrays), dir: outDir, configHash: entries[0].config_hash, sources: { dir, sha256: entries.map((e) => e.sha256) } };
 }
 
 /** max over the stored frames of |re-integrated − stored|, relative to max|V(0)| */
@@ -353,7 +382,7 @@ function csvTables(a: ExportResult['arrays'], x: number[], L: UnitSystem['labels
 
 /** write the export as one run into its folder (locked, staged, manifest; io/run-folder.ts) */
 export function writeExportOutputs(r: ExportResult, force: boolean): string[] {
-  const produces = exportProduces(r.csv.length > 0, r.figures.map((f) => f.id));
+  const produces = exportProduces(r.csv.length > 0, r.figures.map((f) => f.id), Object.keys(r.painted) as (keyof typeof PAINTED_NPY)[]);
   const identity = { run: `${new Date().toISOString()}-${randomBytes(4).toString('hex')}`, configHash: r.configHash };
   return writeRun(r.dir, { force, produces, job: 'export', identity }, (out) => {
     // under the lock: the sources must still be the files that were read (no run committed in between)
@@ -364,8 +393,121 @@ export function writeExportOutputs(r: ExportResult, force: boolean): string[] {
       const a = r.arrays[key as keyof typeof EXPORT_NPY];
       out.write(name, encodeNpy(a.data, a.shape));
     }
+    for (const [key, name] of Object.entries(PAINTED_NPY)) {
+      const a = r.painted[key as keyof typeof PAINTED_NPY];
+      if (a) out.write(name, encodeNpy(a.data, a.shape));
+    }
     for (const c of r.csv) out.write(c.name, c.text);
     for (const f of r.figures) out.write(`${f.id}.svg`, f.svg);
     out.write(EXPORT_JSON, toJson(r.file, 1));
   });
+}
+
+/** what paintedPotentials needs */
+interface PaintedInput {
+  grid: Grid;
+  units: UnitSystem;
+  verify: VerifyFile;
+  seqConfig: Record<string, unknown>;
+  series: LabSeries;
+  rampKind: RampKind;
+  duration: number;
+  lambdaEnd: number;
+  drift: number;
+  times: Float64Array;
+  psfUm?: number;
+  onProgress?: (fraction: number, stage: string) => void;
+}
+
+/**
+ * The painted potentials V + V_loc of verify.json's painted drives on the lab-time samples (quantum/painted.ts, the
+ * same fields as verify: jobs/verify.ts variationalFieldOf, quantum/painted.ts groundStateField), their range
+ * against the starting trap, and with --psf-um the blurred potentials, the change the blur makes and the painted
+ * drives simulated blurred (quantum/verify.ts) against verify.json's unblurred fidelities.
+ */
+function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; section: NonNullable<ExportFile['painted']>; warnings: string[] } {
+  const { grid, units, verify, series, times } = p;
+  const n = grid.n, m = times.length;
+  const E = (x: number) => units.energyFromNatural(x);
+  const T = units.timeToNatural(p.duration);
+  const ramp = makeRamp(p.rampKind, T, p.lambdaEnd);
+  const potential = (l: number, out: Float64Array): Float64Array => series.dense.at(Math.min(Math.max(l, 0), p.lambdaEnd), out);
+  const occupied = verify.fermions?.count ?? Math.max(1, verify.bound_states);
+  const temperature = verify.thermal ? units.temperatureToNatural(verify.thermal.temperature) : undefined;
+  const blur = p.psfUm !== undefined ? new GaussianBlur(grid, units.lengthToNatural(p.psfUm)) : null;
+  const drives = (verify.painted?.drives ?? []).map((d) => d.drive);
+  const fields = new Map<string, VelocityField>();
+  const warnings: string[] = [];
+  const arrays: ExportResult['painted'] = {};
+  const entries: NonNullable<ExportFile['painted']>['drives'] = [];
+  const blurred = new Float64Array(n), terms = emptyTerms();
+  drives.forEach((drive, k) => {
+    p.onProgress?.(k / (drives.length + (blur ? 1 : 0)), `painted field ${drive}`);
+    const field = drive === 'painted_ground' ? groundStateField(grid, potential, 0, p.lambdaEnd) : variationalFieldOf(grid, { lambdas: series.lambdas, frames: series.frames, dense: series.dense }, occupied, temperature);
+    fields.set(drive, field);
+    const H = paintedDrive(grid, potential, field, ramp, 0, blur);
+    const raw = paintedDrive(grid, potential, field, ramp, 0, null);
+    const data = new Float64Array(m * n);
+    let lo = Infinity, hi = -Infinity, change = 0, changeAt = 0;
+    for (let i = 0; i < m; i++) {
+      const s = Math.min(units.timeToNatural(times[i]), T);
+      raw.terms(s, terms);
+      const v = terms.v as Float64Array;
+      let vlo = Infinity, vhi = -Infinity;
+      for (let j = 0; j < n; j++) { vlo = Math.min(vlo, v[j]); vhi = Math.max(vhi, v[j]); }
+      lo = Math.min(lo, vlo); hi = Math.max(hi, vhi);
+      if (blur) {
+        blurred.set(v);
+        blur.apply(blurred, blurred);
+        let d = 0;
+        for (let j = 0; j < n; j++) d = Math.max(d, Math.abs(blurred[j] - v[j]));
+        if (d / (vhi - vlo || 1) > change) { change = d / (vhi - vlo || 1); changeAt = times[i]; }
+        H.terms(s, terms);
+      }
+      const out = terms.v as Float64Array;
+      for (let j = 0; j < n; j++) data[i * n + j] = E(out[j]);
+    }
+    for (const v of data) if (!Number.isFinite(v)) throw new Error('internal error: a non-finite painted potential');
+    arrays[drive] = { data, shape: [m, n] };
+    entries.push({ drive, deepest: E(lo), highest: E(hi), psf_change: blur ? change : null, psf_change_at: blur ? changeAt : null });
+    if (blur && change > PSF_CHANGE_WARN) {
+      warnings.push(`${drive}: the painted potential has features narrower than the optics resolve: a point-spread function of ${p.psfUm} µm changes it by ${(100 * change).toPrecision(3)} % of its range (at t = ${changeAt.toPrecision(4)} ${units.labels.time}); the exported array is the blurred one`);
+    }
+  });
+  let start = { deepest: Infinity, highest: -Infinity };
+  for (let j = 0; j < n; j++) start = { deepest: Math.min(start.deepest, E(series.potential[j])), highest: Math.max(start.highest, E(series.potential[j])) };
+  let psf: NonNullable<ExportFile['painted']>['psf'] = null;
+  if (blur && p.psfUm !== undefined) {
+    p.onProgress?.(drives.length / (drives.length + 1), 'blurred painted drives');
+    const verifyConfig = (p.seqConfig.verify ?? {}) as { tolerance?: number };
+    const res = verifySequence({
+      grid, potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: T, drift: p.drift, states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
+      drives, paintedField: fields.get('painted'), blur: units.lengthToNatural(p.psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
+    });
+    psf = {
+      radius: p.psfUm,
+      unit: 'µm',
+      rule: 'Gaussian point-spread function of 1/e² intensity radius w, Fourier multiplier exp(−k²w²/8), applied to the whole painted potential V + V_loc at every time (spectral/blur.ts)',
+      drives: res.drives.map((d) => {
+        const unblurred = verify.painted?.drives.find((x) => x.drive === d.drive)?.fidelity ?? [];
+        return { drive: d.drive, fidelity: d.fidelity, fidelity_unblurred: unblurred, lost: Math.max(0, ...d.fidelity.map((f, i) => (unblurred[i] ?? f) - f)) };
+      }),
+    };
+  }
+  return {
+    arrays,
+    warnings,
+    section: {
+      meaning: 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json; with --psf-um the blurred potential the optics would make',
+      drives: entries,
+      start,
+      psf,
+    },
+  };
+}
+
+/** the sidecar's entries of the painted arrays */
+function paintedIndex(drives: readonly (keyof typeof PAINTED_NPY)[], m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
+  const what = { painted: 'the best momentum-linear correction ½{g, p} painted as a potential', painted_ground: 'the one-state exact correction of the ground state painted as a potential' };
+  return Object.fromEntries(drives.map((d) => [d, { file: PAINTED_NPY[d], shape: [m, n], axes: [`time sample t_i (${m})`, `position x_j (${n})`], unit: L.energy, meaning: `V(x_j, t_i) + V_loc(x_j, t_i) of ${what[d]}: the trap to program instead of V and the correction` }]));
 }

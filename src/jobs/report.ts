@@ -25,7 +25,7 @@ import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
 import { exportFigures, exportSummaryRows, type ExportSeries } from '../report/panels/export.ts';
 import { readExportFile, type ExportFile } from '../io/formats/export.ts';
-import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY } from './export.ts';
+import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY, PAINTED_NPY } from './export.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
 /** the compare.json content the compare figures read */
@@ -57,7 +57,7 @@ export interface ReportOptions {
 
 /** the files of a finished output folder that the report reads */
 interface OutputFolder {
-  exported: { file: ExportFile; series: ExportSeries } | null;
+  exported: { file: ExportFile; series: ExportSeries; painted: Partial<Record<'painted' | 'painted_ground', FrameArray>> } | null;
   seq: SequenceFile;
   potential: FrameArray;
   verify: VerifyFile | null;
@@ -80,7 +80,7 @@ function readFolder(dir: string): OutputFolder {
   const hasVerify = existsSync(join(dir, 'verify.json'));
   // every file read must be the one its run recorded, and all of one configuration (io/run-folder.ts)
   const hasExport = hasVerify && existsSync(join(dir, EXPORT_JSON));
-  const sources = readSources(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : []), ...(hasExport ? [EXPORT_JSON, ...EXPORT_FIGURE_ARRAYS.map((k) => EXPORT_NPY[k])] : [])].filter((f) => existsSync(join(dir, f))));
+  const sources = readSources(dir, ['sequence.json', 'potential.npy', ...(hasVerify ? ['verify.json', 'traces.npy'] : []), ...(hasExport ? [EXPORT_JSON, ...EXPORT_FIGURE_ARRAYS.map((k) => EXPORT_NPY[k]), ...Object.values(PAINTED_NPY)] : [])].filter((f) => existsSync(join(dir, f))));
   const seq = readSequenceFile(join(dir, 'sequence.json'));
   const potential = readNpyFile(join(dir, 'potential.npy'));
   if (!hasVerify) return { seq, potential, verify: null, traces: null, sources, exported: null };
@@ -95,13 +95,14 @@ function readFolder(dir: string): OutputFolder {
 }
 
 /** the arrays of the export figures (report/panels/export.ts) */
-const EXPORT_FIGURE_ARRAYS = ['t', 'lambda', 'lambda_rate', 'cubic', 'velocity'] as const;
+const EXPORT_FIGURE_ARRAYS = ['x', 't', 'lambda', 'lambda_rate', 'cubic', 'velocity'] as const;
 
 /** export.json and the arrays its figures read, by the names the sidecar gives */
-function readExport(dir: string): { file: ExportFile; series: ExportSeries } {
+function readExport(dir: string): { file: ExportFile; series: ExportSeries; painted: Partial<Record<'painted' | 'painted_ground', FrameArray>> } {
   const file = readExportFile(join(dir, EXPORT_JSON));
   const read = (k: (typeof EXPORT_FIGURE_ARRAYS)[number]) => readNpyFile(join(dir, EXPORT_NPY[k]));
-  return { file, series: { t: read('t'), lambda: read('lambda'), lambda_rate: read('lambda_rate'), cubic: read('cubic'), velocity: read('velocity') } };
+  const painted = Object.fromEntries((['painted', 'painted_ground'] as const).filter((d) => file.arrays[d]).map((d) => [d, readNpyFile(join(dir, PAINTED_NPY[d]))]));
+  return { file, series: { x: read('x'), t: read('t'), lambda: read('lambda'), lambda_rate: read('lambda_rate'), cubic: read('cubic'), velocity: read('velocity') }, painted };
 }
 
 function folderFigures(f: OutputFolder, size: FigureSize): ReportFigure[] {
@@ -111,7 +112,7 @@ function folderFigures(f: OutputFolder, size: FigureSize): ReportFigure[] {
     if (lab) figures.push(lab);
     figures.push(...verifyFigures(f.verify, f.traces, size));
   }
-  if (f.exported) figures.push(...exportFigures(f.exported.file, f.exported.series, size));
+  if (f.exported) figures.push(...exportFigures(f.exported.file, f.exported.series, f.exported.painted, size));
   return figures;
 }
 

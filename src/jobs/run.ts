@@ -42,7 +42,9 @@ export function runPipeline(config: Config, opts: PipelineOptions): PipelineResu
   // the whole pipeline's cost is judged before the design starts
   const context = makeContext(config);
   assertDesignAffordable(config, context, true);
-  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
+  // a painted drive costs about a corrected one, and its gauge check propagates the bound states once more
+  const painted = config.verify?.painted.length ?? 0;
+  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES, { corrected: 1 + 2 * painted, bare: 1 });
   const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end), context });
   if (!design.summary.complete) {
     writeDesignOutputs(design, opts.dir, opts.force, identity);

@@ -14,12 +14,32 @@ import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
 import type { VerifyFile } from '../io/formats/verify.ts';
 import { configIdentity, writeRun } from '../io/run-folder.ts';
+import type { PaintedKind } from '../io/config.ts';
+import { paintedVariationalField } from '../check/painted.ts';
+import { assertPaintableRamp, CLIP_FLOOR, RampNotPaintableError, type VelocityField } from '../quantum/painted.ts';
+import { makeRamp } from '../protocol/ramp.ts';
+import type { Grid } from '../spectral/grid.ts';
+import type { FlowRun } from '../flow/kdv.ts';
+import type { PaintedSection } from '../io/formats/verify.ts';
 export type { VerifyFile };
 
 export const VERIFY_FILES = ['verify.json', 'traces.npy'] as const;
 /** a design verifies when every tracked state keeps fidelity ≥ 1 − this with the correction (common practice:
  * well above the default time-stepping budget 1e-8, well below any physically visible loss) */
 export const ACCEPT_INFIDELITY = 1e-6;
+/** design frames the variational painted field is fitted at (evenly spread, both ends included): θ(λ) is smooth
+ *  and cubic-Hermite interpolated between them, and each costs an eigen-solve of the subspace (common practice) */
+export const PAINTED_FIT_FRAMES = 11;
+/** the gauge check passes when the painted and the ½{g, p} drive's fidelities differ by at most this factor times
+ *  √tolerance: each final state is within √tolerance of the exact one, and a fidelity moves by at most twice a
+ *  state's error (common practice) */
+export const GAUGE_BUDGET_FACTOR = 2;
+const PAINTED_DRIVE: Record<PaintedKind, 'painted' | 'painted_ground'> = { variational: 'painted', ground: 'painted_ground' };
+const PAINTED_MEANING: Record<PaintedKind, string> = {
+  variational: 'the best momentum-linear correction ½{g, p} on the occupied states (variational fit without p³, check/painted.ts), simulated as the pure potential V + V_loc',
+  ground: 'the one-state exact correction of the ground state (continuity field of its adiabatic density), simulated as the pure potential V + V_loc',
+};
+
 /** fidelity-trace samples per drive (each costs one eigen-solve) */
 export const TRACE_SAMPLES = 10;
 
@@ -56,7 +76,7 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
-  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false };
+  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [] };
   return {
     protocol: config.protocol,
     verify: v,
@@ -210,12 +230,28 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
       ]),
     ),
     traces: { file: 'traces.npy', times: parts.traces.times, rows: parts.traces.rows },
+    painted: null,
     accepted,
     acceptance: acceptanceText(accepted, cd.minFidelity),
     seconds: 0,
     warnings: [...natural.warnings],
     summary_rows: [],
   };
+}
+
+/** the painted drives' rows: ground-state fidelity, worst infidelity, the painted potential's range, the gauge check */
+function paintedRows(file: VerifyFile): SummaryRow[] {
+  const p = file.painted;
+  if (!p) return [];
+  const E = file.units.energy;
+  const name = (d: string) => (d === 'painted' ? 'painted, best ½{g,p}' : 'painted, ground state exact');
+  return [
+    ...p.drives.flatMap((d) => [
+      { key: `${name(d.drive)}: ground-state fidelity / worst infidelity 1 − F`, value: `${d.fidelity[0].toPrecision(10)} / ${(1 - d.min_fidelity).toExponential(3)}` },
+      { key: `${name(d.drive)}: painted potential lowest … highest (start ${p.start.deepest.toPrecision(4)} … ${p.start.highest.toPrecision(4)})`, value: `${d.deepest.toPrecision(4)} … ${d.highest.toPrecision(4)}`, unit: E },
+    ]),
+    ...p.gauge_check.map((g) => ({ key: `gauge check ${name(g.drive)}: painted vs ½{g,p} drive, ${g.states} bound state(s)`, value: `${g.max_difference.toExponential(2)} (budget ${g.budget.toExponential(1)}: ${g.passed ? 'passed' : 'FAILED'})` })),
+  ];
 }
 
 /** the rows of the report's summary table */
@@ -234,6 +270,7 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
     ...(file.fermions ? [{ key: `Fermi sea (${file.fermions.count} fermions): fidelity with / without`, value: `${file.fermions.fidelity_cd.toPrecision(10)} / ${file.fermions.fidelity_bare.toPrecision(6)}` }] : []),
     { key: 'correction out of the occupied states, max |λ̇|‖(1 − P)AP‖ (p³ / potential part alone)', value: `${file.cd_strength.max_leakage.toPrecision(4)} (${file.cd_strength.max_leakage_cubic.toPrecision(4)} / ${file.cd_strength.max_leakage_potential.toPrecision(4)})`, unit: file.units.energy },
     { key: 'largest single transition element |λ̇⟨m|A|n⟩|', value: file.cd_strength.max_window.toPrecision(4), unit: file.units.energy },
+    ...paintedRows(file),
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
@@ -248,6 +285,9 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
   const input = verifyInput(config, design);
   const { units, grid } = design.ctx;
   const dense = design.run.dense;
+  const painted = input.verify.painted;
+  const paintedField = painted.includes('variational') ? variationalField(config, design, input) : undefined;
+  if (painted.length > 0) paintableRamp(config, input);
   const natural = withStateCountKeys(config, () => verifySequence({
     grid,
     potential: (l, out) => dense.at(Math.min(Math.max(l, 0), input.lambdaEnd), out),
@@ -259,19 +299,91 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     tol: input.verify.tolerance,
     temperature: input.temperature,
     fermions: input.verify.fermions,
-    drives: ['cd', 'bare'],
+    drives: ['cd', 'bare', ...painted.map((k) => PAINTED_DRIVE[k])],
+    paintedField,
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
     onProgress: opts.onProgress,
   }));
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
-  const traces = traceTable(natural, [driveOf(natural, 'cd'), driveOf(natural, 'bare')], (s) => units.timeFromNatural(s));
+  const traces = traceTable(natural, natural.drives, (s) => units.timeFromNatural(s));
   const file = verifyFile(design, input, natural, { classical, traces });
+  file.painted = paintedSection(natural, painted, input, units);
+  for (const g of file.painted?.gauge_check ?? []) {
+    if (!g.passed) file.warnings.push(`gauge check of ${g.drive}: the painted potential and the ½{g, p} drive end ${g.max_difference.toExponential(2)} apart in fidelity, above the time-stepping budget ${g.budget.toExponential(2)}`);
+  }
+  for (const d of file.painted?.drives ?? []) {
+    const start = -(file.painted?.start.deepest ?? 0);
+    if (start > 0 && -d.deepest > start) file.warnings.push(`${d.drive}: the painted potential reaches ${d.deepest.toPrecision(4)} ${units.labels.energy}, ${(-d.deepest / start).toPrecision(3)} times the starting depth (${(-start).toPrecision(4)} ${units.labels.energy}): the laser power must allow it`);
+  }
+  if (file.painted && config.budget?.depth !== undefined) {
+    for (const d of file.painted.drives) {
+      if (-d.deepest > config.budget.depth) file.warnings.push(`${d.drive}: the painted potential reaches ${d.deepest.toPrecision(4)} ${units.labels.energy}, deeper than budget.depth = ${config.budget.depth} ${units.labels.energy}`);
+    }
+  }
   file.seconds = (performance.now() - started) / 1000;
   file.summary_rows = summaryRows(file, natural);
   for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare])]) {
     if (!Number.isFinite(x)) throw new Error('internal error: a non-finite verify result');
   }
   return { config, file, traces: { data: traces.data, shape: traces.shape }, natural };
+}
+
+/** the ramp must have λ̇ = λ̈ = 0 at both ends for a painted drive: refused naming protocol.ramp otherwise */
+function paintableRamp(config: Config, input: VerifyInput): void {
+  try {
+    assertPaintableRamp(makeRamp(input.protocol.ramp, input.duration, input.lambdaEnd));
+  } catch (err) {
+    if (err instanceof RampNotPaintableError) {
+      throw new UserError(`${config.meta.source}: protocol.ramp = ${err.ramp} is not allowed with verify.painted = [${input.verify.painted.join(', ')}]: ${err.reason}; a painted correction ends in the corrected state only when λ̇ = λ̈ = 0 at both ends (allowed: sin2, smooth), or leave verify.painted out`);
+    }
+    throw err;
+  }
+}
+
+function variationalField(config: Config, design: DesignResult, input: VerifyInput): VelocityField {
+  const occupied = input.verify.fermions ?? Math.max(1, design.bound.energies.length);
+  return variationalFieldOf(design.ctx.grid, design.run, occupied, input.temperature);
+}
+
+/** the variational ½{g, p} of a designed flow (check/painted.ts) on PAINTED_FIT_FRAMES of its frames with the
+ *  flow's exact rates ∂_λV, fitted on the lowest `occupied` states (verify.fermions, else the bound states), with
+ *  Boltzmann weights at `temperature` (E₀) when given; the one rule verify and export share */
+export function variationalFieldOf(grid: Grid, run: Pick<FlowRun, 'lambdas' | 'frames' | 'dense'>, occupied: number, temperature: number | undefined): VelocityField {
+  const { lambdas, frames, dense } = run;
+  const count = Math.min(PAINTED_FIT_FRAMES, lambdas.length);
+  const picks = [...new Set(Array.from({ length: count }, (_, i) => Math.round((i * (lambdas.length - 1)) / (count - 1))))];
+  const rates = picks.map((i) => dense.rateAt(lambdas[i], new Float64Array(grid.n)));
+  return paintedVariationalField(grid, picks.map((i) => lambdas[i]), picks.map((i) => frames[i]), { states: occupied, temperature }, rates);
+}
+
+/** the painted section of verify.json in the config's units */
+function paintedSection(natural: VerifyResult, kinds: readonly PaintedKind[], input: VerifyInput, units: UnitSystem): PaintedSection | null {
+  const info = natural.painted;
+  if (!info || kinds.length === 0) return null;
+  const E = (x: number) => units.energyFromNatural(x);
+  const tol = input.verify.tolerance;
+  return {
+    definition: 'each painted drive is the pure potential V(x, λ(t)) + V_loc(x, t) with no momentum term, V_loc = −(m/2)w² − m∂_tW of its velocity field w (physics.md §7); fidelities in the eigenspaces of H(λ_end) as for the other drives',
+    drives: kinds.map((k) => {
+      const d = driveOf(natural, PAINTED_DRIVE[k]);
+      const range = d.paintedRange ?? { min: NaN, max: NaN };
+      return {
+        drive: PAINTED_DRIVE[k], kind: k, meaning: PAINTED_MEANING[k], fidelity: d.fidelity, excess: d.excessEnergy.map(E), min_fidelity: d.minFidelity,
+        thermal_fidelity: d.thermal?.ensembleFidelity ?? null, fermion_fidelity: d.fermions?.manyBodyFidelity ?? null, deepest: E(range.min), highest: E(range.max),
+      };
+    }),
+    start: { deepest: E(info.startRange.min), highest: E(info.startRange.max) },
+    ground_clip: info.ground
+      ? {
+          clip_density: units.lengthToNatural(info.ground.clipDensity), unit: `1/${units.labels.length}`, clipped_weight: info.ground.clippedWeight, chebyshev_degree: info.ground.degree,
+          rule: `where the adiabatic density ρ falls below ρ_c = ${CLIP_FLOOR}·max ρ the velocity field −J/ρ is replaced by −Jρ/(ρ² + ρ_c²), which goes smoothly to zero (a flat painted correction there); clipped_weight is the ground state's weight where the clip acts, about the fidelity it costs`,
+        }
+      : null,
+    gauge_check: info.gauge.map((g) => {
+      const budget = GAUGE_BUDGET_FACTOR * Math.sqrt(tol);
+      return { drive: g.drive, states: g.states, painted: g.painted, velocity: g.velocity, max_difference: g.maxDifference, budget, passed: g.maxDifference <= budget };
+    }),
+  };
 }
 
 export function writeVerifyOutputs(result: VerifyJobResult, dir: string, force: boolean, identity = configIdentity(result.config)): string[] {

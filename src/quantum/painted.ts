@@ -31,10 +31,11 @@
 import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { cumulativeIntegral } from '../spectral/cumulative.ts';
+import type { GaussianBlur } from '../spectral/blur.ts';
 import { ChebyshevSeries, chebyshevPoints } from '../spectral/chebyshev.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import type { Ramp } from '../protocol/ramp.ts';
-import { groupDegenerate, lowestEigenpairs, type EigenMethod } from './eigen.ts';
+import { groundStateNear, groupDegenerate, lowestEigenpairs, type EigenMethod } from './eigen.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import { eigenspaceFidelity, groupOf } from './observables.ts';
 import { propagate, type DrivenHamiltonian, type PotentialFn, type PropagateOptions } from './propagator.ts';
@@ -83,6 +84,58 @@ export function assertPaintableRamp(ramp: Ramp): void {
   }
 }
 
+/** the seam of the periodic box is closed in the outer band SEAM_START < |ξ|/(L/2) < 1: g is tapered to zero from
+ *  SEAM_START to SEAM_END and its integral is returned by a bump beyond SEAM_END, where the design keeps the trap
+ *  away (jobs/context.ts refuses potentials that reach the box edge) */
+export const SEAM_START = 0.8;
+export const SEAM_END = 0.9;
+
+/** C^∞ step: 0 for t ≤ 0, 1 for t ≥ 1, e^{−1/t}/(e^{−1/t} + e^{−1/(1−t)}) between (common practice) */
+export function smoothStep(t: number): number {
+  if (t <= 0) return 0;
+  if (t >= 1) return 1;
+  const a = Math.exp(-1 / t), b = Math.exp(-1 / (1 - t));
+  return a / (a + b);
+}
+
+/**
+ * A field made periodic on the box: g̃ = χg − (∫χg / ∫β) β with χ the smooth taper (1 inside SEAM_START, 0 beyond
+ * SEAM_END) and β a smooth bump in the outermost band. Then ∫g̃ = 0, so G̃ = ∫g̃ and with it the gauge W = λ̇G̃
+ * and V_loc are smooth and periodic: without this a field with ∫g ≠ 0 (any transport or asymmetric split) leaves a
+ * step in V_loc at the seam, which the Schrödinger time stepping cannot resolve (order reduction of the
+ * exponential integrator). g̃ = g wherever |ξ| < SEAM_START·L/2, so states that vanish in the band see the same
+ * correction; ∂_λg̃ follows by the same linear map. The integrals are those of cumulativeIntegral plus the closing
+ * interval, so ∫g̃ vanishes in the rule V_loc is built with.
+ */
+export function seamlessField(field: VelocityField): VelocityField {
+  const { grid } = field;
+  const n = grid.n;
+  const half = grid.length / 2;
+  const chi = new Float64Array(n), beta = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    const r = Math.abs(grid.x[j]) / half;
+    chi[j] = 1 - smoothStep((r - SEAM_START) / (SEAM_END - SEAM_START));
+    const d = (1 - r) / (1 - SEAM_END);
+    beta[j] = d < 1 ? Math.exp(-1 / (1 - d * d)) : 0;
+  }
+  const acc = new Float64Array(n);
+  const total = (f: Float64Array): number => cumulativeIntegral(f, grid.dx, acc)[n - 1] + 0.5 * (f[n - 1] + f[0]) * grid.dx;
+  const betaTotal = total(beta);
+  const close = (f: Float64Array): void => {
+    for (let j = 0; j < n; j++) f[j] *= chi[j];
+    const c = total(f) / betaTotal;
+    for (let j = 0; j < n; j++) f[j] -= c * beta[j];
+  };
+  return {
+    grid,
+    at(lambda: number, g: Float64Array, gLambda: Float64Array): void {
+      field.at(lambda, g, gLambda);
+      close(g);
+      close(gLambda);
+    },
+  };
+}
+
 /** a velocity field g(ξ, λ) of the correction λ̇·½{g, k} with its λ-derivative, on a grid */
 export interface VelocityField {
   readonly grid: Grid;
@@ -118,11 +171,14 @@ export function localPotential(grid: Grid, g: Float64Array, gLambda: Float64Arra
 }
 
 /**
- * The painted drive: a pure potential k² + u(λ(s)) + V_loc(s) with λ = λ₀ + ramp(s) (no momentum terms). Refuses
+ * The painted drive: a pure potential k² + u(λ(s)) + V_loc(s) with λ = λ₀ + ramp(s) (no momentum terms), V_loc of
+ * the field closed at the box seam (seamlessField); with `blur`, the whole painted potential is blurred by the
+ * optics' point-spread function (spectral/blur.ts) at every time, as a lab's projection would. Refuses
  * a ramp without λ̇ = λ̈ = 0 at both ends (assertPaintableRamp).
  */
-export function paintedDrive(grid: Grid, potential: PotentialFn, field: VelocityField, ramp: Ramp, lambda0 = 0): DrivenHamiltonian {
+export function paintedDrive(grid: Grid, potential: PotentialFn, raw: VelocityField, ramp: Ramp, lambda0 = 0, blur: GaussianBlur | null = null): DrivenHamiltonian {
   assertPaintableRamp(ramp);
+  const field = seamlessField(raw);
   const n = grid.n;
   const u = new Float64Array(n), g = new Float64Array(n), gl = new Float64Array(n), vloc = new Float64Array(n);
   const scratch = localPotentialScratch(n);
@@ -137,13 +193,15 @@ export function paintedDrive(grid: Grid, potential: PotentialFn, field: Velocity
         localPotential(grid, g, gl, rate, accel, vloc, scratch);
         for (let j = 0; j < n; j++) u[j] += vloc[j];
       }
+      if (blur) blur.apply(u, u);
       out.c1 = 0; out.c2 = 1; out.c3 = 0; out.v = u; out.w = null; out.b = 0;
     },
   };
 }
 
-/** the momentum-linear drive k² + u(λ(s)) + λ̇ ½{g, k} of the same field (the gauge partner of paintedDrive) */
-export function velocityDrive(grid: Grid, potential: PotentialFn, field: VelocityField, ramp: Ramp, lambda0 = 0): DrivenHamiltonian {
+/** the momentum-linear drive k² + u(λ(s)) + λ̇ ½{g̃, k} of the same seam-closed field (the gauge partner of paintedDrive) */
+export function velocityDrive(grid: Grid, potential: PotentialFn, raw: VelocityField, ramp: Ramp, lambda0 = 0): DrivenHamiltonian {
+  const field = seamlessField(raw);
   const n = grid.n;
   const u = new Float64Array(n), g = new Float64Array(n), gl = new Float64Array(n);
   return {
@@ -180,28 +238,34 @@ export interface GroundStateField extends VelocityField {
   clippedWeight: number;
 }
 
-/** ρ = ψ²/dx of the ground state of u (a density per unit length) */
-function groundDensity(grid: Grid, u: Float64Array, method?: EigenMethod): Float64Array {
-  const psi = lowestEigenpairs(grid, u, 1, { method }).vectors[0];
+/** ρ = ψ²/dx of a unit ground-state vector ψ (a density per unit length) */
+function densityOf(grid: Grid, psi: Float64Array): Float64Array {
   return Float64Array.from(psi, (v) => (v * v) / grid.dx);
 }
 
-/** Chebyshev interpolant in λ of the ground-state density, doubled until its tail meets CHEBYSHEV_TAIL */
+/**
+ * Chebyshev interpolant in λ of the ground-state density, doubled until its tail meets CHEBYSHEV_TAIL. The points
+ * run monotonically in λ and each new one lies beside a solved one, so every state after the first is found from
+ * its neighbour's (eigen.ts groundStateNear).
+ */
 function densitySeries(grid: Grid, potential: PotentialFn, a: number, b: number, method?: EigenMethod): { series: ChebyshevSeries; samples: Float64Array[] } {
   const u = new Float64Array(grid.n);
-  const sample = (lambda: number): Float64Array => {
+  const solve = (lambda: number, guess: Float64Array | null): Float64Array => {
     potential(lambda, u);
-    return groundDensity(grid, u, method);
+    return guess ? groundStateNear(grid, u, guess).vector : lowestEigenpairs(grid, u, 1, { method }).vectors[0];
   };
-  let samples = chebyshevPoints(a, b, CHEBYSHEV_START).map(sample);
+  let states: Float64Array[] = [];
+  for (const l of chebyshevPoints(a, b, CHEBYSHEV_START)) states.push(solve(l, states[states.length - 1] ?? null));
   for (let n = CHEBYSHEV_START; ; n *= 2) {
+    const samples = states.map((psi) => densityOf(grid, psi));
     const series = ChebyshevSeries.fromSamples(a, b, samples);
     let maxRho = 0;
     for (const r of samples) for (const v of r) maxRho = Math.max(maxRho, v);
     if (series.tail() <= CHEBYSHEV_TAIL * maxRho) return { series, samples };
     if (2 * n > CHEBYSHEV_MAX) throw new NumericalError(`painted ground state: the density's Chebyshev interpolant in λ on [${a}, ${b}] did not converge by degree ${n} (tail ${series.tail() / maxRho} of max ρ, budget ${CHEBYSHEV_TAIL}); the ground state changes too abruptly (a near-degenerate level?)`);
     const pts = chebyshevPoints(a, b, 2 * n);
-    samples = pts.map((l, i) => (i % 2 === 0 ? samples[i / 2] : sample(l)));
+    const old = states;
+    states = pts.map((l, i) => (i % 2 === 0 ? old[i / 2] : solve(l, old[(i - 1) / 2])));
   }
 }
 

@@ -14,10 +14,19 @@ import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, gr
 import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
+import { GaussianBlur } from '../spectral/blur.ts';
+import { groundStateField, paintedDrive, velocityDrive, type VelocityField } from './painted.ts';
+import type { OperatorTerms } from './hamiltonian.ts';
+import type { DrivenHamiltonian } from './scheme.ts';
 import { eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP } from './cost.ts';
 
-export type DriveKind = 'cd' | 'bare' | 'flipped';
-export const DRIVE_SIGMA: Record<DriveKind, number> = { cd: 1, bare: 0, flipped: -1 };
+/** drives of the KdV Hamiltonian H + σλ̇A (cd σ = 1, bare σ = 0, flipped σ = −1) and the painted drives, pure
+ *  potentials k² + u + V_loc (painted.ts): `painted` from the caller's momentum-linear field, `painted_ground` from
+ *  the one-state exact field of the ground state */
+export type DriveKind = 'cd' | 'bare' | 'flipped' | 'painted' | 'painted_ground';
+export const DRIVE_SIGMA: Record<'cd' | 'bare' | 'flipped', number> = { cd: 1, bare: 0, flipped: -1 };
+export const DRIVE_KINDS: readonly DriveKind[] = ['cd', 'bare', 'flipped', 'painted', 'painted_ground'];
+const isPainted = (d: DriveKind): d is 'painted' | 'painted_ground' => d === 'painted' || d === 'painted_ground';
 
 /** levels closer than this (E₀) count as degenerate (the ±k pairs agree to round-off, ~1e-12) */
 const DEGENERACY_TOL_DEFAULT = 1e-7;
@@ -52,6 +61,13 @@ export interface VerifyOptions {
    *  at the initial states and ends at the reported final fidelities (0 = none; each interior one costs an eigen-solve) */
   traceSamples?: number;
   strengthSamples?: number;
+  /** the momentum-linear field of the `painted` drive (e.g. the variational ½{g, k} of check/painted.ts) */
+  paintedField?: VelocityField;
+  /** 1/e² radius (ℓ) of a Gaussian point-spread function that blurs every painted potential (spectral/blur.ts) */
+  blur?: number;
+  /** propagate the bound states also under each painted drive's momentum-linear partner λ̇½{g, k} and compare the
+   *  final fidelities (the gauge check of physics.md §7; default true when a painted drive runs) */
+  gaugeCheck?: boolean;
   onProgress?: (fraction: number, stage: string) => void;
 }
 
@@ -73,6 +89,27 @@ export interface DriveResult {
   normDrift: number;
   stats: PropagationStats;
   trace: { times: number[]; fidelity: number[][] } | null;
+  /** painted drives: lowest and highest value of the painted potential k² + u + V_loc over every evaluated time
+   *  (E₀), null for the KdV drives */
+  paintedRange: { min: number; max: number } | null;
+}
+
+/** the gauge check of one painted drive: bound states under the painted potential and under λ̇½{g, k} */
+export interface GaugeCheckResult {
+  drive: 'painted' | 'painted_ground';
+  states: number;
+  painted: number[];
+  velocity: number[];
+  maxDifference: number;
+}
+
+/** what the painted drives need beyond the KdV ones */
+export interface PaintedInfo {
+  /** the ground-state field's clip: ρ_c (ℓ⁻¹), the state's weight where it acts, the Chebyshev degree in λ */
+  ground: { clipDensity: number; clippedWeight: number; degree: number } | null;
+  gauge: GaugeCheckResult[];
+  /** lowest and highest value of the first frame u(ξ, 0), the reference of the painted range */
+  startRange: { min: number; max: number };
 }
 
 /**
@@ -102,6 +139,7 @@ export interface VerifyResult {
   eigen: { method: string; detail: string; maxResidual: number; residualTol: number; wallMs: number };
   drives: DriveResult[];
   cdStrength: CdStrength | null;
+  painted: PaintedInfo | null;
   timings: { eigenMs: number; propagationMs: number; totalMs: number };
   warnings: string[];
 }
@@ -183,6 +221,8 @@ interface DriveContext {
   meter: WorkMeter;
   /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
   expectedSteps: { corrected: number; bare: number };
+  /** the fields of the painted drives */
+  fields: Partial<Record<'painted' | 'painted_ground', VelocityField>>;
 }
 
 /**
@@ -190,25 +230,28 @@ interface DriveContext {
  * each drive its own estimate (`driveWork`); within a drive the propagator's fraction counts. The fraction never
  * goes back and reaches 1 only at the end.
  */
+/** a piece of propagation work: a drive, or the gauge check of a painted one */
+type WorkKey = DriveKind | `gauge:${'painted' | 'painted_ground'}`;
+
 class WorkMeter {
   private done = 0;
   private drive = 0;
   private inDrive = 0;
   private shown = 0;
-  constructor(private readonly total: number, readonly eigen: number, readonly driveWork: (drive: DriveKind) => number, private readonly report: (fraction: number, stage: string) => void) {}
+  constructor(private readonly total: number, readonly eigen: number, readonly driveWork: (drive: WorkKey) => number, private readonly report: (fraction: number, stage: string) => void) {}
   /** a finished piece of work */
   add(work: number, stage: string): void {
     this.done += work;
     this.show(stage);
   }
   /** fraction f of the running drive */
-  driveAt(drive: DriveKind, f: number): void {
+  driveAt(drive: WorkKey, f: number): void {
     this.drive = this.driveWork(drive);
     this.inDrive = Math.max(this.inDrive, f);
     this.show(drive);
   }
   /** the running drive is finished */
-  driveDone(drive: DriveKind): void {
+  driveDone(drive: WorkKey): void {
     this.inDrive = 0;
     this.add(this.driveWork(drive), drive);
   }
@@ -222,17 +265,20 @@ class WorkMeter {
 function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; strength: CdStrength | null } {
   const { opts, ramp, spectra, warnings } = ctx;
   const { grid } = opts;
-  const sigma = DRIVE_SIGMA[drive];
+  const sigma = isPainted(drive) ? 0 : DRIVE_SIGMA[drive];
   const nTrace = opts.traceSamples ?? 0;
   const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
+  const range = { min: Infinity, max: -Infinity };
+  const blur = opts.blur !== undefined ? new GaussianBlur(grid, opts.blur) : null;
+  const H = isPainted(drive) ? recordRange(paintedDrive(grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), range) : kdvDrive(grid, opts.potential, ramp, sigma, opts.drift ?? 0);
   const traceTimes = Array.from({ length: nTrace }, (_, i) => (nTrace === 1 ? opts.duration : (opts.duration * i) / (nTrace - 1)));
   const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
   const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
   const uS = new Float64Array(grid.n);
   const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
-  const res = ctx.prop.propagate(kdvDrive(grid, opts.potential, ramp, sigma, opts.drift ?? 0), ctx.init, 0, opts.duration, {
-    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: sigma === 0 ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
+  const res = ctx.prop.propagate(H, ctx.init, 0, opts.duration, {
+    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: drive === 'bare' ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
     onProgress: (f) => ctx.meter.driveAt(drive, f),
     onSample: (s, sts) => {
       opts.potential(ramp.value(s), uS);
@@ -254,9 +300,45 @@ function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; s
   const fermions = opts.fermions !== undefined ? fermionFidelity(res.states, e1.vectors, e1.energies, opts.fermions, ctx.degTol) : null;
   if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
   return {
-    result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace },
+    result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace, paintedRange: isPainted(drive) ? range : null },
     strength: nStrength > 0 ? coupling : null,
   };
+}
+
+function fieldOf(ctx: DriveContext, drive: 'painted' | 'painted_ground'): VelocityField {
+  const f = ctx.fields[drive];
+  if (!f) throw new RangeError(`verify: drive "${drive}" needs ${drive === 'painted' ? 'the option paintedField' : 'its ground-state field'}`);
+  return f;
+}
+
+/** the drive with every potential it hands out folded into range (the painted potential's extremes) */
+function recordRange(H: DrivenHamiltonian, range: { min: number; max: number }): DrivenHamiltonian {
+  return {
+    grid: H.grid,
+    terms(s: number, out: OperatorTerms): void {
+      H.terms(s, out);
+      const v = out.v;
+      if (v) for (let j = 0; j < v.length; j++) { if (v[j] < range.min) range.min = v[j]; if (v[j] > range.max) range.max = v[j]; }
+    },
+  };
+}
+
+/**
+ * The gauge check (physics.md §7): the bound states (at least one) propagated under the painted potential and under
+ * its momentum-linear partner λ̇½{g, k} must end with the same fidelities; box continuum states feel the seam of the
+ * periodic gauge (painted.ts gaugeCheck) and are left out.
+ */
+function gaugeOf(ctx: DriveContext, drive: 'painted' | 'painted_ground', painted: DriveResult): GaugeCheckResult {
+  const { opts, ramp, spectra } = ctx;
+  const count = Math.min(spectra.m, Math.max(1, spectra.bound));
+  const res = ctx.prop.propagate(velocityDrive(opts.grid, opts.potential, fieldOf(ctx, drive), ramp), ctx.init.slice(0, count), 0, opts.duration, {
+    scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: ctx.expectedSteps.corrected,
+    onProgress: (f) => ctx.meter.driveAt(`gauge:${drive}`, f),
+  });
+  ctx.meter.driveDone(`gauge:${drive}`);
+  const velocity = res.states.map((p, i) => eigenspaceFidelity(p, spectra.e1.vectors, groupOf(spectra.groups1, i)));
+  const mine = painted.fidelity.slice(0, count);
+  return { drive, states: count, painted: mine, velocity, maxDifference: Math.max(...mine.map((f, i) => Math.abs(f - velocity[i]))) };
 }
 
 /** one sample of the correction's coupling out of the occupied subspace (CdStrength) */
@@ -290,9 +372,12 @@ function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: 
   const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT };
   const expectedSteps = { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
   const eigen = eigenSolveMatvecs(spectra.extra);
-  const driveWork = (d: DriveKind) => ladderSteps(DRIVE_SIGMA[d] === 0 ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * spectra.m;
+  // a painted drive costs about a corrected one; its gauge check propagates the bound states once more
+  const gaugeStates = Math.min(spectra.m, Math.max(1, spectra.bound));
+  const driveWork = (d: WorkKey) => ladderSteps(d === 'bare' ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * (d.startsWith('gauge') ? gaugeStates : spectra.m);
   const solves = 2 + Math.max(0, (opts.traceSamples ?? 0) - 2);
-  const meter = new WorkMeter(solves * eigen + drives.reduce((sum, d) => sum + driveWork(d), 0), eigen, driveWork, progress);
+  const keys: WorkKey[] = drives.flatMap((d) => (isPainted(d) && (opts.gaugeCheck ?? true) ? [d, `gauge:${d}` as const] : [d]));
+  const meter = new WorkMeter(solves * eigen + keys.reduce((sum, d) => sum + driveWork(d), 0), eigen, driveWork, progress);
   meter.add(2 * eigen, 'eigen');
   return { meter, expectedSteps };
 }
@@ -304,7 +389,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   const ramp = makeRamp(opts.ramp, opts.duration, opts.lambdaEnd);
   if (!ramp.endSlopeZero) warnings.push(`ramp "${opts.ramp}" has λ' ≠ 0 at the ends: H_CD ≠ H at start and end, fidelities then refer to H(λ) and include the sudden switch of the correction`);
   const drives = opts.drives ?? ['cd', 'bare'];
-  for (const d of drives) if (!(d in DRIVE_SIGMA)) throw new RangeError(`verify: drive "${String(d)}" is not known; allowed: cd, bare, flipped`);
+  for (const d of drives) if (!DRIVE_KINDS.includes(d)) throw new RangeError(`verify: drive "${String(d)}" is not known; allowed: ${DRIVE_KINDS.join(', ')}`);
   const degTol = opts.degeneracyTol ?? DEGENERACY_TOL_DEFAULT;
   const progress = opts.onProgress ?? (() => undefined);
   const u0 = new Float64Array(grid.n);
@@ -314,7 +399,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   progress(0, 'eigen');
   const spectra = endSpectra(opts, u0, u1, degTol);
   const { m } = spectra;
-  const occupied = opts.fermions ?? Math.max(1, spectra.bound);
+  const occupied = opts.fermions ?? Math.min(m, Math.max(1, spectra.bound));
   if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
     throw new StateCountError('fermions', opts.fermions, `must be an integer in 1 … ${m} (the propagated states)`);
   }
@@ -325,8 +410,9 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
         `${box} of them sit in box states of the periodic grid, so the Fermi-sea fidelity describes the box as well as the trap`,
     );
   }
+  const ground = drives.includes('painted_ground') ? groundStateField(grid, opts.potential, 0, opts.lambdaEnd, { eigenMethod: opts.eigenMethod }) : null;
   const ctx: DriveContext = {
-    opts, ramp, spectra, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
+    opts, ramp, spectra, fields: { painted: opts.paintedField, painted_ground: ground ?? undefined }, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
     scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives, progress),
     // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
     traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),
@@ -334,11 +420,18 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   const tProp = performance.now();
   const results: DriveResult[] = [];
   let cdStrength: CdStrength | null = null;
+  const gauge: GaugeCheckResult[] = [];
   drives.forEach((drive) => {
     const { result, strength } = runDrive(ctx, drive);
     if (strength) cdStrength = strength;
     results.push(result);
+    if (isPainted(drive) && (opts.gaugeCheck ?? true)) gauge.push(gaugeOf(ctx, drive, result));
   });
+  let startMin = Infinity, startMax = -Infinity;
+  for (const v of u0) { startMin = Math.min(startMin, v); startMax = Math.max(startMax, v); }
+  const painted: PaintedInfo | null = drives.some(isPainted)
+    ? { ground: ground ? { clipDensity: ground.clipDensity, clippedWeight: ground.clippedWeight, degree: ground.degree } : null, gauge, startRange: { min: startMin, max: startMax } }
+    : null;
   progress(1, 'done');
   const propagationMs = performance.now() - tProp;
   const { drift, e0, e1, eigenMs } = spectra;
@@ -348,6 +441,6 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
     grid: { n: grid.n, length: grid.length }, ramp: opts.ramp, duration: opts.duration, lambdaEnd: opts.lambdaEnd,
     states: spectra.states, boundStates: spectra.bound, isospectralDrift: drift,
     eigen: { method: e1.method, detail: e1.detail, maxResidual: maxRes, residualTol: e1.residualTol, wallMs: eigenMs },
-    drives: results, cdStrength, timings: { eigenMs, propagationMs, totalMs: performance.now() - tStart }, warnings,
+    drives: results, cdStrength, painted, timings: { eigenMs, propagationMs, totalMs: performance.now() - tStart }, warnings,
   };
 }

@@ -54,6 +54,19 @@ export interface ExportFile {
     frames_agreement: number;
     statement: string;
   };
+  /** the painted potentials (verify.json's painted drives): range per drive against the starting trap, and the
+   *  optics' blur with --psf-um */
+  painted: null | {
+    meaning: string;
+    drives: { drive: 'painted' | 'painted_ground'; deepest: number; highest: number; psf_change: number | null; psf_change_at: number | null }[];
+    start: { deepest: number; highest: number };
+    psf: null | {
+      radius: number;
+      unit: string;
+      rule: string;
+      drives: { drive: string; fidelity: number[]; fidelity_unblurred: number[]; lost: number }[];
+    };
+  };
   seconds: number;
   warnings: string[];
 }
@@ -77,6 +90,14 @@ const exportSchema: z.ZodType<ExportFile> = z
       at_time_cubic: num, at_time_linear: num, explanation: str,
     }),
     accuracy: z.object({ flow_tolerance: num, frames_agreement: num, statement: str }),
+    painted: z
+      .object({
+        meaning: str,
+        drives: z.array(z.object({ drive: z.enum(['painted', 'painted_ground']), deepest: num, highest: num, psf_change: num.nullable(), psf_change_at: num.nullable() })),
+        start: z.object({ deepest: num, highest: num }),
+        psf: z.object({ radius: num, unit: str, rule: str, drives: z.array(z.object({ drive: str, fidelity: nums, fidelity_unblurred: nums, lost: num })) }).nullable(),
+      })
+      .nullable(),
     seconds: num,
     warnings: z.array(str),
   })

@@ -8,6 +8,30 @@ import { RAMP_KINDS } from '../../protocol/ramp.ts';
 import type { VerifyResult } from '../../quantum/verify.ts';
 import { num, nums, readFormat, str, summaryRowSchema, type SummaryRow } from './read.ts';
 
+/** one painted drive: final fidelities and excess energies per tracked state, and the painted potential's range */
+export interface PaintedDriveEntry {
+  drive: 'painted' | 'painted_ground';
+  kind: 'variational' | 'ground';
+  meaning: string;
+  fidelity: number[];
+  excess: number[];
+  min_fidelity: number;
+  thermal_fidelity: number | null;
+  fermion_fidelity: number | null;
+  /** lowest and highest value of V + V_loc over the protocol (energy unit) */
+  deepest: number;
+  highest: number;
+}
+
+export interface PaintedSection {
+  definition: string;
+  drives: PaintedDriveEntry[];
+  /** lowest and highest value of the starting trap V(x, 0) (energy unit): the reference of the power budget */
+  start: { deepest: number; highest: number };
+  ground_clip: null | { clip_density: number; unit: string; clipped_weight: number; chebyshev_degree: number; rule: string };
+  gauge_check: { drive: string; states: number; painted: number[]; velocity: number[]; max_difference: number; budget: number; passed: boolean }[];
+}
+
 export const VERIFY_FORMAT = 'isotrap-verify/1';
 
 export interface VerifyFile {
@@ -51,6 +75,8 @@ export interface VerifyFile {
   classical: null | { lambda_break: number; lambda_reached: number; time_reached: number; fidelity: number[]; note: string };
   propagation: Record<string, { steps: number; rejected: number; matvecs: number; scheme: string; norm_drift: number; seconds: number; estimated_amplitude_error: number }>;
   traces: { file: string; times: number[]; rows: { drive: string; state: number }[] };
+  /** the painted corrections (pure potentials V + V_loc, physics.md §7), when verify.painted asks for them */
+  painted: null | PaintedSection;
   accepted: boolean;
   acceptance: string;
   seconds: number;
@@ -90,6 +116,20 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
   classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
   propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),
   traces: z.object({ file: str, times: nums, rows: z.array(z.object({ drive: str, state: num })) }),
+  painted: z
+    .object({
+      definition: str,
+      drives: z.array(
+        z.object({
+          drive: z.enum(['painted', 'painted_ground']), kind: z.enum(['variational', 'ground']), meaning: str, fidelity: nums, excess: nums, min_fidelity: num,
+          thermal_fidelity: num.nullable(), fermion_fidelity: num.nullable(), deepest: num, highest: num,
+        }),
+      ),
+      start: z.object({ deepest: num, highest: num }),
+      ground_clip: z.object({ clip_density: num, unit: str, clipped_weight: num, chebyshev_degree: num, rule: str }).nullable(),
+      gauge_check: z.array(z.object({ drive: str, states: num, painted: nums, velocity: nums, max_difference: num, budget: num, passed: z.boolean() })),
+    })
+    .nullable(),
   accepted: z.boolean(),
   acceptance: str,
   seconds: num,

@@ -6,14 +6,19 @@
 import type { ExportFile } from '../../io/formats/export.ts';
 import type { ReportFigure, SummaryRow } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
+import { heatmap } from '../heatmap.ts';
+import { cropCaption, cropRow, cropToPotential } from '../crop.ts';
 import type { FigureSize } from '../style.ts';
 import type { FrameArray } from './design.ts';
 
 /** the ids (and .svg names) of the export's figures */
 export const EXPORT_FIGURE_IDS = ['export-ramp', 'export-correction'] as const;
+/** the ids of the painted potentials' space–time maps, by drive */
+export const PAINTED_FIGURE_IDS = { painted: 'export-painted', painted_ground: 'export-painted-ground' } as const;
 
 /** the arrays the export figures read (keys of export.json arrays) */
 export interface ExportSeries {
+  x?: FrameArray;
   t: FrameArray;
   lambda: FrameArray;
   lambda_rate: FrameArray;
@@ -43,12 +48,34 @@ export function exportSummaryRows(f: ExportFile): SummaryRow[] {
   ];
 }
 
-export function exportFigures(f: ExportFile, a: ExportSeries, size: FigureSize = 'paper'): ReportFigure[] {
+/** the painted potential V + V_loc against x and lab time, one map per painted drive: the exported arrays */
+function paintedMaps(f: ExportFile, a: ExportSeries, painted: Partial<Record<keyof typeof PAINTED_FIGURE_IDS, FrameArray>>, size: FigureSize): ReportFigure[] {
+  const x = a.x?.data ?? new Float64Array(0);
+  const what = { painted: 'the best momentum-linear correction ½{g, p}', painted_ground: 'the one-state exact correction of the ground state' };
+  return (Object.keys(PAINTED_FIGURE_IDS) as (keyof typeof PAINTED_FIGURE_IDS)[]).flatMap((d) => {
+    const arr = painted[d];
+    if (!arr) return [];
+    const [m, n] = arr.shape;
+    const rows = Array.from({ length: m }, (_, i) => arr.data.subarray(i * n, (i + 1) * n));
+    const crop = cropToPotential(x, rows);
+    const entry = f.painted?.drives.find((e) => e.drive === d);
+    const range = entry ? ` It spans ${entry.deepest.toPrecision(4)} … ${entry.highest.toPrecision(4)} ${f.units.energy}; the starting trap ${f.painted?.start.deepest.toPrecision(4)} … ${f.painted?.start.highest.toPrecision(4)} ${f.units.energy}.` : '';
+    const blurred = f.painted?.psf ? ` Blurred by the optics' point-spread function of ${f.painted.psf.radius} ${f.painted.psf.unit} (1/e² radius), as exported.` : '';
+    return [{
+      id: PAINTED_FIGURE_IDS[d],
+      caption: `Painted potential V + V_loc of ${what[d]} against x and lab time (${m} exported samples): the trap to program instead of V and the correction.${range}${blurred}${cropCaption(crop, f.units.length)}`,
+      svg: heatmap({ xLabel: `position x (${f.units.length})`, yLabel: `time t (${f.units.time})`, zLabel: `painted potential (${f.units.energy})`, x: crop.x, y: a.t.data, z: rows.map((r) => cropRow(crop, Float64Array.from(r))), width: 'double', size }),
+    }];
+  });
+}
+
+export function exportFigures(f: ExportFile, a: ExportSeries, painted: Partial<Record<keyof typeof PAINTED_FIGURE_IDS, FrameArray>> = {}, size: FigureSize = 'paper'): ReportFigure[] {
   const T = f.protocol.duration;
   const tu = f.units.time;
   const t = a.t.data;
   const sizes = correctionSizes(f, a);
   return [
+    ...paintedMaps(f, a, painted, size),
     {
       id: EXPORT_FIGURE_IDS[0],
       caption: `The ${f.protocol.ramp} ramp on the exported lab-time grid (${f.sampling.samples} samples): λ(t) and T·λ̇(t) with T = ${T} ${tu}, both dimensionless.`,

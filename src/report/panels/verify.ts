@@ -20,7 +20,7 @@ function fidelityFigure(v: VerifyFile, traces: FrameArray, size: FigureSize): Re
   const series = v.traces.rows
     .slice(0, nR)
     .map((r, i) => ({ r, i }))
-    .filter(({ r }) => r.state < FIDELITY_FIGURE_STATES)
+    .filter(({ r }) => r.state < FIDELITY_FIGURE_STATES && (r.drive === 'cd' || r.drive === 'bare'))
     .map(({ r, i }) => ({
       name: `${r.drive === 'cd' ? 'with correction' : 'bare'}, n=${r.state}`,
       x: v.traces.times,
@@ -105,10 +105,40 @@ export function excessFigure(v: VerifyFile, size: FigureSize = 'paper'): ReportF
   };
 }
 
+/** the final infidelity of every tracked state under each drive, painted ones included: the numbers of verify.json
+ *  states[] and painted.drives[] (null without painted drives) */
+export function paintedFigure(v: VerifyFile, size: FigureSize = 'paper'): ReportFigure | null {
+  const p = v.painted;
+  if (!p || p.drives.length === 0) return null;
+  const label: Record<string, string> = { painted: 'painted (best ½{g,p})', painted_ground: 'painted (ground state exact)' };
+  const floor = (f: number) => Math.max(1 - f, INFIDELITY_FLOOR);
+  const E = v.units.energy;
+  const range = p.drives.map((d) => `${label[d.drive]}: ${d.deepest.toPrecision(4)} … ${d.highest.toPrecision(4)} ${E}`).join('; ');
+  return {
+    id: 'painted',
+    caption:
+      `Infidelity 1 − F of each tracked state after the ramp under the exact cubic correction, the painted corrections (pure potentials V + V_loc, no momentum term) and the bare drive; ` +
+      `values floored at ${INFIDELITY_FLOOR}. Painted potential over the protocol (lowest … highest): ${range}; the starting trap spans ${p.start.deepest.toPrecision(4)} … ${p.start.highest.toPrecision(4)} ${E}.`,
+    svg: barChart({
+      xLabel: 'state n',
+      yLabel: 'infidelity 1 − F',
+      groups: v.states.map((s, i) => ({
+        label: `n=${s.index}`,
+        values: [{ name: 'cubic (exact)', value: floor(s.fidelity_cd) }, ...p.drives.map((d) => ({ name: label[d.drive], value: floor(d.fidelity[i]) })), { name: 'bare', value: floor(s.fidelity_bare) }],
+      })),
+      logY: true,
+      width: 'double',
+      size,
+    }),
+  };
+}
+
 export function verifyFigures(v: VerifyFile, traces: FrameArray | null, size: FigureSize = 'paper'): ReportFigure[] {
   const figures: ReportFigure[] = [];
   if (traces && v.traces.rows.length > 0) figures.push(fidelityFigure(v, traces, size));
   figures.push(excessFigure(v, size));
+  const painted = paintedFigure(v, size);
+  if (painted) figures.push(painted);
   const ens = ensemblesFigure(v, size);
   if (ens) figures.push(ens);
   const corr = correctionFigure(v, size);
