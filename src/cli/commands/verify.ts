@@ -21,6 +21,12 @@ function verifyRows(v: VerifyFile): [string, string][] {
     rows.push(['thermal, Uhlmann fidelity', `${num(v.thermal.uhlmann_cd, 10)} / ${num(v.thermal.uhlmann_bare, 4)} (evolved against the final Gibbs state)`]);
   }
   if (v.fermions) rows.push([`Fermi sea (${v.fermions.count} fermions)`, `fidelity ${num(v.fermions.fidelity_cd, 10)} / ${num(v.fermions.fidelity_bare, 4)}`]);
+  const p = v.painted;
+  for (const d of p?.drives ?? []) {
+    const name = d.kind === 'ground' ? 'painted, ground state exact' : 'painted, best ½{g, p}';
+    rows.push([name, `ground-state fidelity ${num(d.fidelity[0], 10)}, worst ${num(d.min_fidelity, 4)}; potential ${num(d.deepest)} … ${num(d.highest)} ${E} (start ${num(p?.start.deepest ?? 0)} … ${num(p?.start.highest ?? 0)})`]);
+  }
+  for (const g of p?.gauge_check ?? []) rows.push([`gauge check (${g.drive})`, `painted vs ½{g, p}: ${num(g.max_difference, 2)} over ${g.states} bound state(s), budget ${num(g.budget, 2)}: ${g.passed ? 'passed' : 'FAILED'}`]);
   const c = v.cd_strength;
   rows.push(['correction out of occupied states', `max |λ̇|‖(1 − P)AP‖ = ${num(c.max_leakage)} ${E} at t = ${num(c.at_time)} ${v.units.time} (p³ part alone ${num(c.max_leakage_cubic)}, potential part alone ${num(c.max_leakage_potential)}: they partly cancel)`]);
   rows.push(['largest transition element', `max |λ̇⟨m|A|n⟩| = ${num(c.max_window)} ${E} (occupied n, tracked m ≠ n)`]);
