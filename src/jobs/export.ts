@@ -476,24 +476,7 @@ function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; 
   });
   let start = { deepest: Infinity, highest: -Infinity };
   for (let j = 0; j < n; j++) start = { deepest: Math.min(start.deepest, E(series.potential[j])), highest: Math.max(start.highest, E(series.potential[j])) };
-  let psf: NonNullable<ExportFile['painted']>['psf'] = null;
-  if (blur && p.psfUm !== undefined) {
-    p.onProgress?.(drives.length / (drives.length + 1), 'blurred painted drives');
-    const verifyConfig = (p.seqConfig.verify ?? {}) as { tolerance?: number };
-    const res = verifySequence({
-      grid, potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: T, drift: p.drift, states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
-      drives, paintedField: fields.get('painted'), blur: units.lengthToNatural(p.psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
-    });
-    psf = {
-      radius: p.psfUm,
-      unit: 'µm',
-      rule: 'Gaussian point-spread function of 1/e² intensity radius w, Fourier multiplier exp(−k²w²/8), applied to the whole painted potential V + V_loc at every time (spectral/blur.ts)',
-      drives: res.drives.map((d) => {
-        const unblurred = verify.painted?.drives.find((x) => x.drive === d.drive)?.fidelity ?? [];
-        return { drive: d.drive, fidelity: d.fidelity, fidelity_unblurred: unblurred, lost: Math.max(0, ...d.fidelity.map((f, i) => (unblurred[i] ?? f) - f)) };
-      }),
-    };
-  }
+  const psf = blur && p.psfUm !== undefined ? blurredFidelities(p, p.psfUm, potential, fields, drives) : null;
   return {
     arrays,
     warnings,
@@ -503,6 +486,27 @@ function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; 
       start,
       psf,
     },
+  };
+}
+
+/** the painted drives simulated with every painted potential blurred by the PSF (quantum/verify.ts), against
+ *  verify.json's sharp fidelities */
+function blurredFidelities(p: PaintedInput, psfUm: number, potential: (l: number, out: Float64Array) => Float64Array, fields: Map<string, VelocityField>, drives: ('painted' | 'painted_ground')[]): NonNullable<NonNullable<ExportFile['painted']>['psf']> {
+  const { grid, units, verify } = p;
+  p.onProgress?.(drives.length / (drives.length + 1), 'blurred painted drives');
+  const verifyConfig = (p.seqConfig.verify ?? {}) as { tolerance?: number };
+  const res = verifySequence({
+    grid, potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: units.timeToNatural(p.duration), drift: p.drift, states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
+    drives, paintedField: fields.get('painted'), blur: units.lengthToNatural(psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
+  });
+  return {
+    radius: psfUm,
+    unit: 'µm',
+    rule: 'Gaussian point-spread function of 1/e² intensity radius w, Fourier multiplier exp(−k²w²/8), applied to the whole painted potential V + V_loc at every time (spectral/blur.ts)',
+    drives: res.drives.map((d) => {
+      const unblurred = verify.painted?.drives.find((x) => x.drive === d.drive)?.fidelity ?? [];
+      return { drive: d.drive, fidelity: d.fidelity, fidelity_unblurred: unblurred, lost: Math.max(0, ...d.fidelity.map((f, i) => (unblurred[i] ?? f) - f)) };
+    }),
   };
 }
 

@@ -89,7 +89,7 @@ export interface DriveResult {
   normDrift: number;
   stats: PropagationStats;
   trace: { times: number[]; fidelity: number[][] } | null;
-  /** painted drives: lowest and highest value of the painted potential k² + u + V_loc over every evaluated time
+  /** painted drives: lowest and highest value of the painted potential u + V_loc over every evaluated time
    *  (E₀), null for the KdV drives */
   paintedRange: { min: number; max: number } | null;
 }
@@ -225,14 +225,14 @@ interface DriveContext {
   fields: Partial<Record<'painted' | 'painted_ground', VelocityField>>;
 }
 
+/** a piece of propagation work: a drive, or the gauge check of a painted one */
+type WorkKey = DriveKind | `gauge:${'painted' | 'painted_ground'}`;
+
 /**
  * Progress as the products with H done over those estimated (quantum/cost.ts): each eigen solve weighs `eigen`,
  * each drive its own estimate (`driveWork`); within a drive the propagator's fraction counts. The fraction never
  * goes back and reaches 1 only at the end.
  */
-/** a piece of propagation work: a drive, or the gauge check of a painted one */
-type WorkKey = DriveKind | `gauge:${'painted' | 'painted_ground'}`;
-
 class WorkMeter {
   private done = 0;
   private drive = 0;
