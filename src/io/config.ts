@@ -314,6 +314,16 @@ export const protocolSchema = strictSection(
 
 const TEMPERATURE_RULE = 'must be a number ≥ 0 (in E₀ natural, nK lab)';
 
+/** errors a lab makes in building the drive (quantum/propagator.ts DriveErrors), for tolerance studies */
+export const errorsSchema = strictSection(
+  {
+    correction_scale: numberWhere('must be a number from -1 to 1 (relative error ε of the correction: A → (1 + ε)A)', (v) => v >= -1 && v <= 1).default(0),
+    depth: numberWhere('must be a number from -0.5 to 0.5 (relative calibration error δ of the potential: V → (1 + δ)V)', (v) => v >= -0.5 && v <= 0.5).default(0),
+    timing: numberWhere('must be a finite number (the correction runs late by this time, early when negative; t₀ natural, ms lab)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e6).default(0),
+  },
+  'verify.errors',
+);
+
 /** painted corrections verify can simulate (quantum/painted.ts): the best momentum-linear correction on the
  *  occupied states, and the one-state exact correction of the ground state */
 export const PAINTED_KINDS = ['variational', 'ground'] as const;
@@ -333,6 +343,7 @@ export const verifySchema = strictSection(
     fermions: intBetween(1, 200).optional(),
     compare_classical: z.boolean({ error: 'must be true or false' }).default(false),
     painted: z.array(oneOf(PAINTED_KINDS), { error: `must be a list of ${PAINTED_KINDS.join(', ')}` }).default([]),
+    errors: errorsSchema.prefault({}),
   },
   'verify',
 );

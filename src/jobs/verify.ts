@@ -76,7 +76,7 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
-  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [] };
+  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0 } };
   return {
     protocol: config.protocol,
     verify: v,
@@ -231,6 +231,7 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
     ),
     traces: { file: 'traces.npy', times: parts.traces.times, rows: parts.traces.rows },
     painted: null,
+    errors: { correction_scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, timing: input.verify.errors.timing, time_unit: Lt.time },
     accepted,
     acceptance: acceptanceText(accepted, cd.minFidelity),
     seconds: 0,
@@ -271,6 +272,9 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
     { key: 'correction out of the occupied states, max |λ̇|‖(1 − P)AP‖ (p³ / potential part alone)', value: `${file.cd_strength.max_leakage.toPrecision(4)} (${file.cd_strength.max_leakage_cubic.toPrecision(4)} / ${file.cd_strength.max_leakage_potential.toPrecision(4)})`, unit: file.units.energy },
     { key: 'largest single transition element |λ̇⟨m|A|n⟩|', value: file.cd_strength.max_window.toPrecision(4), unit: file.units.energy },
     ...paintedRows(file),
+    ...(file.errors && (file.errors.correction_scale !== 0 || file.errors.depth !== 0 || file.errors.timing !== 0)
+      ? [{ key: 'errors simulated (verify.errors)', value: `correction scale ε = ${file.errors.correction_scale}, depth δ = ${file.errors.depth}, correction late by ${file.errors.timing} ${file.errors.time_unit}` }]
+      : []),
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
@@ -301,6 +305,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     fermions: input.verify.fermions,
     drives: ['cd', 'bare', ...painted.map((k) => PAINTED_DRIVE[k])],
     paintedField,
+    errors: { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing) },
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
     onProgress: opts.onProgress,
   }));

@@ -67,16 +67,43 @@ export type PotentialFn = (lambda: number, out: Float64Array) => void;
  * the co-moving drift of the flow (hamiltonian.ts cdTerms). σ = 1: exact CD for a KdV-admissible sequence;
  * σ = 0: bare ramp; σ = −1: sign-flipped correction.
  */
-export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number, drift = 0): DrivenHamiltonian {
+export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number, drift = 0, errors: DriveErrors = NO_ERRORS): DrivenHamiltonian {
   const u = new Float64Array(grid.n);
+  if (errors.depth === 0 && errors.shift === 0) {
+    return {
+      grid,
+      terms(s, out) {
+        potential(ramp.value(s), u);
+        cdTerms(u, ramp.rate(s), sigma * (1 + errors.scale), out, drift);
+      },
+    };
+  }
+  // the lab's potential (1 + δ)u(λ(s)); the correction built for the design, λ̇A[u] at s + δs (held at the ends)
+  const uA = new Float64Array(grid.n);
   return {
     grid,
     terms(s, out) {
+      const sA = Math.min(Math.max(s + errors.shift, 0), ramp.duration);
       potential(ramp.value(s), u);
-      cdTerms(u, ramp.rate(s), sigma, out, drift);
+      for (let j = 0; j < u.length; j++) u[j] *= 1 + errors.depth;
+      potential(ramp.value(sA), uA);
+      cdTerms(u, ramp.rate(sA), sigma * (1 + errors.scale), out, drift);
+      if (out.w) out.w = uA;
     },
   };
 }
+
+/**
+ * Errors a lab makes in building the drive: `scale` ε, the correction A → (1 + ε)A; `depth` δ, the painted potential
+ * (1 + δ)V (a static calibration error; the correction stays the design's); `shift` δs (t₀), the correction running
+ * late (δs > 0) or early, λ̇A evaluated at s + δs and held at the ends of the ramp.
+ */
+export interface DriveErrors {
+  scale: number;
+  depth: number;
+  shift: number;
+}
+export const NO_ERRORS: DriveErrors = { scale: 0, depth: 0, shift: 0 };
 
 export interface PropagateOptions {
   /** a scheme name of the propagator's registry (default 'etd4') */

@@ -11,7 +11,7 @@ import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult }
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
-import { kdvDrive, Propagator, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
+import { kdvDrive, NO_ERRORS, Propagator, type DriveErrors, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
 import { GaussianBlur } from '../spectral/blur.ts';
@@ -63,6 +63,10 @@ export interface VerifyOptions {
   strengthSamples?: number;
   /** the momentum-linear field of the `painted` drive (e.g. the variational ½{g, k} of check/painted.ts) */
   paintedField?: VelocityField;
+  /** errors a lab makes (propagator.ts DriveErrors): the correction's scale and timing apply to the KdV drives; the
+   *  depth error scales the potential everywhere, so the initial states and the final reference are those of the
+   *  lab's trap (1 + δ)V */
+  errors?: Partial<DriveErrors>;
   /** 1/e² radius (ℓ) of a Gaussian point-spread function that blurs every painted potential (spectral/blur.ts) */
   blur?: number;
   /** propagate the bound states also under each painted drive's momentum-linear partner λ̇½{g, k} and compare the
@@ -223,6 +227,9 @@ interface DriveContext {
   expectedSteps: { corrected: number; bare: number };
   /** the fields of the painted drives */
   fields: Partial<Record<'painted' | 'painted_ground', VelocityField>>;
+  /** the design's potential (opts.potential is the lab's, (1 + δ) times it under a depth error) and the errors */
+  design: PotentialFn;
+  errors: DriveErrors;
 }
 
 /** a piece of propagation work: a drive, or the gauge check of a painted one */
@@ -270,7 +277,7 @@ function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; s
   const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
   const range = { min: Infinity, max: -Infinity };
   const blur = opts.blur !== undefined ? new GaussianBlur(grid, opts.blur) : null;
-  const H = isPainted(drive) ? recordRange(paintedDrive(grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), range) : kdvDrive(grid, opts.potential, ramp, sigma, opts.drift ?? 0);
+  const H = isPainted(drive) ? recordRange(paintedDrive(grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), range) : kdvDrive(grid, ctx.design, ramp, sigma, opts.drift ?? 0, ctx.errors);
   const traceTimes = Array.from({ length: nTrace }, (_, i) => (nTrace === 1 ? opts.duration : (opts.duration * i) / (nTrace - 1)));
   const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
@@ -382,7 +389,11 @@ function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: 
   return { meter, expectedSteps };
 }
 
-export function verifySequence(opts: VerifyOptions): VerifyResult {
+export function verifySequence(options: VerifyOptions): VerifyResult {
+  const errors: DriveErrors = { ...NO_ERRORS, ...options.errors };
+  for (const [k, v] of Object.entries(errors)) if (!Number.isFinite(v)) throw new RangeError(`verify: errors.${k} = ${v} must be a finite number`);
+  const design = options.potential;
+  const opts: VerifyOptions = errors.depth === 0 ? options : { ...options, potential: (l, out) => { design(l, out); for (let j = 0; j < out.length; j++) out[j] *= 1 + errors.depth; } };
   const tStart = performance.now();
   const { grid } = opts;
   const warnings: string[] = [];
@@ -412,7 +423,7 @@ export function verifySequence(opts: VerifyOptions): VerifyResult {
   }
   const ground = drives.includes('painted_ground') ? groundStateField(grid, opts.potential, 0, opts.lambdaEnd, { eigenMethod: opts.eigenMethod }) : null;
   const ctx: DriveContext = {
-    opts, ramp, spectra, fields: { painted: opts.paintedField, painted_ground: ground ?? undefined }, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
+    opts, ramp, spectra, fields: { painted: opts.paintedField, painted_ground: ground ?? undefined }, design, errors, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
     scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives, progress),
     // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
     traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),

@@ -76,7 +76,10 @@ export interface VerifyFile {
   propagation: Record<string, { steps: number; rejected: number; matvecs: number; scheme: string; norm_drift: number; seconds: number; estimated_amplitude_error: number }>;
   traces: { file: string; times: number[]; rows: { drive: string; state: number }[] };
   /** the painted corrections (pure potentials V + V_loc, physics.md §7), when verify.painted asks for them */
-  painted: null | PaintedSection;
+  painted?: null | PaintedSection;
+  /** the errors a lab makes that this run simulated (verify.errors; all zero for the design as built); files of
+   *  earlier versions have neither key */
+  errors?: { correction_scale: number; depth: number; timing: number; time_unit: string };
   accepted: boolean;
   acceptance: string;
   seconds: number;
@@ -116,6 +119,7 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
   classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
   propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),
   traces: z.object({ file: str, times: nums, rows: z.array(z.object({ drive: str, state: num })) }),
+  errors: z.object({ correction_scale: num, depth: num, timing: num, time_unit: str }).optional(),
   painted: z
     .object({
       definition: str,
@@ -129,7 +133,8 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
       ground_clip: z.object({ clip_density: num, unit: str, clipped_weight: num, chebyshev_degree: num, rule: str }).nullable(),
       gauge_check: z.array(z.object({ drive: str, states: num, painted: nums, velocity: nums, max_difference: num, budget: num, passed: z.boolean() })),
     })
-    .nullable(),
+    .nullable()
+    .optional(),
   accepted: z.boolean(),
   acceptance: str,
   seconds: num,

@@ -1,0 +1,36 @@
+import { describe, expect, it } from 'vitest';
+import { makeGrid } from '../src/spectral/grid.ts';
+import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
+import { verifySequence } from '../src/quantum/verify.ts';
+
+// two-soliton split of −6 sech²ξ (Drazin & Johnson, Solitons: an Introduction, 1989; physics.md §4), fast enough
+// that the bare ramp loses most of the ground state
+const grid = makeGrid(24, 256);
+const split = (tau: number, out: Float64Array): void => { grid.x.forEach((x, j) => { out[j] = twoSolitonFromSech2(x, tau); }); };
+const run = (errors: { scale?: number; depth?: number; shift?: number }) =>
+  verifySequence({ grid, potential: split, lambdaEnd: 0.1, ramp: 'smooth', duration: 0.3, states: 2, tol: 1e-10, drives: ['cd'], errors, traceSamples: 0, strengthSamples: 0 });
+
+describe('errors a lab makes in building the correction (quantum/propagator.ts DriveErrors)', () => {
+  it('no error reproduces the exact correction to the last digit; a correction scale error ε costs infidelity ∝ ε² (first-order perturbation theory: the amplitude error is linear in ε; fitted exponent 2 ± 0.05)', () => {
+    const exact = run({}).drives[0].fidelity;
+    expect(run({ scale: 0, depth: 0, shift: 0 }).drives[0].fidelity).toEqual(exact);
+    const eps = [0.005, 0.01, 0.02];
+    const loss = eps.map((e) => 1 - run({ scale: e }).drives[0].fidelity[0]);
+    // least-squares slope of log(1 − F) against log ε
+    const xs = eps.map(Math.log), ys = loss.map(Math.log);
+    const mx = xs.reduce((a, b) => a + b) / 3, my = ys.reduce((a, b) => a + b) / 3;
+    const slope = xs.reduce((s, x, i) => s + (x - mx) * (ys[i] - my), 0) / xs.reduce((s, x) => s + (x - mx) ** 2, 0);
+    expect(Math.abs(slope - 2)).toBeLessThan(0.05); // measured 2.001
+    expect(loss[0]).toBeGreaterThan(1e3 * (1 - exact[0])); // well above the time-stepping floor
+  }, 60_000);
+
+  it('a calibration error of the depth and a late correction each cost fidelity, growing with the error (common practice)', () => {
+    const depth = [0.01, 0.03].map((d) => 1 - run({ depth: d }).drives[0].fidelity[0]);
+    const late = [0.003, 0.01].map((s) => 1 - run({ shift: s }).drives[0].fidelity[0]);
+    for (const l of [depth, late]) {
+      expect(l[0]).toBeGreaterThan(1e-8);
+      expect(l[1]).toBeGreaterThan(l[0]);
+    }
+    expect(() => run({ scale: Number.NaN })).toThrow(/errors\.scale = NaN must be a finite number/);
+  }, 60_000);
+});
