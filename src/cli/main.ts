@@ -44,7 +44,8 @@ function sweepProgram(program: Command, exit: (code: number) => void): void {
     .option('--json', 'print the answers as JSON on stdout')
     .option('--quiet', 'no progress on stderr')
     .option('--figures <size>', FIGURES_HELP)
-    .action(async (config: string, opts: SweepCliOptions) => exit(await sweepCommand(config, opts)));
+    .action(async (config: string, opts: SweepCliOptions) => exit(await sweepCommand(config, opts)))
+    .enablePositionalOptions();
   sweep
     .command('merge')
     .argument('<dirs...>', 'the shard folders of one sweep')
@@ -89,6 +90,7 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .description('Design KdV-admissible trap sequences and verify exact cubic counterdiabatic driving')
     .version(version())
     .exitOverride()
+    .enablePositionalOptions() // a subcommand's options are its own (sweep and sweep merge both have --out)
     .configureOutput({ writeErr: (s) => process.stderr.write(s) });
   const common = (c: Command) =>
     c

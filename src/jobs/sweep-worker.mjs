@@ -7,10 +7,12 @@ import { parentPort } from 'node:worker_threads';
 const compiled = existsSync(new URL('./sweep.js', import.meta.url));
 if (!compiled) (await import('tsx/esm/api')).register();
 const { runAndWritePoint } = await import(compiled ? './sweep.js' : './sweep.ts');
+/** this thread's last design (jobs/sweep.ts DesignCache) */
+const cache = { last: null };
 
 parentPort?.on('message', ({ id, task }) => {
   try {
-    parentPort?.postMessage({ id, result: runAndWritePoint(task) });
+    parentPort?.postMessage({ id, result: runAndWritePoint(task, cache) });
   } catch (e) {
     parentPort?.postMessage({ id, error: e instanceof Error ? `${e.name}: ${e.message}` : String(e) });
   }

@@ -17,7 +17,7 @@ import { coreCount, runPool } from '../core/worker-pool.ts';
 import { parseConfigWith, type Config } from '../io/config.ts';
 import { latticeConfigSchema } from '../io/config-lattice.ts';
 import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
-import { checkOutputDir, removeStaleTemporaries, writeFileAtomic } from '../io/files.ts';
+import { removeStaleTemporaries, writeFileAtomic } from '../io/files.ts';
 import { publishOutput } from '../io/output-events.ts';
 import { RunFolder, configIdentity, requireOneConfig, writeRun } from '../io/run-folder.ts';
 import {
@@ -175,6 +175,8 @@ export interface SweepSetup {
   configs: Config[];
   /** the points of this shard (all without one) */
   indices: number[];
+  /** estimated seconds of each point (quantum/cost.ts), the weights of the progress */
+  work: number[];
   shard: { index: number; count: number } | null;
 }
 
@@ -210,8 +212,12 @@ export function planSweep(input: SweepInput, request: SweepRequest): SweepSetup 
   const plan: SweepPlan = { format: SWEEP_PLAN_FORMAT, config_hash: configHash, id, axes, points, target_infidelity: target, units };
   const configs = Array.from({ length: points }, (_, p) => pointConfig(input, parsed, pointValues(plan, p)));
   const indices = Array.from({ length: points }, (_, p) => p).filter((p) => !shard || p % shard.count === shard.index - 1);
-  for (const p of indices) assertPointAffordable(configs[p]);
-  return { base, plan, axes: parsed.map((a) => ({ key: a.key, path: a.path })), configs, indices, shard };
+  const work = new Array<number>(points).fill(0);
+  contextsInOrder(configs, indices, (p, context) => {
+    assertPointAffordable(configs[p], context);
+    work[p] = pointWork(configs[p], context);
+  });
+  return { base, plan, axes: parsed.map((a) => ({ key: a.key, path: a.path })), configs, indices, shard, work };
 }
 
 /** the design key of a config: everything but the sections the design does not read */
@@ -221,28 +227,27 @@ function designKey(config: Config): string {
   return JSON.stringify(rest);
 }
 
-const contexts = new Map<string, JobContext>();
-/** the context of a config's design (one per design key, kept while a sweep is planned and run in this thread) */
-function contextOf(config: Config): JobContext {
-  const key = designKey(config);
-  let c = contexts.get(key);
-  if (!c) {
-    c = makeContext(config);
-    contexts.set(key, c);
+/** the job context of each design key, computed once while the points are taken in design-key order (one held at a time) */
+function contextsInOrder(configs: readonly Config[], indices: readonly number[], use: (p: number, context: JobContext) => void): void {
+  const order = [...indices].sort((a, b) => designKey(configs[a]).localeCompare(designKey(configs[b])) || a - b);
+  let lastKey: string | null = null;
+  let context: JobContext | null = null;
+  for (const p of order) {
+    const key = designKey(configs[p]);
+    if (lastKey !== key || !context) [lastKey, context] = [key, makeContext(configs[p])];
+    use(p, context);
   }
-  return c;
 }
 
 /** the pipeline's refusals (jobs/run.ts) for one point */
-function assertPointAffordable(config: Config): void {
-  const context = contextOf(config);
+function assertPointAffordable(config: Config, context: JobContext): void {
+  if (!config.protocol) throw new UserError(`${config.meta.source}: protocol is missing: a sweep verifies every point and needs e.g. protocol: { duration: 2.0, ramp: sin2 } (or --vary protocol.duration=…)`);
   assertDesignAffordable(config, context, true);
-  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
+  assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES);
 }
 
 /** estimated seconds of one point (quantum/cost.ts), the weight of its progress */
-function pointWork(config: Config): number {
-  const c = contextOf(config);
+function pointWork(config: Config, c: JobContext): number {
   let maxAbsU = 0;
   for (const v of c.u0) maxAbsU = Math.max(maxAbsU, Math.abs(v));
   return estimateVerifyCost({
@@ -263,8 +268,10 @@ export interface PointTask {
   file: string;
 }
 
-/** the last design of this thread, reused while the design key stays the same */
-let lastDesign: { key: string; design: DesignResult } | null = null;
+/** the last design of a thread, reused while the design key stays the same (each thread holds its own) */
+export interface DesignCache {
+  last: { key: string; design: DesignResult } | null;
+}
 
 /** the per-drive record of a finished verify, in the config's units (energies through the design's unit system) */
 function driveRecords(design: DesignResult, verify: ReturnType<typeof runVerify>): SweepDrive[] {
@@ -284,17 +291,17 @@ function driveRecords(design: DesignResult, verify: ReturnType<typeof runVerify>
  * `verify` command runs them. A point the numerics refuse (a flow that breaks, a budget not met) is recorded with
  * its message instead of failing the sweep.
  */
-export function runPoint(task: PointTask): SweepPoint {
+export function runPoint(task: PointTask, cache: DesignCache): SweepPoint {
   const started = performance.now();
   const config = pointConfig(task.input, task.axes, task.values);
   const point: SweepPoint = { format: SWEEP_POINT_FORMAT, plan: task.plan, index: task.index, values: task.values, error: null, drives: [], deepest: NaN, limit_depth: null, accepted: false, warnings: [], seconds: 0 };
   try {
     const key = designKey(config);
-    if (lastDesign?.key !== key) {
-      lastDesign = null; // the old design's dense output is released before the new one is computed
-      lastDesign = { key, design: runDesign(config, { context: makeContext(config) }) };
+    if (cache.last?.key !== key) {
+      cache.last = null; // the old design's dense output is released before the new one is computed
+      cache.last = { key, design: runDesign(config, { context: makeContext(config) }) };
     }
-    const design = lastDesign.design;
+    const design = cache.last.design;
     point.deepest = design.summary.budgets.deepest;
     point.limit_depth = design.summary.budgets.limit_depth;
     if (!design.summary.complete) throw new AcceptanceFailure(`the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}`);
@@ -311,8 +318,8 @@ export function runPoint(task: PointTask): SweepPoint {
 }
 
 /** run a point and write it at once (worker threads call this too) */
-export function runAndWritePoint(task: PointTask): SweepPoint {
-  const point = runPoint(task);
+export function runAndWritePoint(task: PointTask, cache: DesignCache): SweepPoint {
+  const point = runPoint(task, cache);
   writeFileAtomic(task.file, toJson(point, 1));
   return point;
 }
@@ -372,8 +379,9 @@ async function computePoints(setup: SweepSetup, input: SweepInput, dir: string, 
   const order = [...pending].sort((a, b) => designKey(setup.configs[a]).localeCompare(designKey(setup.configs[b])) || a - b);
   const threads = Math.min(opts.threads ?? coreCount(), order.length);
   if (threads <= 1) {
+    const cache: DesignCache = { last: null };
     for (const p of order) {
-      runAndWritePoint(task(p));
+      runAndWritePoint(task(p), cache);
       progress(p);
     }
     return;
@@ -410,20 +418,19 @@ async function computePoints(setup: SweepSetup, input: SweepInput, dir: string, 
 export async function runSweep(input: SweepInput, setup: SweepSetup, opts: SweepOptions): Promise<SweepResult> {
   const started = performance.now();
   const { plan } = setup;
-  checkOutputDir(opts.dir, { force: opts.force, produces: SWEEP_FILES });
   const folder = new RunFolder(opts.dir, { force: opts.force, produces: SWEEP_FILES, job: 'sweep', identity: configIdentity(setup.base) });
   let file: SweepFile;
   let computed = 0;
   try {
     const done = preparePoints(opts.dir, plan, opts.force);
     const pending = setup.indices.filter((p) => !done.has(p));
-    const work = new Map(setup.indices.map((p) => [p, pointWork(setup.configs[p])]));
-    const total = [...work.values()].reduce((s, w) => s + w, 0);
-    let finished = setup.indices.filter((p) => done.has(p)).reduce((s, p) => s + work.get(p)!, 0);
+    const { work } = setup;
+    const total = setup.indices.reduce((s, p) => s + work[p], 0);
+    let finished = setup.indices.filter((p) => done.has(p)).reduce((s, p) => s + work[p], 0);
     let count = setup.indices.length - pending.length;
     opts.onProgress?.(finished / total, count, setup.indices.length);
     await computePoints(setup, input, opts.dir, pending, opts, (p) => {
-      finished += work.get(p)!;
+      finished += work[p];
       computed++;
       opts.onProgress?.(finished / total, ++count, setup.indices.length);
     });
@@ -437,7 +444,8 @@ export async function runSweep(input: SweepInput, setup: SweepSetup, opts: Sweep
     throw err;
   }
   const files = SWEEP_FILES.map((f) => join(folder.dir, f));
-  if (!setup.shard) files.push(...(await renderSweep(opts.dir, file, opts)));
+  // the figures belong to the sweep just committed (which passed the --force check): they replace older ones
+  if (!setup.shard) files.push(...(await renderSweep(opts.dir, file, opts, true)));
   return { file, files, computed };
 }
 
@@ -516,7 +524,7 @@ export function sweepAnswers(plan: SweepPlan, points: readonly SweepPoint[]): Sw
 
 /** the figures and report.html of a sweep folder (committed as the job `report`); the report modules load only
  *  here, so that the worker threads, which import this module for runPoint, do not load them */
-async function renderSweep(dir: string, file: SweepFile, opts: Pick<SweepOptions, 'force' | 'toolVersion' | 'figures'>): Promise<string[]> {
+async function renderSweep(dir: string, file: SweepFile, opts: Pick<SweepOptions, 'toolVersion' | 'figures'>, force: boolean): Promise<string[]> {
   const { renderReport } = await import('../report/html.ts');
   const { sweepFigures, sweepSummaryRows } = await import('../report/panels/sweep.ts');
   const figures = sweepFigures(file, opts.figures ?? 'paper');
@@ -531,10 +539,16 @@ async function renderSweep(dir: string, file: SweepFile, opts: Pick<SweepOptions
     warnings: [...new Set(file.points.flatMap((p) => (p.error ? [`point ${p.index} (${p.values.join(', ')}): ${p.error}`] : p.warnings)))],
   });
   const produces = [...figures.map((f) => `${f.id}.svg`), 'report.html'];
-  return writeRun(dir, { force: true, produces, job: 'report', identity: { run: entry.run, configHash: entry.config_hash } }, (out) => {
+  return writeRun(dir, { force, produces, job: 'report', identity: { run: entry.run, configHash: entry.config_hash } }, (out) => {
     for (const f of figures) out.write(`${f.id}.svg`, f.svg);
     out.write('report.html', html);
   });
+}
+
+/** re-render the figures and report.html of a finished sweep folder from its sweep.json (for `isotrap report DIR`) */
+export async function renderSweepFolder(dir: string, opts: Pick<SweepOptions, 'force' | 'toolVersion' | 'figures'>): Promise<string[]> {
+  requireOneConfig(dir, [SWEEP_FILES[0]]);
+  return renderSweep(dir, readSweepFile(join(dir, SWEEP_FILES[0])), opts, opts.force);
 }
 
 export interface MergeOptions {
@@ -551,6 +565,7 @@ export interface MergeOptions {
 export async function mergeSweeps(dirs: readonly string[], opts: MergeOptions): Promise<SweepResult> {
   if (dirs.length === 0) throw new UserError('sweep merge needs the shard folders to join, e.g. isotrap sweep merge out-1of2 out-2of2 --out out');
   const files = dirs.map((d) => {
+    if (!existsSync(join(d, SWEEP_FILES[0]))) throw new UserError(`${d} holds no finished sweep (no ${SWEEP_FILES[0]}): give the output folders of isotrap sweep --shard i/n that have finished`);
     requireOneConfig(d, [SWEEP_FILES[0]]);
     return { dir: d, file: readSweepFile(join(d, SWEEP_FILES[0])) };
   });
@@ -574,6 +589,6 @@ export async function mergeSweeps(dirs: readonly string[], opts: MergeOptions): 
     out.write(SWEEP_FILES[0], toJson(file, 1));
     out.write(SWEEP_FILES[1], sweepCsv(file));
   });
-  written.push(...(await renderSweep(opts.out, file, opts)));
+  written.push(...(await renderSweep(opts.out, file, opts, true)));
   return { file, files: written, computed: 0 };
 }

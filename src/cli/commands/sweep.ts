@@ -44,9 +44,11 @@ function print(r: SweepResult, dir: string, opts: CommonOptions): number {
       ['target', `1 − F ≤ ${f.plan.target_infidelity}`],
     ];
     if (!f.shard && f.plan.axes.some((a) => a.key === 'protocol.duration')) {
-      rows.push(['adiabatic time', f.adiabatic_time === null ? 'bare ground state not at the target in the swept range' : `${num(f.adiabatic_time)} ${t} (bare drive, ground state)`]);
-      for (const a of f.answers.filter((x) => x.other === null && x.subject === 'ground')) {
-        rows.push([`shortest duration, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.duration_in_budget !== null ? ` (within budget.depth from ${num(a.duration_in_budget)} ${t})` : ''}`]);
+      if (f.plan.axes.length === 1) rows.push(['adiabatic time', f.adiabatic_time === null ? 'bare ground state not at the target in the swept range' : `${num(f.adiabatic_time)} ${t} (bare drive, ground state)`]);
+      const otherKey = f.plan.axes.find((a) => a.key !== 'protocol.duration')?.key;
+      for (const a of f.answers.filter((x) => x.subject === 'ground')) {
+        const at = a.other === null ? '' : ` at ${otherKey} = ${num(a.other)}`;
+        rows.push([`shortest duration${at}, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.interpolated !== null ? ` (crossing ≈ ${num(a.interpolated)} ${t})` : ''}${a.duration_in_budget !== null ? `; within budget.depth from ${num(a.duration_in_budget)} ${t}` : ''}`]);
       }
     }
     rows.push(['outputs', dir]);

@@ -88,11 +88,20 @@ function ensembleFigure(file: SweepFile, size: FigureSize): ReportFigure | null 
   };
 }
 
-/** cell coordinates of an axis: the value (lin), log₁₀ of it (log) or its position in the list */
+/** relative tolerance of "evenly spaced" for a listed axis (round-off of values typed in decimal) */
+const EVEN_SPACING_TOL = 1e-9;
+
+function evenlySpaced(v: readonly number[]): boolean {
+  const step = (v[v.length - 1] - v[0]) / Math.max(1, v.length - 1);
+  return step > 0 && v.every((x, i) => Math.abs(x - (v[0] + i * step)) <= EVEN_SPACING_TOL * Math.abs(step) * v.length);
+}
+
+/** cell coordinates of an axis (the heat map needs even spacing): the values, log₁₀ of them, or their positions */
 function cells(a: SweepAxis): { at: Float64Array; label: string } {
-  if (a.spacing === 'lin') return { at: Float64Array.from(a.values), label: axisLabel(a) };
-  if (a.spacing === 'log') return { at: Float64Array.from(a.values, Math.log10), label: `log₁₀ ${axisLabel(a)}` };
-  return { at: Float64Array.from(a.values, (_, i) => i), label: `${a.key}: position in the list` };
+  const logs = a.values.every((v) => v > 0) ? a.values.map(Math.log10) : null;
+  if (a.spacing !== 'log' && evenlySpaced(a.values)) return { at: Float64Array.from(a.values), label: axisLabel(a) };
+  if (logs && evenlySpaced(logs)) return { at: Float64Array.from(logs), label: `log₁₀ ${axisLabel(a)}` };
+  return { at: Float64Array.from(a.values, (_, i) => i), label: `${a.key}: position in the list ${a.values.join(', ')}` };
 }
 
 function mapFigure(file: SweepFile, drive: string, size: FigureSize): ReportFigure {
@@ -132,10 +141,12 @@ export function sweepSummaryRows(file: SweepFile): SummaryRow[] {
   ];
   const t = plan.units.time;
   if (plan.axes.some((a) => a.key === 'protocol.duration')) {
-    rows.push({ key: 'adiabatic time (bare drive, ground state)', value: file.adiabatic_time === null ? 'not reached in the swept range' : Number(file.adiabatic_time.toPrecision(4)), unit: file.adiabatic_time === null ? undefined : t });
-    for (const a of file.answers.filter((x) => x.other === null && (x.subject === 'ground' || x.subject === 'worst'))) {
+    if (plan.axes.length === 1) rows.push({ key: 'adiabatic time (bare drive, ground state)', value: file.adiabatic_time === null ? 'not reached in the swept range' : Number(file.adiabatic_time.toPrecision(4)), unit: file.adiabatic_time === null ? undefined : t });
+    const otherKey = plan.axes.find((a) => a.key !== 'protocol.duration')?.key;
+    for (const a of file.answers.filter((x) => x.subject === 'ground' || x.subject === 'worst')) {
       const v = a.duration === null ? 'not reached in the swept range' : `${a.duration}${a.interpolated !== null ? ` (crossing ≈ ${Number(a.interpolated.toPrecision(4))})` : ''}${a.duration_in_budget !== null ? `; within budget.depth from ${a.duration_in_budget}` : ''}`;
-      rows.push({ key: `shortest duration, ${a.drive}, ${a.subject === 'ground' ? 'ground state' : 'worst state'}`, value: v, unit: a.duration === null ? undefined : t });
+      const at = a.other === null ? '' : ` at ${otherKey} = ${a.other}`;
+      rows.push({ key: `shortest duration${at}, ${a.drive}, ${a.subject === 'ground' ? 'ground state' : 'worst state'}`, value: v, unit: a.duration === null ? undefined : t });
     }
   }
   return rows;
