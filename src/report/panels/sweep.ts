@@ -124,7 +124,7 @@ function mapFigure(file: SweepFile, drive: string, size: FigureSize): ReportFigu
 
 export function sweepFigures(file: SweepFile, size: FigureSize = 'paper'): ReportFigure[] {
   if (file.points.every((p) => p.error !== null)) return [];
-  if (file.plan.axes.length === 2) return drivesOf(file).map((d) => mapFigure(file, d, size));
+  if (file.plan.axes.length === 2) return file.plan.axes.every((a) => a.values.length >= 2) ? drivesOf(file).map((d) => mapFigure(file, d, size)) : [];
   const out = [fidelityFigure(file, size)];
   const ens = ensembleFigure(file, size);
   if (ens) out.push(ens);
