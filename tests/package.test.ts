@@ -28,7 +28,7 @@ describe('the compiled package', () => {
     // the loader is a development tool: only the worker bootstraps name it, on their branch for sources
     const tsxUsers = readdirSync(resolve(ROOT, 'dist'), { recursive: true, encoding: 'utf8' })
       .filter((f) => /\.m?js$/.test(f) && readFileSync(resolve(ROOT, 'dist', f), 'utf8').includes("'tsx"));
-    expect(tsxUsers.sort()).toEqual(['check/worker.mjs', 'cli/command-worker.mjs']);
+    expect(tsxUsers.sort()).toEqual(['check/worker.mjs', 'cli/command-worker.mjs', 'jobs/sweep-worker.mjs']);
     expect(readFileSync(resolve(ROOT, 'bin/isotrap.js'), 'utf8')).not.toMatch(/tsx/);
     expect(pkg.dependencies.tsx).toBeUndefined();
   });

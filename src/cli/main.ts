@@ -7,6 +7,7 @@ import { Command, CommanderError } from 'commander';
 import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts';
 import type { CheckCliOptions } from './commands/check.ts';
 import type { ExportCliOptions } from './commands/export.ts';
+import type { SweepCliOptions } from './commands/sweep.ts';
 import { FIGURES_HELP, version, type CommonOptions } from './options.ts';
 
 /** a command's entry: its argument and options in, exit code out */
@@ -24,6 +25,38 @@ const latticeCommand = lazy<CommonOptions>(async () => (await import('./commands
 const reportCommand = lazy<CommonOptions>(async () => (await import('./commands/report.ts')).reportCommand);
 const runCommand = lazy<CommonOptions>(async () => (await import('./commands/run.ts')).runCommand);
 const verifyCommand = lazy<CommonOptions>(async () => (await import('./commands/verify.ts')).verifyCommand);
+const sweepCommand = lazy<SweepCliOptions>(async () => (await import('./commands/sweep.ts')).sweepCommand);
+const sweepMergeCommand = async (dirs: string[], opts: CommonOptions) => (await import('./commands/sweep.ts')).sweepMergeCommand(dirs, opts);
+
+/** the sweep command and its merge subcommand */
+function sweepProgram(program: Command, exit: (code: number) => void): void {
+  const collect = (v: string, list: string[] = []) => [...list, v];
+  const sweep = program
+    .command('sweep')
+    .description('design and verify at every point of a grid over one or two numeric config keys (points on all cores, resumable, shardable)')
+    .argument('<config>', 'YAML scenario with protocol (and verify) sections')
+    .option('--vary <key=spec>', 'a numeric config key and its values: a:b:lin:n, a:b:log:n or v1,v2,… (once or twice), e.g. protocol.duration=0.2:10:log:25', collect)
+    .option('--target <infidelity>', 'the infidelity 1 − F each drive must reach (default 1e-3)')
+    .option('--threads <n>', 'worker threads (default: every core)')
+    .option('--shard <i/n>', "compute only share i of n (points with index ≡ i − 1 mod n), e.g. a batch job array's task; join with sweep merge")
+    .option('--out <dir>', 'output folder (default: outputs/<name>-sweep, or outputs/<name>-sweep-<i>of<n> for a shard)')
+    .option('--force', 'overwrite a finished sweep, or start an unfinished one afresh')
+    .option('--json', 'print the answers as JSON on stdout')
+    .option('--quiet', 'no progress on stderr')
+    .option('--figures <size>', FIGURES_HELP)
+    .action(async (config: string, opts: SweepCliOptions) => exit(await sweepCommand(config, opts)))
+    .enablePositionalOptions();
+  sweep
+    .command('merge')
+    .argument('<dirs...>', 'the shard folders of one sweep')
+    .description('join the shards of one sweep into one folder (table, answers, figures, report)')
+    .option('--out <dir>', 'output folder of the joined sweep')
+    .option('--force', 'overwrite a sweep already there')
+    .option('--json', 'print the answers as JSON on stdout')
+    .option('--quiet', 'no progress on stderr')
+    .option('--figures <size>', FIGURES_HELP)
+    .action(async (dirs: string[], opts: CommonOptions) => exit(await sweepMergeCommand(dirs, opts)));
+}
 
 /** the check command's options */
 function checkProgram(program: Command, exit: (code: number) => void): void {
@@ -57,6 +90,7 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
     .description('Design KdV-admissible trap sequences and verify exact cubic counterdiabatic driving')
     .version(version())
     .exitOverride()
+    .enablePositionalOptions() // a subcommand's options are its own (sweep and sweep merge both have --out)
     .configureOutput({ writeErr: (s) => process.stderr.write(s) });
   const common = (c: Command) =>
     c
@@ -72,6 +106,7 @@ export function buildProgram(handlers: { exit: (code: number) => void }): Comman
   scenarioCommand('lattice', 'tight-binding realisation of the design: on-site energies, tunnellings and Peierls couplings, verified on the lattice', 'YAML scenario with a lattice section', latticeCommand).option('--figures <size>', FIGURES_HELP);
   scenarioCommand('compare', 'quantum (KdV) against classical (Hopf) design: distance, ħ-scaling, phase-space check', 'YAML scenario', compareCommand).option('--figures <size>', FIGURES_HELP);
   checkProgram(program, handlers.exit);
+  sweepProgram(program, handlers.exit);
   program
     .command('export')
     .argument('<dir>', 'a finished run/verify output folder (sequence.json, potential.npy, verify.json)')

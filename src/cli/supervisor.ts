@@ -37,6 +37,7 @@ export const COMMAND_JOBS: Readonly<Record<string, readonly string[]>> = {
   lattice: ['lattice', 'figures'],
   report: ['report'],
   export: ['export'],
+  sweep: ['sweep', 'report'],
 };
 
 /** whether a standard stream is a terminal, and its width */
