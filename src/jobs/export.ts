@@ -32,8 +32,8 @@ import { makeGrid, type Grid } from '../spectral/grid.ts';
 import type { UnitSystem } from '../units/scales.ts';
 import { toJson } from './design.ts';
 import type { ReportFigure } from '../report/index.ts';
-import { EXPORT_FIGURE_IDS, exportFigures } from '../report/panels/export.ts';
-export { EXPORT_FIGURE_IDS };
+import { EXPORT_FIGURE_IDS, exportFigures, PAINTED_FIGURE_IDS } from '../report/panels/export.ts';
+export { EXPORT_FIGURE_IDS, PAINTED_FIGURE_IDS };
 
 export const EXPORT_JSON = 'export.json';
 /** the .npy files by array key (export.json names each with its axes and unit) */
@@ -244,7 +244,7 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
     if (paintedDrives.length === 0) throw new UserError(`option --psf-um blurs the painted potentials, but ${join(dir, 'verify.json')} has none: add verify.painted (e.g. [ground]) to the config and run isotrap run again`);
   }
   const outDir = opts.out ?? dir;
-  checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, EXPORT_FIGURE_IDS, paintedDrives) });
+  checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, [...EXPORT_FIGURE_IDS, ...paintedDrives.map((d) => PAINTED_FIGURE_IDS[d])], paintedDrives) });
 
   const grid = makeGrid(units.lengthToNatural(settings.grid.length), n);
   const u0 = Float64Array.from(stored.data.subarray(0, n), (v) => units.energyToNatural(v));

@@ -25,7 +25,7 @@ import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
 import { exportFigures, exportSummaryRows, type ExportSeries } from '../report/panels/export.ts';
 import { readExportFile, type ExportFile } from '../io/formats/export.ts';
-import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY, PAINTED_NPY } from './export.ts';
+import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY, PAINTED_FIGURE_IDS, PAINTED_NPY } from './export.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
 /** the compare.json content the compare figures read */
@@ -189,7 +189,8 @@ export function renderFolder(dir: string, opts: ReportOptions): string[] {
   }
   const first = sources.entries[0];
   // the export's figures are the export's own files (jobs/export.ts): the page shows them, the report leaves them
-  const own = figures.filter((f) => !(EXPORT_FIGURE_IDS as readonly string[]).includes(f.id));
+  const exported: readonly string[] = [...EXPORT_FIGURE_IDS, ...Object.values(PAINTED_FIGURE_IDS)];
+  const own = figures.filter((f) => !exported.includes(f.id));
   const produces = [...own.map((f) => `${f.id}.svg`), 'report.html'];
   return writeRun(dir, { force: opts.force, produces, job: 'report', identity: { run: first.run, configHash: first.config_hash } }, (out) => {
     const now = verifiedEntries(dir, sources.names);
