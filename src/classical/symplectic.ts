@@ -17,15 +17,16 @@
  * time (`PhaseHamiltonian.prepare`).
  */
 
+import { TRIPLE_JUMP } from '../integrate/composition.ts';
+
 /** Newton stops when the midpoint moves by less than this (relative): round-off */
 export const NEWTON_TOLERANCE = 1e-15;
 /** iteration cap; the predictor is O(h²) accurate, so convergence takes 3–5 iterations at sensible h */
 export const NEWTON_MAX_ITERATIONS = 50;
 
-const CBRT2 = Math.cbrt(2);
-/** Yoshida triple-jump weights (Phys. Lett. A 150, 262, 1990): γ₁ = 1/(2 − 2^{1/3}), γ₂ = −2^{1/3}/(2 − 2^{1/3}) */
-export const YOSHIDA_GAMMA1 = 1 / (2 - CBRT2);
-export const YOSHIDA_GAMMA2 = 1 - 2 * YOSHIDA_GAMMA1;
+/** Yoshida triple-jump weights γ₁, γ₂ (their one home: integrate/composition.ts) */
+export const YOSHIDA_GAMMA1 = TRIPLE_JUMP[0];
+export const YOSHIDA_GAMMA2 = TRIPLE_JUMP[1];
 
 export interface PhaseHamiltonian {
   /** make derivatives() refer to time t (called once per stage for all trajectories) */
