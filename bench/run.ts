@@ -3,7 +3,7 @@
  * Run with `npm run bench`. Each case is run once to warm up the JIT and then timed REPEATS times (best kept).
  */
 import { execFileSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { FLOW_PAIR } from '../src/flow/kdv.ts';
 import { parseConfig } from '../src/io/config.ts';
 import { runDesign } from '../src/jobs/design.ts';
@@ -166,7 +166,25 @@ function startupCase(): CaseResult {
   };
 }
 
-const results = { date: new Date().toISOString(), node: process.version, cases: [startupCase(), flowCase(), verifyCase(), await checkCase()] };
+/** a 25-point duration sweep of the default scenario through the compiled command line, all cores (minutes: skipped
+ *  with ISOTRAP_BENCH_QUICK=1) */
+function sweepCase(): CaseResult {
+  const dir = mkdtempSync(join(tmpdir(), 'isotrap-bench-sweep-'));
+  // the drives of the sweep target: cd and bare (the default scenario's painted drive left out)
+  const config = join(dir, 'default.yaml');
+  writeFileSync(config, readFileSync('configs/default.yaml', 'utf8').replace(', painted: [ground]', ''));
+  const t0 = performance.now();
+  execFileSync(process.execPath, ['bin/isotrap.js', 'sweep', config, '--vary', 'protocol.duration=0.2:10:log:25', '--out', join(dir, 'sweep'), '--quiet'], { stdio: ['ignore', 'ignore', 'inherit'] });
+  return {
+    case: 'isotrap sweep of configs/default.yaml without its painted drive, --vary protocol.duration=0.2:10:log:25 (25 verify runs of cd and bare, all cores)',
+    wall_seconds: (performance.now() - t0) / 1000,
+    target_wall_seconds: 180,
+    load_average_1min: loadavg()[0],
+  };
+}
+
+const quick = process.env.ISOTRAP_BENCH_QUICK === '1';
+const results = { date: new Date().toISOString(), node: process.version, cases: [startupCase(), flowCase(), verifyCase(), await checkCase(), ...(quick ? [] : [sweepCase()])] };
 mkdirSync('bench', { recursive: true });
 writeFileSync('bench/results.json', JSON.stringify(results, null, 2) + '\n');
 console.log(JSON.stringify(results, null, 2));

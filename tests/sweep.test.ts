@@ -190,5 +190,17 @@ describe('sweep plan and answers (no computation)', () => {
     const [a] = sweepAnswers(plan, t.values.map((T0, i) => point(i, T0, f(T0))));
     expect(a.duration).toBe(100);
     expect(a.interpolated).toBeCloseTo(10 * Math.sqrt(f(t.values[1]) / 1e-4), 10);
+    // a painted drive is within budget.depth only where its own painted depth is (common practice: the laser power
+    // limits the deepest potential painted); its painted depth falls as T⁻² like V_loc ∝ λ̇², λ̈
+    const painted = (index: number, T0: number, depth: number): SweepPoint => ({
+      ...point(index, T0, 1e-5), limit_depth: 5,
+      drives: [{ drive: 'painted_ground', min_fidelity: 1 - 1e-5, painted_depth: depth, states: [{ index: 0, energy: -1, fidelity: 1 - 1e-5, excess: 0 }], thermal: null, fermions: null }],
+    });
+    // every duration meets the target; the painted depth 1 + 400/T² is 401, 5, 1.04 at T = 1, 10, 100
+    const [b] = sweepAnswers(plan, t.values.map((T0, i) => painted(i, T0, 1 + 400 / T0 ** 2)));
+    expect(b.duration).toBe(1);
+    expect(b.duration_in_budget).toBeCloseTo(10, 12);
+    const [c] = sweepAnswers(plan, t.values.map((T0, i) => painted(i, T0, 2)));
+    expect(c.duration_in_budget).toBe(1);
   });
 });

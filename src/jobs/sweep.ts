@@ -280,6 +280,7 @@ function driveRecords(design: DesignResult, verify: ReturnType<typeof runVerify>
   return natural.drives.map((d) => ({
     drive: d.drive,
     min_fidelity: d.minFidelity,
+    ...(d.paintedRange ? { painted_depth: -E(d.paintedRange.min) } : {}),
     states: natural.states.map((s, i) => ({ index: s.index, energy: file.states[i].energy, fidelity: d.fidelity[i], excess: E(d.excessEnergy[i]) })),
     thermal: d.thermal ? { temperature: file.thermal?.temperature ?? NaN, fidelity: d.thermal.ensembleFidelity, uhlmann: d.thermal.uhlmannFidelity ?? NaN, mean_excess: E(d.thermal.meanExcessEnergy) } : null,
     fermions: d.fermions ? { count: d.fermions.particles, fidelity: d.fermions.manyBodyFidelity } : null,
@@ -455,7 +456,7 @@ function missingPoint(dir: string, p: number): never {
 
 const DEFINITIONS: Record<string, string> = {
   subjects: 'ground: the ground state; worst: the worst tracked state (verify.states); thermal: the Boltzmann mean of the state fidelities; thermal_uhlmann: the Uhlmann fidelity of the evolved and the final Gibbs state; fermi_sea: the filled Fermi sea (verify.fermions)',
-  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the designed sequence within budget.depth',
+  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s)',
   adiabatic_time: 'the answer (interpolated where possible) of the bare drive for the ground state: how slow the plain ramp must be',
   drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them',
 };
@@ -510,11 +511,14 @@ export function sweepAnswers(plan: SweepPlan, points: readonly SweepPoint[]): Sw
     const group = ran.filter((p) => o === null || p.values[other] === o).sort((a, b) => a.values[axis] - b.values[axis]);
     for (const drive of drives) {
       for (const subject of ANSWER_SUBJECTS) {
-        const rows = group.map((p) => ({ p, f: subjectInfidelity(p.drives.find((d) => d.drive === drive)!, subject) })).filter((r) => !Number.isNaN(r.f));
+        const rows = group.map((p) => {
+          const d = p.drives.find((x) => x.drive === drive)!;
+          return { p, f: subjectInfidelity(d, subject), depth: d.painted_depth ?? p.deepest };
+        }).filter((r) => !Number.isNaN(r.f));
         if (rows.length === 0) continue;
         const plain = shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity })), plan.target_infidelity);
         const limit = rows[0].p.limit_depth;
-        const inBudget = limit === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && r.p.deepest <= limit })), plan.target_infidelity).duration;
+        const inBudget = limit === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && r.depth <= limit })), plan.target_infidelity).duration;
         answers.push({ drive, subject, other: o, ...plain, duration_in_budget: inBudget });
       }
     }

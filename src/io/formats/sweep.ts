@@ -53,6 +53,9 @@ export interface SweepState {
 export interface SweepDrive {
   drive: string;
   min_fidelity: number;
+  /** painted drives: the painted potential's depth −min(V + V_loc) over the protocol (energy unit), the quantity a
+   *  laser-power budget limits; absent for the other drives, whose depth is the designed sequence's */
+  painted_depth?: number;
   states: SweepState[];
   thermal: null | { temperature: number; fidelity: number; uhlmann: number; mean_excess: number };
   fermions: null | { count: number; fidelity: number };
@@ -121,6 +124,7 @@ const planSchema: z.ZodType<SweepPlan> = z.object({
 const driveSchema = z.object({
   drive: str,
   min_fidelity: num,
+  painted_depth: num.optional(),
   states: z.array(z.object({ index: num, energy: num, fidelity: num, excess: num })),
   thermal: z.object({ temperature: num, fidelity: num, uhlmann: num, mean_excess: num }).nullable(),
   fermions: z.object({ count: num, fidelity: num }).nullable(),
