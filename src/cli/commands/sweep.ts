@@ -46,9 +46,11 @@ function print(r: SweepResult, dir: string, opts: CommonOptions): number {
     if (!f.shard && f.plan.axes.some((a) => a.key === 'protocol.duration')) {
       if (f.plan.axes.length === 1) rows.push(['adiabatic time', f.adiabatic_time === null ? 'bare ground state not at the target in the swept range' : `${num(f.adiabatic_time)} ${t} (bare drive, ground state)`]);
       const otherKey = f.plan.axes.find((a) => a.key !== 'protocol.duration')?.key;
+      const budget = f.points.some((p) => p.limit_depth !== null);
       for (const a of f.answers.filter((x) => x.subject === 'ground')) {
         const at = a.other === null ? '' : ` at ${otherKey} = ${num(a.other)}`;
-        rows.push([`shortest duration${at}, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.interpolated !== null ? ` (crossing ≈ ${num(a.interpolated)} ${t})` : ''}${a.duration_in_budget !== null ? `; within budget.depth from ${num(a.duration_in_budget)} ${t}` : ''}`]);
+        const inBudget = a.duration_in_budget !== null ? `; within budget.depth from ${num(a.duration_in_budget)} ${t}` : budget ? '; never within budget.depth in the swept range' : '';
+        rows.push([`shortest duration${at}, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.interpolated !== null ? ` (crossing ≈ ${num(a.interpolated)} ${t})` : ''}${inBudget}`]);
       }
     }
     rows.push(['outputs', dir]);
