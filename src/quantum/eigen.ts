@@ -18,7 +18,7 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { NumericalError } from '../core/errors.ts';
 import { makeRng } from '../core/rng.ts';
-import { RealFFT } from '../spectral/fft.ts';
+import { FourierMultiplier } from '../spectral/real-operators.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
 
@@ -67,15 +67,11 @@ export class RealHamiltonian {
   readonly n: number;
   readonly normH: number;
   matvecs = 0;
-  private readonly fft: RealFFT;
-  private readonly spec: Float64Array;
-  private readonly k2: Float64Array;
+  private readonly kinetic: FourierMultiplier;
   private readonly u: Float64Array;
   constructor(grid: Grid, u: Float64Array) {
     this.n = grid.n;
-    this.fft = new RealFFT(grid.n);
-    this.spec = new Float64Array(grid.n + 2);
-    this.k2 = Float64Array.from(grid.kHalf, (k) => k * k);
+    this.kinetic = new FourierMultiplier(grid, (k) => k * k);
     this.u = u;
     let umax = 0;
     for (let j = 0; j < u.length; j++) umax = Math.max(umax, Math.abs(u[j]));
@@ -83,13 +79,7 @@ export class RealHamiltonian {
   }
   apply(x: Float64Array, y: Float64Array): void {
     this.matvecs++;
-    const s = this.spec;
-    this.fft.forward(x, s);
-    for (let m = 0; m < this.k2.length; m++) {
-      s[2 * m] *= this.k2[m];
-      s[2 * m + 1] *= this.k2[m];
-    }
-    this.fft.inverse(s, y);
+    this.kinetic.apply(x, y);
     const u = this.u;
     for (let j = 0; j < this.n; j++) y[j] += u[j] * x[j];
   }
@@ -458,24 +448,6 @@ const GROUND_MAX_ITERATIONS = 300;
 /** a search direction whose orthogonalised norm falls below this fraction of its own is dropped (it adds nothing) */
 const GROUND_DROP = 1e-10;
 
-/** y = (k² + σ)⁻¹x, the kinetic preconditioner of `groundStateNear` (σ > 0), by the real FFT */
-class KineticPreconditioner {
-  private readonly fft: RealFFT;
-  private readonly spec: Float64Array;
-  private readonly inv: Float64Array;
-  constructor(grid: Grid, sigma: number) {
-    this.fft = new RealFFT(grid.n);
-    this.spec = new Float64Array(grid.n + 2);
-    this.inv = Float64Array.from(grid.kHalf, (k) => 1 / (k * k + sigma));
-  }
-  apply(x: Float64Array, y: Float64Array): void {
-    const s = this.spec;
-    this.fft.forward(x, s);
-    for (let m = 0; m < this.inv.length; m++) { s[2 * m] *= this.inv[m]; s[2 * m + 1] *= this.inv[m]; }
-    this.fft.inverse(s, y);
-  }
-}
-
 /**
  * The ground state of k² + u from a nearby guess (e.g. the ground state at a neighbouring λ): single-vector LOBPCG
  * (Knyazev, SIAM J. Sci. Comput. 23, 517, 2001, Algorithm 4.1) with the kinetic preconditioner (k² + σ)⁻¹,
@@ -491,7 +463,9 @@ export function groundStateNear(grid: Grid, u: Float64Array, guess: Float64Array
   const h = new RealHamiltonian(grid, u);
   let umin = 0;
   for (let j = 0; j < n; j++) umin = Math.min(umin, u[j]);
-  const pre = new KineticPreconditioner(grid, Math.max(1, -umin));
+  // the kinetic preconditioner y = (k² + σ)⁻¹x
+  const sigma = Math.max(1, -umin);
+  const pre = new FourierMultiplier(grid, (k) => 1 / (k * k + sigma));
   const tol = Math.max(GROUND_RESIDUAL_REL * h.normH, 8 * Number.EPSILON * h.normH * Math.sqrt(n));
   // columns x, w, p and their images under H
   const S = [Float64Array.from(guess), new Float64Array(n), new Float64Array(n)];

@@ -62,3 +62,29 @@ export class RealGridOperators {
     for (let j = 0; j < f.length; j++) out[j] = -0.5 * (out[j] + phi[j] * t[j]);
   }
 }
+
+/**
+ * y = F⁻¹[m(k) F[x]] for a real, even symbol m (diagonal in Fourier space: k², (k² + σ)⁻¹, a blur kernel's
+ * transform); the one home of a real spectral multiplier. Buffers allocated once; `apply` allocates nothing and
+ * may write into x itself.
+ */
+export class FourierMultiplier {
+  private readonly fft: RealFFT;
+  private readonly spec: Float64Array;
+  private readonly symbol: Float64Array;
+  constructor(grid: Grid, symbol: (k: number) => number) {
+    this.fft = new RealFFT(grid.n);
+    this.spec = new Float64Array(grid.n + 2);
+    this.symbol = Float64Array.from(grid.kHalf, symbol);
+  }
+  apply(x: Float64Array, y: Float64Array): Float64Array {
+    const s = this.spec, m = this.symbol;
+    this.fft.forward(x, s);
+    for (let i = 0; i < m.length; i++) {
+      s[2 * i] *= m[i];
+      s[2 * i + 1] *= m[i];
+    }
+    this.fft.inverse(s, y);
+    return y;
+  }
+}
