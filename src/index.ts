@@ -32,7 +32,7 @@ export function design(config: ConfigInput, opts: DesignOptions = {}): DesignRes
 }
 
 /** the Schrödinger proof of a scenario (designing it first unless a design is given): `isotrap verify` without files */
-export function verify(config: ConfigInput, opts: VerifyJobOptions & { design?: DesignResult } = {}): VerifyJobResult {
+export async function verify(config: ConfigInput, opts: VerifyJobOptions & { design?: DesignResult } = {}): Promise<VerifyJobResult> {
   const c = configOf(config);
   return runVerify(c, opts.design ?? runDesign(c), opts);
 }

@@ -38,10 +38,10 @@ describe('initial.kind target through the design job', () => {
     expect(o.exact_distance_relative).toBeLessThan(1e-4);
   });
 
-  it('the verified drive keeps the eigenstates of a target split, whose flow has a drift (the correction gains λ̇ c k)', () => {
+  it('the verified drive keeps the eigenstates of a target split, whose flow has a drift (the correction gains λ̇ c k)', async () => {
     // −c u_ξ = [−c∂_ξ, −∂² + u] adds −c∂_ξ to the Lax operator (Lax, Comm. Pure Appl. Math. 21, 467, 1968; physics.md §3)
     const c = cfg('{ kind: target, outcome: split, depths: [2, 0.5], separation: 8 }', 'flow: { frames: 5, tolerance: 1e-9 }', 'protocol: { duration: 4 }\nverify: { states: 2 }\n');
-    const v = runVerify(c, runDesign(c)).file;
+    const v = (await runVerify(c, runDesign(c))).file;
     v.states.forEach((st) => expect(st.fidelity_cd).toBeGreaterThan(1 - 1e-6)); // exact CD (physics.md §1)
     v.states.forEach((st) => expect(st.fidelity_bare).toBeLessThan(0.5)); // a 4 t₀ ramp excites (common practice)
   });

@@ -72,11 +72,11 @@ describe('lab-time samples of the flow (natural units)', () => {
 
 describe('isotrap export of a run folder', () => {
   let dir: string;
-  beforeAll(() => {
+  beforeAll(async () => {
     const root = mkdtempSync(join(tmpdir(), 'isotrap-export-'));
     dir = join(root, 'run');
     const config = parseConfig(SMALL_SOLITON('exp'), 'exp.yaml', root);
-    runPipeline(config, { dir, force: false, report: false, toolVersion: 'test' });
+    await runPipeline(config, { dir, force: false, report: false, toolVersion: 'test' });
   }, 120_000);
 
   it('writes V(x, t_i) whose ends are the design’s first and last frames, the ramp and the correction, named by a valid sidecar', () => {
@@ -194,12 +194,12 @@ describe('isotrap export of a run folder', () => {
 });
 
 describe('isotrap export in lab units', () => {
-  it('C₃ = −4λ̇ħℓ³ = −(2/π)λ̇ h·kHz·ms·µm³ and w = −6λ̇ℓV/E₀ (physics.md §3; CODATA 2018 ħ, h; AME2020 ⁸⁷Rb mass)', () => {
+  it('C₃ = −4λ̇ħℓ³ = −(2/π)λ̇ h·kHz·ms·µm³ and w = −6λ̇ℓV/E₀ (physics.md §3; CODATA 2018 ħ, h; AME2020 ⁸⁷Rb mass)', async () => {
     const root = mkdtempSync(join(tmpdir(), 'isotrap-export-lab-'));
     const dir = join(root, 'run');
     // the one-soliton scenario of SMALL_SOLITON in ⁸⁷Rb units, ℓ = 1 µm: depth 2 E₀, duration 0.4 t₀ (illustrative)
     const yaml = rbConfig('lab', { length: 40, depthE0: 2, lambdaEnd: 0.2, durationT0: 0.4, ramp: 'sin2', verify: '{ states: 2 }' });
-    runPipeline(parseConfig(yaml, 'lab.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
+    await runPipeline(parseConfig(yaml, 'lab.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
     const r = runExport(dir, { rate: 4, csv: false, force: false });
     expect(r.file.units).toMatchObject({ energy: 'h·kHz', time: 'ms', length: 'µm', velocity: 'µm/ms' });
     const { lambda_rate: rate, cubic, potential, velocity } = r.arrays;
@@ -215,11 +215,11 @@ describe('isotrap export in lab units', () => {
 describe('isotrap export of painted corrections (physics.md §7)', () => {
   // an illustrative ⁸⁷Rb scenario (invented): a −6 sech² well of 1 µm split into two; the ground state painted
   let dir: string;
-  beforeAll(() => {
+  beforeAll(async () => {
     const root = mkdtempSync(join(tmpdir(), 'isotrap-export-painted-'));
     dir = join(root, 'run');
     const yaml = rbConfig('painted', { length: 24, depthE0: 6, lambdaEnd: 0.1, durationT0: 0.3, ramp: 'smooth', verify: '{ states: 2, painted: [ground] }' });
-    runPipeline(parseConfig(yaml, 'painted.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
+    await runPipeline(parseConfig(yaml, 'painted.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
   }, 120_000);
 
   it('the painted potential equals V at both ends (λ̇ = λ̈ = 0 there, so V_loc = 0), is named by the sidecar, and keeps the ground state to 1 − 1e-6 in verify.json (Masuda & Nakamura, Proc. R. Soc. A 466, 1135, 2010)', () => {

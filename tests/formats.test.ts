@@ -31,12 +31,12 @@ function userError(f: () => unknown): UserError {
 describe('output formats: typed readers of the files the tool writes', () => {
   let dir = '';
   let checkDir = '';
-  beforeAll(() => {
+  beforeAll(async () => {
     dir = mkdtempSync(join(tmpdir(), 'isotrap-formats-'));
     const config = parseConfig(CONFIG, 'formats.yaml', dir);
     const design = runDesign(config);
     writeDesignOutputs(design, dir, false);
-    writeVerifyOutputs(runVerify(config, design, { traceSamples: 2 }), dir, true);
+    writeVerifyOutputs(await runVerify(config, design, { traceSamples: 2 }), dir, true);
     checkDir = join(dir, 'check');
     writeCheckOutputs(runCheck({ input: join(dir, 'potential.npy') }), checkDir, false);
   });

@@ -28,7 +28,7 @@ describe('the compiled package', () => {
     // the loader is a development tool: only the worker bootstraps name it, on their branch for sources
     const tsxUsers = readdirSync(resolve(ROOT, 'dist'), { recursive: true, encoding: 'utf8' })
       .filter((f) => /\.m?js$/.test(f) && readFileSync(resolve(ROOT, 'dist', f), 'utf8').includes("'tsx"));
-    expect(tsxUsers.sort()).toEqual(['check/worker.mjs', 'cli/command-worker.mjs', 'jobs/sweep-worker.mjs']);
+    expect(tsxUsers.sort()).toEqual(['check/worker.mjs', 'cli/command-worker.mjs', 'jobs/sweep-worker.mjs', 'quantum/drive-worker.mjs']);
     expect(readFileSync(resolve(ROOT, 'bin/isotrap.js'), 'utf8')).not.toMatch(/tsx/);
     expect(pkg.dependencies.tsx).toBeUndefined();
   });
@@ -39,7 +39,7 @@ describe('the compiled package', () => {
       import { design, verify, parseConfig } from 'isotrap';
       const config = parseConfig(process.argv[1], 'api.yaml', '.');
       const d = design(config);
-      const v = verify(config, { design: d, traceSamples: 0 });
+      const v = await verify(config, { design: d, traceSamples: 0 });
       process.stdout.write(JSON.stringify({ last: Array.from(d.run.frames.at(-1)), fid: v.file.states.map((s) => s.fidelity_cd) }));
     `;
     const r = node(['--input-type=module', '-e', script, text]);

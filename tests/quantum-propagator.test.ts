@@ -85,7 +85,7 @@ describe('propagator against a dense exact exponential (ml-matrix eigen-decompos
   const nrm = Math.hypot(...psi0);
   for (let j = 0; j < psi0.length; j++) psi0[j] /= nrm;
 
-  for (const scheme of ['magnus4', 'etd4', 'split4'] as Scheme[]) {
+  for (const scheme of ['magnus4', 'etd4', 'split4', 'etd53', 'etd43'] as Scheme[]) {
     it(`${scheme}: time-independent H_CD (complex Hermitian), ‖ψ − ψ_exact‖ < 1e-7`, () => {
       const H = constantHamiltonian(g, [{ until: Infinity, terms: cd(u1, 0.2) }]);
       const r = propagate(H, [psi0], 0, 0.5, { scheme, tol: 1e-14 });
@@ -118,6 +118,17 @@ describe('propagator against a dense exact exponential (ml-matrix eigen-decompos
       const order = Math.log2(e1 / e2);
       expect(order).toBeGreaterThan(3.5); // fourth-order schemes: error ratio 2⁴ per halving
       expect(order).toBeLessThan(4.6);
+    }
+    // the embedded pairs propagate their higher-order solution (h‖H‖ < 2 at 800 steps): ETD5(3) order 5 (Whalen, Brio & Moloney, J. Comput.
+    // Phys. 280, 579, 2015, §3), Krogstad's ETD4 order 4 (Krogstad, J. Comput. Phys. 203, 72, 2005)
+    for (const [scheme, p] of [['etd53', 5], ['etd43', 4]] as const) {
+      const ref = propagate(H, [psi0], 0, 1, { scheme: 'etd53', fixedSteps: 12800, tol: 1e-16 }).states[0];
+      const e1 = dist(propagate(H, [psi0], 0, 1, { scheme, fixedSteps: 800, tol: 1e-16 }).states[0], ref);
+      const e2 = dist(propagate(H, [psi0], 0, 1, { scheme, fixedSteps: 1600, tol: 1e-16 }).states[0], ref);
+      const order = Math.log2(e1 / e2);
+      // at least the classical order; on this linear problem ETD5(3) converges like h⁶ (measured 6.0 at 800 → 1600)
+      expect(order, scheme).toBeGreaterThan(p - 0.5);
+      expect(order, scheme).toBeLessThan(p + 1.3);
     }
   });
 });
@@ -205,6 +216,25 @@ describe('global error control: converged to its budget or refused', () => {
     const r = propagate(kdvDrive(g, zero, still, 1), init, 0, 1, { tol: 1e-8, errorControl: 'global' });
     expect(r.stats.levels).toEqual([64, 128]);
     expect(r.stats.estimatedAmplitudeError).toBeLessThan(1e-12);
+  });
+  it('with sample times denser than the first levels, the levels still differ and the budget is met (common practice: the uniform grid refined, samples inserted)', () => {
+    // 41 samples against levels of 8, 16, … steps: were the steps cut at the samples alone, two levels would be the
+    // same discretisation, agree exactly and be accepted with any error
+    const times = Array.from({ length: 41 }, (_, i) => i / 40);
+    const tol = 1e-10;
+    const r = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol, errorControl: 'global', expectedSteps: 32, sampleTimes: times, onSample: () => undefined });
+    const ref = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { fixedSteps: 4000 }).states[0];
+    expect(r.stats.levels![0]).toBeLessThan(times.length);
+    expect(new Set(r.stats.levels).size).toBe(r.stats.levels!.length);
+    const d = dist(r.states[0], ref);
+    expect(d).toBeLessThan(Math.sqrt(tol));
+  });
+  it('the embedded pair under local control meets its budget in one pass (Whalen, Brio & Moloney 2015)', () => {
+    const tol = 1e-10;
+    const r = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol, scheme: 'etd53', errorControl: 'local' });
+    expect(r.stats.errorEstimator).toBe('embedded pair');
+    const ref = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { fixedSteps: 4000 }).states[0];
+    expect(dist(r.states[0], ref)).toBeLessThan(Math.sqrt(tol));
   });
   it('refuses with a NumericalError when the level cap comes first', () => {
     expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(NumericalError);

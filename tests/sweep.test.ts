@@ -47,10 +47,10 @@ describe('isotrap sweep', () => {
     whole = { dir, file: r.file };
   }, 60_000);
 
-  it('a sweep point equals a single verify of the same config, to the last digit', () => {
+  it('a sweep point equals a single verify of the same config, to the last digit', async () => {
     // common practice: a sweep repeats `verify` at each point, so nothing may differ from running it alone
     const config = parseConfig(CONFIG.replace('duration: 1.0', `duration: ${DURATIONS[1]}`), 'single.yaml', tmpdir());
-    const v = runVerify(config, runDesign(config)).file;
+    const v = (await runVerify(config, runDesign(config))).file;
     const p = whole.file.points[1];
     expect(p.values).toEqual([DURATIONS[1]]);
     const cd = p.drives.find((d) => d.drive === 'cd')!;

@@ -11,13 +11,13 @@ import { UserError } from '../src/core/errors.ts';
 const configOf = (doc: unknown, name = 'painted.yaml') => parseConfig(stringify(doc), name, tmpdir());
 
 describe('verify with painted corrections (jobs/verify.ts, quantum/painted.ts, physics.md §7)', () => {
-  it('default scenario (at 512 points): the painted one-state correction keeps the ground state to 1 − 1e-6 and the painted potential and its ½{g, p} partner end with the same fidelity to 1e-8 (gauge equivalence, physics.md §7; Masuda & Nakamura, Proc. R. Soc. A 466, 1135, 2010)', () => {
+  it('default scenario (at 512 points): the painted one-state correction keeps the ground state to 1 − 1e-6 and the painted potential and its ½{g, p} partner end with the same fidelity to 1e-8 (gauge equivalence, physics.md §7; Masuda & Nakamura, Proc. R. Soc. A 466, 1135, 2010)', async () => {
     const doc = parse(readFileSync('configs/default.yaml', 'utf8'));
     doc.grid.points = 512;
     // the ground state alone: the state the one-state correction carries (a bound state, as the gauge check needs)
     doc.verify = { states: 1, tolerance: 1e-9, painted: ['ground'] };
     const config = configOf(doc);
-    const r = runVerify(config, runDesign(config), { traceSamples: 0 });
+    const r = await runVerify(config, runDesign(config), { traceSamples: 0 });
     const p = r.file.painted;
     expect(p).not.toBeNull();
     const ground = p!.drives.find((d) => d.kind === 'ground')!;
@@ -36,13 +36,13 @@ describe('verify with painted corrections (jobs/verify.ts, quantum/painted.ts, p
     expect(r.file.summary_rows.some((row) => /gauge check/.test(row.key))).toBe(true);
   }, 120_000);
 
-  it('a linear ramp is refused for a painted correction with an input error naming protocol.ramp and the reason (λ̇ ≠ 0 at the start; physics.md §7)', () => {
+  it('a linear ramp is refused for a painted correction with an input error naming protocol.ramp and the reason (λ̇ ≠ 0 at the start; physics.md §7)', async () => {
     const config = configOf({
       name: 'linear', grid: { length: 24, points: 256 }, initial: { kind: 'sech2', depth: 6, width: 1, center: 0 },
       flow: { lambda_end: 0.05, frames: 5 }, protocol: { duration: 0.3, ramp: 'linear' }, verify: { states: 2, painted: ['ground'] },
     });
     const design = runDesign(config);
-    expect(() => runVerify(config, design)).toThrow(UserError);
-    expect(() => runVerify(config, design)).toThrow(/protocol\.ramp = linear is not allowed with verify\.painted = \[ground\]: λ̇ = .* ≠ 0 at the start/);
+    await expect(runVerify(config, design)).rejects.toThrow(UserError);
+    await expect(runVerify(config, design)).rejects.toThrow(/protocol\.ramp = linear is not allowed with verify\.painted = \[ground\]: λ̇ = .* ≠ 0 at the start/);
   });
 });

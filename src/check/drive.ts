@@ -170,12 +170,12 @@ export interface ComparisonResult {
   interpolation: string;
 }
 
-/** the estimated steps of each drive (quantum/cost.ts: corrected drives have the stiffer first-order term) */
-function driveWeights(opts: CompareOptions, lambdaSpan: number, ramp: RampKind): number[] {
+/** the estimated accepted level of each drive (quantum/cost.ts: corrected drives have the stiffer first-order term) */
+function expectedLevels(opts: CompareOptions, lambdaSpan: number, ramp: RampKind): number[] {
   let maxAbsU = 0;
   for (const f of opts.frames) for (let j = 0; j < f.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(f[j]));
   const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: lambdaSpan, ramp, duration: opts.duration, tol: opts.tol ?? DEFAULT_STEP_TOL };
-  return opts.drives.map((d) => ladderSteps(estimateSchrodingerSteps(size, d.schedule !== null)));
+  return opts.drives.map((d) => estimateSchrodingerSteps(size, d.schedule !== null));
 }
 
 /** propagate the lowest levels of the first frame under each drive and compare at the last frame (module doc) */
@@ -196,14 +196,15 @@ export function compareCorrections(opts: CompareOptions): ComparisonResult {
   const prop = new Propagator(grid);
   const op = new SpectralOperator(grid);
   const scratch = new Float64Array(2 * grid.n);
-  const weights = driveWeights(opts, l1 - l0, kind);
+  const expected = expectedLevels(opts, l1 - l0, kind);
+  const weights = expected.map(ladderSteps);
   const total = weights.reduce((a, b) => a + b, 0);
   let done = 0;
   const drives: DriveComparison[] = opts.drives.map(({ label, schedule }, di) => {
     const t0 = performance.now();
     const H = correctionDrive(grid, seq, schedule, ramp, l0);
     const res = prop.propagate(H, init, 0, opts.duration, {
-      tol: opts.tol ?? DEFAULT_STEP_TOL, scheme: opts.scheme, errorControl: 'global',
+      tol: opts.tol ?? DEFAULT_STEP_TOL, scheme: opts.scheme, errorControl: 'global', expectedSteps: expected[di],
       onProgress: opts.onProgress ? (f) => opts.onProgress?.((done + f * weights[di]) / total) : undefined,
     });
     done += weights[di];

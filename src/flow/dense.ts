@@ -1,5 +1,5 @@
 /** Dense output of the flow integrator (kdv.ts): every accepted step, queried at any λ. */
-import type { RealFFT } from '../spectral/fft.ts';
+import { RealFFT } from '../spectral/fft.ts';
 import { intervalIndex } from '../spectral/ops.ts';
 
 /**
@@ -79,8 +79,43 @@ export class DenseFlow {
   rateAt(lambda: number, out: Float64Array): Float64Array {
     return this.combine(lambda, out, true);
   }
+  /** the stored spectra as plain data (shared, not copied), for a worker thread to rebuild the interpolant */
+  data(): DenseFlowData {
+    return { points: this.points, lambdas: this.lambdas, values: this.values, rates: this.rates };
+  }
+  /** the interpolant of `data` (arrays shared) */
+  static fromData(d: DenseFlowData): DenseFlow {
+    const flow = new DenseFlow(d.points, new RealFFT(d.points));
+    flow.lambdas.push(...d.lambdas);
+    flow.values.push(...d.values);
+    flow.rates.push(...d.rates);
+    return flow;
+  }
   /** bytes held by the stored spectra */
   get bytes(): number {
     return this.values.reduce((s, a) => s + 2 * a.byteLength, 0);
   }
+}
+
+/** a DenseFlow as plain data (structured-clone safe) */
+export interface DenseFlowData {
+  points: number;
+  lambdas: number[];
+  values: Float64Array[];
+  rates: Float64Array[];
+}
+
+/** the potential of a designed sequence as plain data: the dense flow read at λ clamped to [lo, hi] */
+export interface SequenceSource {
+  dense: DenseFlowData;
+  lo: number;
+  hi: number;
+}
+
+/** u(ξ; λ) of a sequence source, λ clamped to its range */
+export function sequencePotential(src: SequenceSource): (lambda: number, out: Float64Array) => void {
+  const flow = DenseFlow.fromData(src.dense);
+  return (l, out) => {
+    flow.at(Math.min(Math.max(l, src.lo), src.hi), out);
+  };
 }

@@ -16,7 +16,7 @@
  *
  * All arrays are interleaved complex (re, im).
  */
-import { phiImaginary } from './phi.ts';
+import { phiImaginary, phiImaginaryFromExp, PHI_SERIES_BELOW } from './phi.ts';
 import type { StageRhs } from './etdrk4.ts';
 
 /** weights (of φ₁, φ₂, φ₃) of one coefficient; null: the coefficient is zero */
@@ -104,7 +104,7 @@ interface Term {
 
 /** the coefficients of a table for one step size h: exponentials and φ-combinations per mode */
 export interface EtdPairCoefficients {
-  readonly h: number;
+  h: number;
   readonly table: EtdPairTable;
   /** e^{c_i hL} per stage (index 0 unused) */
   readonly stageExp: readonly Float64Array[];
@@ -113,6 +113,16 @@ export interface EtdPairCoefficients {
   readonly exp: Float64Array;
   readonly resultTerms: readonly Term[];
   readonly errorTerms: readonly Term[];
+  /** what `refillEtdPairCoefficients` recomputes: per distinct node its exponential and φ-values, per combination
+   *  its node, its scale in units of h and its weights */
+  readonly nodeValues: ReadonlyMap<number, { exp: Float64Array; phi: Float64Array }>;
+  readonly combos: readonly { c: number; factor: number; w: readonly [number, number, number]; out: Float64Array }[];
+  /** the nodes as multiples of a common unit (1/8 or coarser), so that every e^{i c h lim} is a power of one
+   *  exponential per mode (null: some node is not such a multiple) */
+  readonly multiples: ReadonlyMap<number, number> | null;
+  readonly unit: number;
+  /** powers e^{i k·unit·h·lim}, k = 1 … max multiple, of one mode (re, im) */
+  readonly powers: Float64Array;
 }
 
 /**
@@ -121,47 +131,107 @@ export interface EtdPairCoefficients {
  */
 export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64Array): EtdPairCoefficients {
   const m = lim.length;
-  const phis = new Map<number, { exp: Float64Array; phi: Float64Array }>();
-  const scratch = new Float64Array(6);
-  const phiAt = (c: number) => {
-    let p = phis.get(c);
+  const nodeValues = new Map<number, { exp: Float64Array; phi: Float64Array }>();
+  const node = (c: number) => {
+    let p = nodeValues.get(c);
     if (!p) {
-      const exp = new Float64Array(2 * m);
-      const phi = new Float64Array(6 * m);
+      p = { exp: new Float64Array(2 * m), phi: new Float64Array(6 * m) };
+      nodeValues.set(c, p);
+    }
+    return p;
+  };
+  const byKey = new Map<string, Float64Array>();
+  const combos: { c: number; factor: number; w: readonly [number, number, number]; out: Float64Array }[] = [];
+  const combo = (c: number, factor: number, w: readonly [number, number, number]): Float64Array => {
+    const key = `${c}:${factor}:${w.join(',')}`;
+    let out = byKey.get(key);
+    if (!out) {
+      node(c);
+      out = new Float64Array(2 * m);
+      byKey.set(key, out);
+      combos.push({ c, factor, w, out });
+    }
+    return out;
+  };
+  const terms = (ws: readonly PhiWeights[], c: number, factor: number): Term[] =>
+    ws.flatMap((w, from) => (w ? [{ from, coef: combo(c, factor, w) }] : []));
+  const stageExp = table.nodes.map((c, i) => (i === 0 ? new Float64Array(0) : node(c).exp));
+  const stageTerms = table.a.map((row, i) => terms(row, table.nodes[i], table.nodes[i]));
+  const co: EtdPairCoefficients = { h, table, stageExp, stageTerms, exp: node(1).exp, resultTerms: terms(table.b, 1, 1), errorTerms: terms(table.d, 1, 1), nodeValues, combos, ...nodeMultiples([...nodeValues.keys()]) };
+  refillEtdPairCoefficients(co, h, lim);
+  return co;
+}
+
+/** the largest denominator of a node that is written as a power of one exponential (common practice: the nodes of
+ *  the tables here are quarters and halves) */
+const MAX_NODE_DENOMINATOR = 8;
+
+function nodeMultiples(nodes: readonly number[]): { multiples: Map<number, number> | null; unit: number; powers: Float64Array } {
+  const unit = 1 / MAX_NODE_DENOMINATOR;
+  const multiples = new Map<number, number>();
+  for (const c of nodes) {
+    const k = Math.round(c / unit);
+    if (Math.abs(k * unit - c) > 1e-15 || k < 1) return { multiples: null, unit, powers: new Float64Array(0) };
+    multiples.set(c, k);
+  }
+  return { multiples, unit, powers: new Float64Array(2 * (Math.max(...multiples.values()) + 1)) };
+}
+
+/** the coefficients of `co` recomputed in place for step h and L = i·lim (allocates nothing); with node multiples,
+ *  one cos/sin per mode gives every node's exponential by repeated multiplication (a few ulp) and the closed-form
+ *  φ-functions reuse it (phi.ts phiImaginaryFromExp) */
+export function refillEtdPairCoefficients(co: EtdPairCoefficients, h: number, lim: Float64Array): void {
+  const m = lim.length;
+  co.h = h;
+  const mult = co.multiples;
+  if (mult === null) {
+    for (const [c, { exp, phi }] of co.nodeValues) {
       for (let j = 0; j < m; j++) {
         const th = c * h * lim[j];
         exp[2 * j] = Math.cos(th);
         exp[2 * j + 1] = Math.sin(th);
-        phiImaginary(th, scratch);
-        phi.set(scratch, 6 * j);
+        phiImaginary(th, phi, 6 * j);
       }
-      p = { exp, phi };
-      phis.set(c, p);
     }
-    return p;
-  };
-  const combos = new Map<string, Float64Array>();
-  const combo = (c: number, scale: number, w: readonly [number, number, number]): Float64Array => {
-    const key = `${c}:${scale}:${w.join(',')}`;
-    let out = combos.get(key);
-    if (!out) {
-      const { phi } = phiAt(c);
-      out = new Float64Array(2 * m);
-      for (let j = 0; j < m; j++) {
-        for (let k = 0; k < 3; k++) {
-          out[2 * j] += scale * w[k] * phi[6 * j + 2 * k];
-          out[2 * j + 1] += scale * w[k] * phi[6 * j + 2 * k + 1];
-        }
+  } else {
+    const pw = co.powers;
+    const top = pw.length / 2 - 1;
+    const cs = [...co.nodeValues.keys()];
+    const vals = [...co.nodeValues.values()];
+    const ks = cs.map((c) => mult.get(c) as number);
+    for (let j = 0; j < m; j++) {
+      const base = co.unit * h * lim[j];
+      const br = Math.cos(base), bi = Math.sin(base);
+      pw[2] = br; pw[3] = bi;
+      for (let k = 2; k <= top; k++) {
+        const pr = pw[2 * k - 2], pi = pw[2 * k - 1];
+        pw[2 * k] = pr * br - pi * bi;
+        pw[2 * k + 1] = pr * bi + pi * br;
       }
-      combos.set(key, out);
+      for (let q = 0; q < cs.length; q++) {
+        const c = cs[q], k = ks[q], { exp, phi } = vals[q];
+        const er = pw[2 * k], ei = pw[2 * k + 1];
+        exp[2 * j] = er;
+        exp[2 * j + 1] = ei;
+        const th = c * h * lim[j];
+        if (Math.abs(th) < PHI_SERIES_BELOW) phiImaginary(th, phi, 6 * j);
+        else phiImaginaryFromExp(th, er, ei, phi, 6 * j);
+      }
     }
-    return out;
-  };
-  const terms = (ws: readonly PhiWeights[], c: number, scale: number): Term[] =>
-    ws.flatMap((w, from) => (w ? [{ from, coef: combo(c, scale, w) }] : []));
-  const stageExp = table.nodes.map((c, i) => (i === 0 ? new Float64Array(0) : phiAt(c).exp));
-  const stageTerms = table.a.map((row, i) => terms(row, table.nodes[i], table.nodes[i] * h));
-  return { h, table, stageExp, stageTerms, exp: phiAt(1).exp, resultTerms: terms(table.b, 1, h), errorTerms: terms(table.d, 1, h) };
+  }
+  for (const { c, factor, w, out } of co.combos) {
+    const phi = (co.nodeValues.get(c) as { phi: Float64Array }).phi;
+    const scale = factor * h;
+    for (let j = 0; j < m; j++) {
+      let re = 0, im = 0;
+      for (let k = 0; k < 3; k++) {
+        re += scale * w[k] * phi[6 * j + 2 * k];
+        im += scale * w[k] * phi[6 * j + 2 * k + 1];
+      }
+      out[2 * j] = re;
+      out[2 * j + 1] = im;
+    }
+  }
 }
 
 /** scratch of one integration: a stage value, N of every stage, and the stage table the step reads (N₀ and the FSAL

@@ -21,7 +21,7 @@ export const CONTOUR_POINTS = 16;
 /** contour radius: Kassam & Trefethen use 1; large enough to avoid cancellation near z = 0 */
 export const CONTOUR_RADIUS = 1;
 /** below this |θ| the φ-functions use their Taylor series (closed forms lose digits as |θ| → 0) */
-const PHI_SERIES_BELOW = 1;
+export const PHI_SERIES_BELOW = 1;
 /** Taylor terms: |θ|ⁿ/n! < 1e-24 at n = 24 for |θ| < 1 */
 const PHI_SERIES_TERMS = 24;
 
@@ -89,41 +89,49 @@ export function etdContourMeans(zr0: number, zi0: number, scale: number, out: Fl
   out[7] = (scale * a3i) / M;
 }
 
-/** out = [Re φ₁, Im φ₁, Re φ₂, Im φ₂, Re φ₃, Im φ₃] at z = iθ (module comment) */
-export function phiImaginary(theta: number, out: Float64Array): void {
+/** out[o … o+5] = [Re φ₁, Im φ₁, Re φ₂, Im φ₂, Re φ₃, Im φ₃] at z = iθ (module comment); below PHI_SERIES_BELOW φ₃ from
+ *  its series and φ₂ = zφ₃ + 1/2, φ₁ = zφ₂ + 1 (the recurrence φ_k = zφ_{k+1} + 1/k!, Hochbruck & Ostermann 2010,
+ *  eq. (2.11); stable upwards for |z| < 1) */
+export function phiImaginary(theta: number, out: Float64Array, o = 0): void {
   if (Math.abs(theta) < PHI_SERIES_BELOW) {
-    // φ_j = (1/j!)(1 + iθ/(j+1) (1 + iθ/(j+2) (1 + …))), evaluated from the innermost factor outwards
-    for (let j = 1; j <= 3; j++) {
-      let re = 0;
-      let im = 0;
-      for (let nn = PHI_SERIES_TERMS; nn >= 0; nn--) {
-        const f = 1 / (nn + j + 1);
-        const nr = 1 - theta * im * f;
-        const ni = theta * re * f;
-        re = nr;
-        im = ni;
-      }
-      let fact = 1;
-      for (let t = 2; t <= j; t++) fact *= t;
-      out[2 * (j - 1)] = re / fact;
-      out[2 * (j - 1) + 1] = im / fact;
+    // φ₃ = (1/3!)(1 + iθ/4 (1 + iθ/5 (1 + …))), evaluated from the innermost factor outwards
+    let re = 0;
+    let im = 0;
+    for (let nn = PHI_SERIES_TERMS; nn >= 0; nn--) {
+      const f = 1 / (nn + 4);
+      const nr = 1 - theta * im * f;
+      const ni = theta * re * f;
+      re = nr;
+      im = ni;
     }
+    const p3r = re / 6, p3i = im / 6;
+    const p2r = 0.5 - theta * p3i, p2i = theta * p3r;
+    out[o] = 1 - theta * p2i;
+    out[o + 1] = theta * p2r;
+    out[o + 2] = p2r;
+    out[o + 3] = p2i;
+    out[o + 4] = p3r;
+    out[o + 5] = p3i;
     return;
   }
-  const c = Math.cos(theta);
-  const sn = Math.sin(theta);
+  phiImaginaryFromExp(theta, Math.cos(theta), Math.sin(theta), out, o);
+}
+
+/** phiImaginary for |θ| ≥ PHI_SERIES_BELOW from the closed forms, with cos θ and sin θ given (a caller that has
+ *  e^{iθ} already saves the transcendental calls) */
+export function phiImaginaryFromExp(theta: number, c: number, sn: number, out: Float64Array, o = 0): void {
   // z = iθ: 1/z = −i/θ, 1/z² = −1/θ², 1/z³ = i/θ³
   const e1r = c - 1;
   const e1i = sn;
-  out[0] = e1i / theta;
-  out[1] = -e1r / theta;
+  out[o] = e1i / theta;
+  out[o + 1] = -e1r / theta;
   const e2r = e1r;
   const e2i = e1i - theta;
-  out[2] = -e2r / (theta * theta);
-  out[3] = -e2i / (theta * theta);
+  out[o + 2] = -e2r / (theta * theta);
+  out[o + 3] = -e2i / (theta * theta);
   const e3r = e2r + (theta * theta) / 2;
   const e3i = e2i;
   const t3 = theta * theta * theta;
-  out[4] = -e3i / t3;
-  out[5] = e3r / t3;
+  out[o + 4] = -e3i / t3;
+  out[o + 5] = e3r / t3;
 }

@@ -33,7 +33,7 @@ export interface PipelineResult {
 }
 
 /** Design, verify and (with opts.report) render the report of one config into opts.dir. */
-export function runPipeline(config: Config, opts: PipelineOptions): PipelineResult {
+export async function runPipeline(config: Config, opts: PipelineOptions): Promise<PipelineResult> {
   const started = performance.now();
   const progress = opts.onProgress ?? (() => {});
   // existing results are refused before anything is computed; design and verify share one run identity
@@ -50,7 +50,7 @@ export function runPipeline(config: Config, opts: PipelineOptions): PipelineResu
     writeDesignOutputs(design, opts.dir, opts.force, identity);
     throw new AcceptanceFailure(`${config.meta.source}: the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end} (${design.summary.breaking?.reason}); nothing to verify (the design it reached is in ${opts.dir})`);
   }
-  const verify = runVerify(config, design, { onProgress: (f) => progress('verify', f) });
+  const verify = await runVerify(config, design, { onProgress: (f) => progress('verify', f) });
   const files = [...writeDesignOutputs(design, opts.dir, opts.force, identity), ...writeVerifyOutputs(verify, opts.dir, opts.force, identity)];
   if (opts.report) files.push(...renderFolder(opts.dir, { force: opts.force, toolVersion: opts.toolVersion, runSeconds: (performance.now() - started) / 1000, figures: opts.figures }));
   return { design, verify, files };

@@ -10,9 +10,9 @@ const { runAndWritePoint } = await import(compiled ? './sweep.js' : './sweep.ts'
 /** this thread's last design (jobs/sweep.ts DesignCache) */
 const cache = { last: null };
 
-parentPort?.on('message', ({ id, task }) => {
+parentPort?.on('message', async ({ id, task }) => {
   try {
-    parentPort?.postMessage({ id, result: runAndWritePoint(task, cache) });
+    parentPort?.postMessage({ id, result: await runAndWritePoint(task, cache) });
   } catch (e) {
     parentPort?.postMessage({ id, error: e instanceof Error ? `${e.name}: ${e.message}` : String(e) });
   }

@@ -274,7 +274,7 @@ export interface DesignCache {
 }
 
 /** the per-drive record of a finished verify, in the config's units (energies through the design's unit system) */
-function driveRecords(design: DesignResult, verify: ReturnType<typeof runVerify>): SweepDrive[] {
+function driveRecords(design: DesignResult, verify: Awaited<ReturnType<typeof runVerify>>): SweepDrive[] {
   const E = design.ctx.units.energyFromNatural;
   const { file, natural } = verify;
   return natural.drives.map((d) => ({
@@ -292,7 +292,7 @@ function driveRecords(design: DesignResult, verify: ReturnType<typeof runVerify>
  * `verify` command runs them. A point the numerics refuse (a flow that breaks, a budget not met) is recorded with
  * its message instead of failing the sweep.
  */
-export function runPoint(task: PointTask, cache: DesignCache): SweepPoint {
+export async function runPoint(task: PointTask, cache: DesignCache): Promise<SweepPoint> {
   const started = performance.now();
   const config = pointConfig(task.input, task.axes, task.values);
   const point: SweepPoint = { format: SWEEP_POINT_FORMAT, plan: task.plan, index: task.index, values: task.values, error: null, drives: [], deepest: NaN, limit_depth: null, accepted: false, warnings: [], seconds: 0 };
@@ -306,7 +306,8 @@ export function runPoint(task: PointTask, cache: DesignCache): SweepPoint {
     point.deepest = design.summary.budgets.deepest;
     point.limit_depth = design.summary.budgets.limit_depth;
     if (!design.summary.complete) throw new AcceptanceFailure(`the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}`);
-    const verify = runVerify(config, design);
+    // points run in parallel already: each verify keeps to its thread
+    const verify = await runVerify(config, design, { threads: 1 });
     point.drives = driveRecords(design, verify);
     point.accepted = verify.file.accepted;
     point.warnings = [...design.summary.warnings, ...verify.file.warnings];
@@ -319,8 +320,8 @@ export function runPoint(task: PointTask, cache: DesignCache): SweepPoint {
 }
 
 /** run a point and write it at once (worker threads call this too) */
-export function runAndWritePoint(task: PointTask, cache: DesignCache): SweepPoint {
-  const point = runPoint(task, cache);
+export async function runAndWritePoint(task: PointTask, cache: DesignCache): Promise<SweepPoint> {
+  const point = await runPoint(task, cache);
   writeFileAtomic(task.file, toJson(point, 1));
   return point;
 }
@@ -382,7 +383,7 @@ async function computePoints(setup: SweepSetup, input: SweepInput, dir: string, 
   if (threads <= 1) {
     const cache: DesignCache = { last: null };
     for (const p of order) {
-      runAndWritePoint(task(p), cache);
+      await runAndWritePoint(task(p), cache);
       progress(p);
     }
     return;

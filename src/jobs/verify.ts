@@ -9,7 +9,7 @@ import type { Config } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { driveClassicalSequence } from '../classical/corrected.ts';
 import type { UnitSystem } from '../units/scales.ts';
-import { StateCountError, verifySequence, type CdStrength, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
+import { StateCountError, verifySequenceThreaded, type CdStrength, type DriveKind, type DriveResult, type VerifyResult } from '../quantum/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
 import { toJson, type DesignResult } from './design.ts';
 import type { VerifyFile } from '../io/formats/verify.ts';
@@ -20,6 +20,8 @@ import { assertPaintableRamp, CLIP_FLOOR, RampNotPaintableError, type VelocityFi
 import { makeRamp } from '../protocol/ramp.ts';
 import type { Grid } from '../spectral/grid.ts';
 import type { FlowRun } from '../flow/kdv.ts';
+import { sequencePotential, type SequenceSource } from '../flow/dense.ts';
+import { coreCount } from '../core/worker-pool.ts';
 import type { PaintedSection } from '../io/formats/verify.ts';
 export type { VerifyFile };
 
@@ -47,6 +49,8 @@ export interface VerifyJobOptions {
   onProgress?: (fraction: number, stage: string) => void;
   /** fidelity traces (default TRACE_SAMPLES; 0 for none) */
   traceSamples?: number;
+  /** worker threads for the drives (default: every core; quantum/verify.ts verifySequenceThreaded) */
+  threads?: number;
 }
 
 export interface VerifyJobResult {
@@ -87,9 +91,9 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
 }
 
 /** a state count the Schrödinger proof cannot use becomes an input error naming the config key */
-function withStateCountKeys<T>(config: Config, run: () => T): T {
+async function withStateCountKeys<T>(config: Config, run: () => Promise<T>): Promise<T> {
   try {
-    return run();
+    return await run();
   } catch (err) {
     if (err instanceof StateCountError) throw new UserError(`${config.meta.source}: verify.${err.option} = ${err.value} is not allowed: ${err.message}`);
     throw err;
@@ -284,7 +288,7 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
  * Run the verification of a complete design: load → Schrödinger proof (quantum/verify.ts) → optional classical
  * drive (classical/corrected.ts) → correction sizes (quantum/correction.ts) → conversion to the config's units.
  */
-export function runVerify(config: Config, design: DesignResult, opts: VerifyJobOptions = {}): VerifyJobResult {
+export async function runVerify(config: Config, design: DesignResult, opts: VerifyJobOptions = {}): Promise<VerifyJobResult> {
   const started = performance.now();
   const input = verifyInput(config, design);
   const { units, grid } = design.ctx;
@@ -292,9 +296,11 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
   const painted = input.verify.painted;
   const paintedField = painted.includes('variational') ? variationalField(config, design, input) : undefined;
   if (painted.length > 0) paintableRamp(config, input);
-  const natural = withStateCountKeys(config, () => verifySequence({
+  const source: SequenceSource = { dense: dense.data(), lo: 0, hi: input.lambdaEnd };
+  const natural = await withStateCountKeys(config, () => verifySequenceThreaded({
     grid,
-    potential: (l, out) => dense.at(Math.min(Math.max(l, 0), input.lambdaEnd), out),
+    potential: sequencePotential(source),
+    source,
     lambdaEnd: input.lambdaEnd,
     ramp: input.protocol.ramp,
     duration: input.duration,
@@ -308,7 +314,7 @@ export function runVerify(config: Config, design: DesignResult, opts: VerifyJobO
     errors: { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing) },
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
     onProgress: opts.onProgress,
-  }));
+  }, opts.threads ?? coreCount()));
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
   const traces = traceTable(natural, natural.drives, (s) => units.timeFromNatural(s));
   const file = verifyFile(design, input, natural, { classical, traces });

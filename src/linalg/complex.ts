@@ -41,3 +41,20 @@ export function overlap2(a: Float64Array, b: Float64Array): number {
   }
   return re * re + im * im;
 }
+
+/** ‖d − ⟨b̂|d⟩ b̂‖, b̂ = b/‖b‖, with d = a, or d = a − b when `difference`: the part of d orthogonal to b (a change
+ *  of a state along itself is a phase or a norm, not a loss of fidelity) */
+export function perpendicularNorm(a: Float64Array, b: Float64Array, difference = false): number {
+  const sb = difference ? 1 : 0;
+  let bb = 0, pr = 0, pi = 0, dd = 0;
+  for (let j = 0; j < a.length; j += 2) {
+    const br = b[j], bi = b[j + 1];
+    const dr = a[j] - sb * br, di = a[j + 1] - sb * bi;
+    bb += br * br + bi * bi;
+    pr += br * dr + bi * di;
+    pi += br * di - bi * dr;
+    dd += dr * dr + di * di;
+  }
+  const par = bb > 0 ? (pr * pr + pi * pi) / bb : 0;
+  return Math.sqrt(Math.max(0, dd - par));
+}

@@ -12,19 +12,18 @@
  * A verify solves the ends of the sequence and every interior fidelity-trace sample (traceSamples − 2 more solves),
  * each for the propagated states plus two (a degenerate pair cut at the top).
  *
- * Propagation (quantum/etd4.ts: ETDRK4 with the k-diagonal part exact). The explicit part is the potential and, for a
- * corrected drive, the first-order part of the correction −3λ̇{u, k}, whose fastest rate is
- * r = max|u| + 6|λ̇|_max·max|u|·k_max (k_max = πN/L; r = max|u| for the bare drive). The global step-halving control
- * (quantum/propagator.ts) runs levels 64, 128, … up to the accepted one,
- * n* ≈ T·r/SCHRODINGER_STEP_NUMBER·(TOL_REFERENCE/tol)^(1/8) (a fourth-order error ∝ h⁴ must reach the amplitude
- * √tol), so about 2n* steps in all, each SCHRODINGER_MATVECS_PER_STEP products per state.
+ * Propagation (quantum/etd-pair-scheme.ts: the fifth-order ETD5(3) pair with the k-diagonal part exact). The explicit
+ * part is the potential and, for a corrected drive, the first-order part of the correction −3λ̇{u, k}, whose fastest
+ * rate is r = max|u| + 6|λ̇|_max·max|u|·k_max (k_max = πN/L; r = max|u| for the bare drive). The accepted level is
+ * n* ≈ T·r/SCHRODINGER_STEP_NUMBER·(TOL_REFERENCE/tol)^(1/10) (a fifth-order error ∝ h⁵ must reach the amplitude
+ * √tol); the global step-halving control (quantum/propagator.ts) starts its doubling ladder at `ladderStart(n*)`, a
+ * power of two near a quarter of n*, so about 1.75n* steps in all, each SCHRODINGER_MATVECS_PER_STEP products per state.
  *
  * Memory: the propagated states (2N doubles each) are held STATE_COPIES times (scheme buffers, step-doubling copies,
  * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
  */
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { MAX_KRYLOV_DEFAULT } from './eigen.ts';
-import { GLOBAL_INITIAL_STEPS } from './propagator.ts';
 
 /** products of one eigen solve of up to EIGEN_LEVELS_PER_RUN levels: measured 3,900–6,000 (N = 256, 10–45 levels) */
 export const EIGEN_MATVECS_BASE = 6000;
@@ -32,13 +31,15 @@ export const EIGEN_MATVECS_BASE = 6000;
 export const EIGEN_LEVELS_PER_RUN = 45;
 /** growth exponent beyond one run: measured 82,000 products for 60 levels against 4,000 for 45 (N = 256) */
 export const EIGEN_GROWTH = 9;
-/** T·r per accepted step of the global control: measured 0.95 (N = 1024, −6sech² split to λ = 0.5 in 2 t₀: 1600 steps)
- *  and 0.5–1 (N = 256, to λ = 0.1: level 256), tol 1e-8; common practice */
-export const SCHRODINGER_STEP_NUMBER = 0.9;
+/** T·r per accepted step of the global control with etd53: measured 3.3 (N = 512, −6sech² split to λ = 0.5 in 2 t₀,
+ *  8 states: infidelity 4.6e-8 at 250 steps, scaled to tol 1e-8 by the order) */
+export const SCHRODINGER_STEP_NUMBER = 3.3;
 /** the infidelity budget the step number was measured at */
 export const TOL_REFERENCE = 1e-8;
-/** products per state and step of ETDRK4: measured 4.2 */
-export const SCHRODINGER_MATVECS_PER_STEP = 4;
+/** products per state and step of the ETD5(3) pair: six stages, the last (FSAL) one reused */
+export const SCHRODINGER_MATVECS_PER_STEP = 6;
+/** the smallest first level of the doubling ladder (a coarser level is never resolved; common practice) */
+export const LADDER_MIN_START = 8;
 /** wall time of one product per N log₂N on a 2-core laptop: measured 24–38 ns in propagation (N = 1024 / 256) and
  *  10–52 ns in eigen solves (whose product count grows with the filter degree ∝ N while each product gets cheaper) */
 export const SECONDS_PER_MATVEC_POINT = 3e-8;
@@ -88,10 +89,16 @@ export function eigenSolveMatvecs(levels: number): number {
   return EIGEN_MATVECS_BASE * Math.pow(Math.max(1, levels / EIGEN_LEVELS_PER_RUN), EIGEN_GROWTH);
 }
 
-/** steps of a doubling ladder GLOBAL_INITIAL_STEPS, 2·GLOBAL_INITIAL_STEPS, … up to the first level ≥ accepted (at least three levels) */
+/** the first level of the doubling ladder for an expected accepted level: the power of two at or below a quarter of
+ *  it (two doublings reach it, the three levels the control needs), at least LADDER_MIN_START */
+export function ladderStart(accepted: number): number {
+  return Math.max(LADDER_MIN_START, 2 ** Math.floor(Math.log2(Math.max(1, accepted / 4))));
+}
+
+/** steps of a doubling ladder from ladderStart(accepted) up to the first level ≥ accepted (at least three levels) */
 export function ladderSteps(accepted: number): number {
   let total = 0;
-  let level = GLOBAL_INITIAL_STEPS;
+  let level = ladderStart(accepted);
   for (let count = 1; ; count++) {
     total += level;
     if (count >= 3 && level >= accepted) return total;
@@ -107,12 +114,12 @@ function peakRate(kind: RampKind, duration: number, lambdaEnd: number): number {
   return peak;
 }
 
-/** the estimated accepted step count n* of the global control (module comment), at least GLOBAL_INITIAL_STEPS */
+/** the estimated accepted step count n* of the global control (module comment), at least LADDER_MIN_START */
 export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length' | 'maxAbsU' | 'lambdaEnd' | 'ramp' | 'duration' | 'tol'>, corrected: boolean): number {
   const kMax = (Math.PI * s.points) / s.length;
   const rate = s.maxAbsU + (corrected ? 6 * peakRate(s.ramp, s.duration, s.lambdaEnd) * s.maxAbsU * kMax : 0);
-  const n = ((s.duration * rate) / SCHRODINGER_STEP_NUMBER) * Math.pow(TOL_REFERENCE / s.tol, 1 / 8);
-  return Math.max(GLOBAL_INITIAL_STEPS, Math.ceil(n));
+  const n = ((s.duration * rate) / SCHRODINGER_STEP_NUMBER) * Math.pow(TOL_REFERENCE / s.tol, 1 / 10);
+  return Math.max(LADDER_MIN_START, Math.ceil(n));
 }
 
 /** the whole cost of a verify (module comment) */

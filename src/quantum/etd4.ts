@@ -14,13 +14,13 @@
  *
  * Split into parameters (`Etd4Parameters`), preallocated named buffers (`Etd4Cache`) and the step (`etd4Step`).
  */
-import type { ComplexFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { etdrk4ImaginaryCoefficients, etdrk4Step, etdrk4Table, etdrk4Workspace, type Etdrk4Coefficients, type Etdrk4Workspace, type StageRhs } from '../integrate/etdrk4.ts';
 import { norm2 } from '../linalg/complex.ts';
-import { emptyTerms, type OperatorTerms, type SpectralOperator } from './hamiltonian.ts';
+import { emptyTerms, type OperatorTerms } from './hamiltonian.ts';
 import { defineScheme, type DrivenHamiltonian, type SchemeContext, type SchemeDefinition } from './scheme.ts';
 import { TermsBuffer } from './terms-buffer.ts';
+import { FourierRhs, type DiagonalReference } from './fourier-rhs.ts';
 
 export interface Etd4Parameters {
   /** rescale every state to its norm before the step (projection); false shows the raw ETD norm drift */
@@ -30,8 +30,9 @@ export interface Etd4Parameters {
 /** the buffers of one etd4 instance, all allocated at creation */
 export class Etd4Cache {
   readonly grid: Grid;
-  readonly op: SpectralOperator;
-  readonly fft: ComplexFFT;
+  /** −i[(D_t − D_mid)ŷ + (B_t y)^] (fourier-rhs.ts) */
+  readonly frhs: FourierRhs;
+  readonly fft: FourierRhs['fft'];
   readonly k2: Float64Array;
   readonly k3: Float64Array;
   /** raw output of H.terms and owned copies at s, s + h/2, s + h */
@@ -48,12 +49,8 @@ export class Etd4Cache {
   readonly u0: Float64Array;
   readonly nu: Float64Array;
   readonly next: Float64Array;
-  /** right-hand-side scratch: y in x space, (ky) in x space, two product buffers, F(w·y) */
-  readonly x: Float64Array;
-  readonly kx: Float64Array;
-  readonly p: Float64Array;
-  readonly r: Float64Array;
-  readonly qHat: Float64Array;
+  /** D(s + h/2), the diagonal the step integrates exactly */
+  readonly midRef: DiagonalReference = { r1: 0, r2: 0, r3: 0 };
   /** norms before the step (grows with the number of states) */
   normBefore = new Float64Array(0);
   /** N(s + ETDRK4_STAGE_NODES[stage]·h, y) for the loaded terms */
@@ -62,10 +59,10 @@ export class Etd4Cache {
   constructor(ctx: SchemeContext) {
     const n = ctx.grid.n;
     this.grid = ctx.grid;
-    this.op = ctx.op;
-    this.fft = ctx.op.fft;
-    this.k2 = Float64Array.from(ctx.grid.k, (k) => k * k);
-    this.k3 = Float64Array.from(ctx.grid.kOdd, (k) => k * k * k);
+    this.frhs = new FourierRhs(ctx.grid, ctx.op);
+    this.fft = this.frhs.fft;
+    this.k2 = this.frhs.k2;
+    this.k3 = this.frhs.k3;
     this.start = new TermsBuffer(n);
     this.mid = new TermsBuffer(n);
     this.end = new TermsBuffer(n);
@@ -74,8 +71,7 @@ export class Etd4Cache {
     this.ws = etdrk4Workspace(n);
     const z = () => new Float64Array(2 * n);
     this.u0 = z(); this.nu = z(); this.next = z();
-    this.x = z(); this.kx = z(); this.p = z(); this.r = z(); this.qHat = z();
-    this.rhs = (y, out, stage) => stageRhs(this, stage === 0 ? this.start : stage === 3 ? this.end : this.mid, y, out);
+    this.rhs = (y, out, stage) => this.frhs.apply(stage === 0 ? this.start : stage === 3 ? this.end : this.mid, this.midRef, y, out);
   }
 }
 
@@ -115,122 +111,8 @@ function loadStages(c: Etd4Cache, H: DrivenHamiltonian, s: number, h: number): v
   H.terms(s + h, c.raw);
   c.end.load(c.raw);
   const mid = c.mid.t;
+  c.midRef.r1 = mid.c1; c.midRef.r2 = mid.c2; c.midRef.r3 = mid.c3;
   const kOdd = c.grid.kOdd;
   const { k2, k3, lim } = c;
   for (let j = 0; j < c.grid.n; j++) lim[j] = -(mid.c1 * kOdd[j] + mid.c2 * k2[j] + mid.c3 * k3[j]);
-}
-
-/** x = F⁻¹ŷ and, when `derivative`, kx = F⁻¹(kŷ) (p is scratch) */
-function toPosition(c: Etd4Cache, yHat: Float64Array, derivative: boolean): void {
-  const { fft, x, kx, p } = c;
-  const kOdd = c.grid.kOdd;
-  fft.inverse(yHat, x);
-  if (!derivative) return;
-  for (let j = 0; j < c.grid.n; j++) {
-    const kk = kOdd[j];
-    p[2 * j] = kk * yHat[2 * j];
-    p[2 * j + 1] = kk * yHat[2 * j + 1];
-  }
-  fft.inverse(p, kx);
-}
-
-/**
- * out = −i[(B_t y)^ + (D_t − D_mid) ŷ] in Fourier space, B_t = v + b{w,k} of `t` (c's are D_t), D_mid from the
- * cache. Four FFTs (three O(N) passes) when w ∝ v, five otherwise. Allocates nothing.
- */
-function stageRhs(c: Etd4Cache, t: TermsBuffer, yHat: Float64Array, out: Float64Array): void {
-  const tt = t.t;
-  const v = tt.v;
-  const w = tt.w;
-  const prop = t.wOverV !== null && v !== null ? t.wOverV : null;
-  if (v !== null && w !== null && prop !== null) {
-    stageRhsProportional(c, v, w, tt.b, prop, tt, yHat, out);
-    return;
-  }
-  const n = c.grid.n;
-  const { fft, x, kx, p, r, qHat, k2, k3 } = c;
-  const kOdd = c.grid.kOdd;
-  const mid = c.mid.t;
-  const bw = tt.b;
-  toPosition(c, yHat, w !== null);
-  // x-space products: p = v·y, r = w·(k y), and (only if w is not ∝ v) kx-reuse: q = w·y into x after use
-  for (let j = 0; j < n; j++) {
-    const yr = x[2 * j];
-    const yi = x[2 * j + 1];
-    if (v) {
-      p[2 * j] = v[j] * yr;
-      p[2 * j + 1] = v[j] * yi;
-    }
-    if (w) {
-      r[2 * j] = w[j] * kx[2 * j];
-      r[2 * j + 1] = w[j] * kx[2 * j + 1];
-      if (prop === null) {
-        kx[2 * j] = w[j] * yr;
-        kx[2 * j + 1] = w[j] * yi;
-      }
-    }
-  }
-  // transforms: P̂ → x, R̂ → p, Q̂ → qHat
-  if (v) fft.forward(p, x);
-  if (w) {
-    fft.forward(r, p);
-    if (prop === null) fft.forward(kx, qHat);
-  }
-  const dc1 = tt.c1 - mid.c1;
-  const dc2 = tt.c2 - mid.c2;
-  const dc3 = tt.c3 - mid.c3;
-  for (let j = 0; j < n; j++) {
-    const kk = kOdd[j];
-    const m = dc1 * kk + dc2 * k2[j] + dc3 * k3[j];
-    let re = m * yHat[2 * j];
-    let im = m * yHat[2 * j + 1];
-    if (v) {
-      re += x[2 * j];
-      im += x[2 * j + 1];
-    }
-    if (w) {
-      // b (k Q̂ + R̂), Q̂ = prop·P̂ when w = prop·v
-      const qr = prop !== null ? prop * x[2 * j] : qHat[2 * j];
-      const qi = prop !== null ? prop * x[2 * j + 1] : qHat[2 * j + 1];
-      re += bw * (kk * qr + p[2 * j]);
-      im += bw * (kk * qi + p[2 * j + 1]);
-    }
-    // multiply by −i: (re, im) → (im, −re)
-    out[2 * j] = im;
-    out[2 * j + 1] = -re;
-  }
-  c.op.applications++;
-}
-
-/** stageRhs for w = prop·v (the KdV drive): branch-free loops, four FFTs */
-function stageRhsProportional(c: Etd4Cache, v: Float64Array, w: Float64Array, bw: number, prop: number, tt: OperatorTerms, yHat: Float64Array, out: Float64Array): void {
-  const n = c.grid.n;
-  const { fft, x, kx, p, r, k2, k3 } = c;
-  const kOdd = c.grid.kOdd;
-  const mid = c.mid.t;
-  toPosition(c, yHat, true);
-  for (let j = 0; j < n; j++) {
-    const vj = v[j];
-    const wj = w[j];
-    p[2 * j] = vj * x[2 * j];
-    p[2 * j + 1] = vj * x[2 * j + 1];
-    r[2 * j] = wj * kx[2 * j];
-    r[2 * j + 1] = wj * kx[2 * j + 1];
-  }
-  fft.forward(p, x);
-  fft.forward(r, kx);
-  const dc1 = tt.c1 - mid.c1;
-  const dc2 = tt.c2 - mid.c2;
-  const dc3 = tt.c3 - mid.c3;
-  const bp = bw * prop;
-  for (let j = 0; j < n; j++) {
-    const kk = kOdd[j];
-    const m = dc1 * kk + dc2 * k2[j] + dc3 * k3[j];
-    const f = 1 + bp * kk;
-    const re = m * yHat[2 * j] + f * x[2 * j] + bw * kx[2 * j];
-    const im = m * yHat[2 * j + 1] + f * x[2 * j + 1] + bw * kx[2 * j + 1];
-    out[2 * j] = im;
-    out[2 * j + 1] = -re;
-  }
-  c.op.applications++;
 }

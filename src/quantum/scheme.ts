@@ -29,6 +29,21 @@ export interface StepScheme {
   step(H: DrivenHamiltonian, s: number, h: number, states: Float64Array[], tolK: number): void;
 }
 
+/**
+ * A scheme with an embedded error estimate: one trial step from the accepted states into its own buffers, then
+ * either `accept` (the trial becomes the states; an FSAL stage is carried to the next step) or another `attempt`
+ * with a smaller step from the same states.
+ */
+export interface EmbeddedStepScheme {
+  /** trial step s → s + h; returns max over states of ‖δψ_⊥‖/‖ψ‖, the part of the embedded estimate orthogonal
+   *  to the state (the part that changes a fidelity) */
+  attempt(H: DrivenHamiltonian, s: number, h: number, states: readonly Float64Array[]): number;
+  /** states ← the last trial */
+  accept(states: Float64Array[]): void;
+  /** forget any carried stage (a new propagation starts) */
+  reset(): void;
+}
+
 export interface SchemeDefinition {
   readonly name: string;
   /** classical order (sets the controller exponent) */
@@ -36,6 +51,8 @@ export interface SchemeDefinition {
   /** one line: method and source */
   readonly doc: string;
   create(ctx: SchemeContext): StepScheme;
+  /** schemes with an embedded estimate: its order (the estimate scales as h^(order + 1)) and the instance */
+  readonly embedded?: { readonly order: number; create(ctx: SchemeContext): EmbeddedStepScheme };
 }
 
 /** the step of a scheme on its own buffers (state in, state out; allocates nothing) */

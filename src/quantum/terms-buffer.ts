@@ -20,6 +20,14 @@ export class TermsBuffer {
     this.combine(1, src, 0, null);
     this.wOverV = src.w !== null && src.w === src.v ? src.b : null;
   }
+  /** this = other (arrays copied) */
+  copyFrom(other: TermsBuffer): void {
+    const t = this.t, o = other.t;
+    t.c1 = o.c1; t.c2 = o.c2; t.c3 = o.c3; t.b = o.b;
+    if (o.v) { this.v.set(o.v); t.v = this.v; } else t.v = null;
+    if (o.w) { this.w.set(o.w); t.w = this.w; } else t.w = null;
+    this.wOverV = other.wOverV;
+  }
   /** this = a·A + b·B */
   combine(a: number, A: OperatorTerms, bb: number, B: OperatorTerms | null): void {
     const t = this.t;

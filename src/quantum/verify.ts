@@ -18,7 +18,11 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
-import { eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP } from './cost.ts';
+import { boundStateEstimate, eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
+import { mergeStats, runGroup, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
+import { WorkerPool } from '../core/worker-pool.ts';
+import { NumericalError } from '../core/errors.ts';
+import type { SequenceSource } from '../flow/dense.ts';
 
 /** drives of the KdV Hamiltonian H + σλ̇A (cd σ = 1, bare σ = 0, flipped σ = −1) and the painted drives, pure
  *  potentials k² + u + V_loc (painted.ts): `painted` from the caller's momentum-linear field, `painted_ground` from
@@ -67,6 +71,9 @@ export interface VerifyOptions {
    *  depth error scales the potential everywhere, so the initial states and the final reference are those of the
    *  lab's trap (1 + δ)V */
   errors?: Partial<DriveErrors>;
+  /** the sequence as plain data (flow/dense.ts), the same potential as `potential`: lets `verifySequenceThreaded`
+   *  run the KdV drives on worker threads */
+  source?: SequenceSource;
   /** 1/e² radius (ℓ) of a Gaussian point-spread function that blurs every painted potential (spectral/blur.ts) */
   blur?: number;
   /** propagate the bound states also under each painted drive's momentum-linear partner λ̇½{g, k} and compare the
@@ -144,7 +151,8 @@ export interface VerifyResult {
   drives: DriveResult[];
   cdStrength: CdStrength | null;
   painted: PaintedInfo | null;
-  timings: { eigenMs: number; propagationMs: number; totalMs: number };
+  /** wall times (ms) and the threads the KdV drives ran on */
+  timings: { eigenMs: number; propagationMs: number; totalMs: number; threads: number };
   warnings: string[];
 }
 
@@ -186,7 +194,9 @@ interface Spectra {
   eigenMs: number;
 }
 
-function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, degTol: number): Spectra {
+/** the spectra at both ends; `started(e0, m)` runs once the start is solved, before the end (a caller may launch
+ *  the propagations, which need only the start, while this thread solves the end) */
+function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, degTol: number, started: (e0: EigenResult, m: number) => void): Spectra {
   const { grid } = opts;
   const t0 = performance.now();
   const first = eigenWithBound(grid, u0, opts.eigenMethod);
@@ -194,6 +204,7 @@ function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, deg
   if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new StateCountError('states', m, `must be an integer in 1 … ${grid.n} (the grid points)`);
   const extra = Math.min(grid.n, m + 2);
   const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method: opts.eigenMethod });
+  started(e0, m);
   const e1 = lowestEigenpairs(grid, u1, extra, { method: opts.eigenMethod });
   const eigenMs = performance.now() - t0;
   const groups1 = groupDegenerate(e1.energies, degTol);
@@ -223,8 +234,7 @@ interface DriveContext {
   u1: Float64Array;
   warnings: string[];
   meter: WorkMeter;
-  /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
-  expectedSteps: { corrected: number; bare: number };
+  expectedSteps: ExpectedSteps;
   /** the fields of the painted drives */
   fields: Partial<Record<'painted' | 'painted_ground', VelocityField>>;
   /** the design's potential (opts.potential is the lab's, (1 + δ) times it under a depth error) and the errors */
@@ -232,83 +242,120 @@ interface DriveContext {
   errors: DriveErrors;
 }
 
-/** a piece of propagation work: a drive, or the gauge check of a painted one */
-type WorkKey = DriveKind | `gauge:${'painted' | 'painted_ground'}`;
-
 /**
  * Progress as the products with H done over those estimated (quantum/cost.ts): each eigen solve weighs `eigen`,
- * each drive its own estimate (`driveWork`); within a drive the propagator's fraction counts. The fraction never
- * goes back and reaches 1 only at the end.
+ * each group of states under a drive its own estimate (`groupWork`); within a running group the propagator's
+ * fraction counts. The fraction never goes back and reaches 1 only at the end.
  */
 class WorkMeter {
   private done = 0;
-  private drive = 0;
-  private inDrive = 0;
+  private running = 0;
+  private inRunning = 0;
   private shown = 0;
-  constructor(private readonly total: number, readonly eigen: number, readonly driveWork: (drive: WorkKey) => number, private readonly report: (fraction: number, stage: string) => void) {}
+  constructor(private readonly total: number, readonly eigen: number, readonly groupWork: (drive: DriveKind | 'gauge', states: number) => number, private readonly report: (fraction: number, stage: string) => void) {}
   /** a finished piece of work */
   add(work: number, stage: string): void {
     this.done += work;
     this.show(stage);
   }
-  /** fraction f of the running drive */
-  driveAt(drive: WorkKey, f: number): void {
-    this.drive = this.driveWork(drive);
-    this.inDrive = Math.max(this.inDrive, f);
-    this.show(drive);
+  /** fraction f of a running piece of the given work */
+  at(work: number, f: number, stage: string): void {
+    this.running = work;
+    this.inRunning = Math.max(this.inRunning, f);
+    this.show(stage);
   }
-  /** the running drive is finished */
-  driveDone(drive: WorkKey): void {
-    this.inDrive = 0;
-    this.add(this.driveWork(drive), drive);
+  /** the running piece is finished */
+  finished(work: number, stage: string): void {
+    this.inRunning = 0;
+    this.add(work, stage);
   }
   private show(stage: string): void {
-    this.shown = Math.max(this.shown, Math.min(0.999, (this.done + this.inDrive * this.drive) / this.total));
+    this.shown = Math.max(this.shown, Math.min(0.999, (this.done + this.inRunning * this.running) / this.total));
     this.report(this.shown, stage);
   }
 }
 
-/** propagate the initial states under one drive and evaluate fidelities, energies, traces and the CD strength */
-function runDrive(ctx: DriveContext, drive: DriveKind): { result: DriveResult; strength: CdStrength | null } {
-  const { opts, ramp, spectra, warnings } = ctx;
-  const { grid } = opts;
-  const sigma = isPainted(drive) ? 0 : DRIVE_SIGMA[drive];
+/** the sample times of a drive: fidelity-trace times and (cd only) correction-strength times */
+interface DrivePlan {
+  drive: DriveKind;
+  traceTimes: number[];
+  strengthTimes: number[];
+  sampleTimes: number[];
+  /** the painted potential's range (painted drives), filled while their Hamiltonian is evaluated */
+  range: { min: number; max: number };
+  /** the group tasks, in state order */
+  tasks: GroupTask[];
+  expectedSteps: ExpectedSteps;
+}
+
+function planDrive(opts: VerifyOptions, init: readonly Float64Array[], expectedSteps: ExpectedSteps, drive: DriveKind): DrivePlan {
   const nTrace = opts.traceSamples ?? 0;
   const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
-  const range = { min: Infinity, max: -Infinity };
-  const blur = opts.blur !== undefined ? new GaussianBlur(grid, opts.blur) : null;
-  const H = isPainted(drive) ? recordRange(paintedDrive(grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), range) : kdvDrive(grid, ctx.design, ramp, sigma, opts.drift ?? 0, ctx.errors);
   const traceTimes = Array.from({ length: nTrace }, (_, i) => (nTrace === 1 ? opts.duration : (opts.duration * i) / (nTrace - 1)));
   const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
-  const trace = nTrace > 0 ? { times: traceTimes, fidelity: [] as number[][] } : null;
-  const uS = new Float64Array(grid.n);
-  const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
-  const res = ctx.prop.propagate(H, ctx.init, 0, opts.duration, {
-    scheme: opts.scheme, tol: opts.tol, sampleTimes, errorControl: opts.errorControl ?? 'global', expectedSteps: drive === 'bare' ? ctx.expectedSteps.bare : ctx.expectedSteps.corrected,
-    onProgress: (f) => ctx.meter.driveAt(drive, f),
-    onSample: (s, sts) => {
-      opts.potential(ramp.value(s), uS);
-      if (trace && traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
-      if (nStrength > 0 && strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, Math.abs(ramp.rate(s)), uS, sts);
-    },
+  const expected = drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected;
+  const control: GroupControl = { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected };
+  // painted drives evaluate a closure: one group in the calling thread
+  const groups = isPainted(drive) ? [[0, init.length] as [number, number]] : stateGroups(init.length);
+  const tasks = groups.map(([a, b]): GroupTask => ({ states: init.slice(a, b), duration: opts.duration, sampleTimes, control }));
+  return { drive, traceTimes, strengthTimes, sampleTimes, range: { min: Infinity, max: -Infinity }, tasks, expectedSteps };
+}
+
+/** the Hamiltonian of a drive in this thread */
+function localHamiltonian(ctx: DriveContext, plan: DrivePlan): DrivenHamiltonian {
+  const { opts, ramp } = ctx;
+  const drive = plan.drive;
+  if (isPainted(drive)) {
+    const blur = opts.blur !== undefined ? new GaussianBlur(opts.grid, opts.blur) : null;
+    return recordRange(paintedDrive(opts.grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), plan.range);
+  }
+  return kdvDrive(opts.grid, ctx.design, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors);
+}
+
+/** a drive's groups in this thread, in order */
+function runPlanHere(ctx: DriveContext, plan: DrivePlan): GroupResult[] {
+  const H = localHamiltonian(ctx, plan);
+  return plan.tasks.map((task) => {
+    const work = ctx.meter.groupWork(plan.drive, task.states.length);
+    const res = runGroup(H, task, ctx.prop, (f) => ctx.meter.at(work, f, plan.drive));
+    ctx.meter.finished(work, plan.drive);
+    return res;
   });
-  ctx.meter.driveDone(drive);
+}
+
+/** fidelities, energies, traces and the CD strength of a drive from its groups' final and sampled states */
+function finishDrive(ctx: DriveContext, plan: DrivePlan, parts: readonly GroupResult[]): { result: DriveResult; strength: CdStrength | null } {
+  const { opts, ramp, spectra, warnings } = ctx;
+  const { grid } = opts;
+  const drive = plan.drive;
+  const sigma = isPainted(drive) ? 0 : DRIVE_SIGMA[drive];
+  const trace = plan.traceTimes.length > 0 ? { times: plan.traceTimes, fidelity: [] as number[][] } : null;
+  const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
+  const uS = new Float64Array(grid.n);
+  plan.sampleTimes.forEach((s, k) => {
+    const sts = parts.flatMap((p) => p.samples[k]);
+    opts.potential(ramp.value(s), uS);
+    if (trace && plan.traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
+    if (plan.strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, Math.abs(ramp.rate(s)), uS, sts);
+  });
+  const states = parts.flatMap((p) => p.states);
+  const stats = mergeStats(parts.map((p) => p.stats));
   const { e0, e1, groups1, m } = spectra;
-  const fid = res.states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
-  const exc = res.states.map((p, i) => excessEnergy(ctx.op, ctx.u1, p, e1.energies[i], ctx.scratch));
+  const fid = states.map((p, i) => eigenspaceFidelity(p, e1.vectors, groupOf(groups1, i)));
+  const exc = states.map((p, i) => excessEnergy(ctx.op, ctx.u1, p, e1.energies[i], ctx.scratch));
   const thermal = opts.temperature !== undefined ? thermalSummary(e0.energies.slice(0, m), fid, exc, opts.temperature, grid.length) : null;
   if (thermal) {
     // the final Gibbs state on the same tracked levels at the same temperature
     const q = boltzmannWeights(e1.energies.slice(0, m), thermal.temperature);
-    thermal.uhlmannFidelity = uhlmannFidelity(res.states, thermal.weights, e1.vectors.slice(0, m), q);
+    thermal.uhlmannFidelity = uhlmannFidelity(states, thermal.weights, e1.vectors.slice(0, m), q);
   }
   if (thermal?.tailWarning) warnings.push(`${drive}: ${thermal.tailWarning}`);
-  const fermions = opts.fermions !== undefined ? fermionFidelity(res.states, e1.vectors, e1.energies, opts.fermions, ctx.degTol) : null;
+  const fermions = opts.fermions !== undefined ? fermionFidelity(states, e1.vectors, e1.energies, opts.fermions, ctx.degTol) : null;
   if (fermions?.note) warnings.push(`${drive}: ${fermions.note}`);
   return {
-    result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: res.stats.maxNormDrift, stats: res.stats, trace, paintedRange: isPainted(drive) ? range : null },
-    strength: nStrength > 0 ? coupling : null,
+    result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: stats.maxNormDrift, stats, trace, paintedRange: isPainted(drive) ? plan.range : null },
+    strength: plan.strengthTimes.length > 0 ? coupling : null,
   };
 }
 
@@ -338,11 +385,13 @@ function recordRange(H: DrivenHamiltonian, range: { min: number; max: number }):
 function gaugeOf(ctx: DriveContext, drive: 'painted' | 'painted_ground', painted: DriveResult): GaugeCheckResult {
   const { opts, ramp, spectra } = ctx;
   const count = Math.min(spectra.m, Math.max(1, spectra.bound));
-  const res = ctx.prop.propagate(velocityDrive(opts.grid, opts.potential, fieldOf(ctx, drive), ramp), ctx.init.slice(0, count), 0, opts.duration, {
-    scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: ctx.expectedSteps.corrected,
-    onProgress: (f) => ctx.meter.driveAt(`gauge:${drive}`, f),
-  });
-  ctx.meter.driveDone(`gauge:${drive}`);
+  const expected = ctx.expectedSteps.corrected;
+  const work = ctx.meter.groupWork('gauge', count);
+  const res = runGroup(velocityDrive(opts.grid, opts.potential, fieldOf(ctx, drive), ramp), {
+    states: ctx.init.slice(0, count), duration: opts.duration, sampleTimes: [],
+    control: { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected },
+  }, ctx.prop, (f) => ctx.meter.at(work, f, `gauge:${drive}`));
+  ctx.meter.finished(work, `gauge:${drive}`);
   const velocity = res.states.map((p, i) => eigenspaceFidelity(p, spectra.e1.vectors, groupOf(spectra.groups1, i)));
   const mine = painted.fidelity.slice(0, count);
   return { drive, states: count, painted: mine, velocity, maxDifference: Math.max(...mine.map((f, i) => Math.abs(f - velocity[i]))) };
@@ -371,25 +420,49 @@ function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: re
   return sts.map((p, i) => eigenspaceFidelity(p, es.vectors, groupOf(gs, i)));
 }
 
-/** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
- *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
-function workMeter(opts: VerifyOptions, spectra: Spectra, u0: Float64Array, u1: Float64Array, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: { corrected: number; bare: number } } {
+/** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
+type ExpectedSteps = { corrected: number; bare: number };
+
+/** estimated products with H of a group of states under a drive (a gauge check propagates like a corrected drive) */
+function workOfGroup(expectedSteps: ExpectedSteps, drive: DriveKind | 'gauge', states: number): number {
+  return ladderSteps(drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * states;
+}
+
+function expectedLevels(opts: VerifyOptions, u0: Float64Array, u1: Float64Array): ExpectedSteps {
   let maxAbsU = 0;
   for (let j = 0; j < u0.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(u0[j]), Math.abs(u1[j]));
   const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT };
-  const expectedSteps = { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
+  return { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
+}
+
+/** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
+ *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
+function workMeter(opts: VerifyOptions, spectra: Spectra, expectedSteps: ExpectedSteps, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: ExpectedSteps } {
   const eigen = eigenSolveMatvecs(spectra.extra);
   // a painted drive costs about a corrected one; its gauge check propagates the bound states once more
   const gaugeStates = Math.min(spectra.m, Math.max(1, spectra.bound));
-  const driveWork = (d: WorkKey) => ladderSteps(d === 'bare' ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * (d.startsWith('gauge') ? gaugeStates : spectra.m);
+  const groupWork = (d: DriveKind | 'gauge', states: number) => workOfGroup(expectedSteps, d, states);
   const solves = 2 + Math.max(0, (opts.traceSamples ?? 0) - 2);
-  const keys: WorkKey[] = drives.flatMap((d) => (isPainted(d) && (opts.gaugeCheck ?? true) ? [d, `gauge:${d}` as const] : [d]));
-  const meter = new WorkMeter(solves * eigen + keys.reduce((sum, d) => sum + driveWork(d), 0), eigen, driveWork, progress);
+  const gauges = drives.filter((d) => isPainted(d) && (opts.gaugeCheck ?? true)).length;
+  const propagation = drives.reduce((sum, d) => sum + groupWork(d, spectra.m), 0) + gauges * groupWork('gauge', gaugeStates);
+  const meter = new WorkMeter(solves * eigen + propagation, eigen, groupWork, progress);
   meter.add(2 * eigen, 'eigen');
   return { meter, expectedSteps };
 }
 
-export function verifySequence(options: VerifyOptions): VerifyResult {
+/** everything a verify has settled before its propagations: the context, the plans, and what the result needs */
+interface Prepared {
+  ctx: DriveContext;
+  plans: DrivePlan[];
+  u0: Float64Array;
+  ground: ReturnType<typeof groundStateField> | null;
+  tStart: number;
+  tProp: number;
+}
+
+/** the spectra, context and plans of a verify; `launch(plans)` is called as soon as the plans exist (before the end
+ *  spectrum is solved) */
+function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[]) => void): Prepared {
   const errors: DriveErrors = { ...NO_ERRORS, ...options.errors };
   for (const [k, v] of Object.entries(errors)) if (!Number.isFinite(v)) throw new RangeError(`verify: errors.${k} = ${v} must be a finite number`);
   const design = options.potential;
@@ -408,7 +481,14 @@ export function verifySequence(options: VerifyOptions): VerifyResult {
   opts.potential(0, u0);
   opts.potential(opts.lambdaEnd, u1);
   progress(0, 'eigen');
-  const spectra = endSpectra(opts, u0, u1, degTol);
+  const expectedSteps = expectedLevels(opts, u0, u1);
+  let init: Float64Array[] = [];
+  let plans: DrivePlan[] = [];
+  const spectra = endSpectra(opts, u0, u1, degTol, (e0, count) => {
+    init = e0.vectors.slice(0, count).map(complexFromReal);
+    plans = drives.map((d) => planDrive(opts, init, expectedSteps, d));
+    launch?.(plans);
+  });
   const { m } = spectra;
   const occupied = opts.fermions ?? Math.min(m, Math.max(1, spectra.bound));
   if (opts.fermions !== undefined && (opts.fermions < 1 || opts.fermions > m || !Number.isInteger(opts.fermions))) {
@@ -423,19 +503,28 @@ export function verifySequence(options: VerifyOptions): VerifyResult {
   }
   const ground = drives.includes('painted_ground') ? groundStateField(grid, opts.potential, 0, opts.lambdaEnd, { eigenMethod: opts.eigenMethod }) : null;
   const ctx: DriveContext = {
-    opts, ramp, spectra, fields: { painted: opts.paintedField, painted_ground: ground ?? undefined }, design, errors, init: spectra.e0.vectors.slice(0, m).map(complexFromReal), prop: new Propagator(grid), op: new SpectralOperator(grid),
-    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, u0, u1, drives, progress),
+    opts, ramp, spectra, fields: { painted: opts.paintedField, painted_ground: ground ?? undefined }, design, errors, init, prop: new Propagator(grid), op: new SpectralOperator(grid),
+    scratch: new Float64Array(2 * grid.n), occupied, degTol, warnings, u1, ...workMeter(opts, spectra, expectedSteps, drives, progress),
     // the end points of a trace use the end spectra, so the trace ends exactly at the reported fidelities
     traceBases: new Map([[0, { es: spectra.e0, gs: groupDegenerate(spectra.e0.energies, degTol) }], [opts.duration, { es: spectra.e1, gs: spectra.groups1 }]]),
   };
-  const tProp = performance.now();
+  return { ctx, plans, u0, ground, tStart, tProp: performance.now() };
+}
+
+/** the result from every drive's group results (same order as the plans) */
+function assemble(p: Prepared, parts: readonly GroupResult[][]): VerifyResult {
+  const { ctx, u0, ground, tStart, tProp } = p;
+  const { opts, spectra, warnings } = ctx;
+  const progress = opts.onProgress ?? (() => undefined);
+  const drives = p.plans.map((plan) => plan.drive);
   const results: DriveResult[] = [];
   let cdStrength: CdStrength | null = null;
   const gauge: GaugeCheckResult[] = [];
-  drives.forEach((drive) => {
-    const { result, strength } = runDrive(ctx, drive);
+  p.plans.forEach((plan, i) => {
+    const { result, strength } = finishDrive(ctx, plan, parts[i]);
     if (strength) cdStrength = strength;
     results.push(result);
+    const drive = plan.drive;
     if (isPainted(drive) && (opts.gaugeCheck ?? true)) gauge.push(gaugeOf(ctx, drive, result));
   });
   let startMin = Infinity, startMax = -Infinity;
@@ -448,10 +537,98 @@ export function verifySequence(options: VerifyOptions): VerifyResult {
   const { drift, e0, e1, eigenMs } = spectra;
   if (drift > 1e-6) warnings.push(`isospectrality drift ${drift.toExponential(2)} E₀: the sequence is not KdV-admissible or the potential is not resolved`);
   const maxRes = Math.max(...e0.residuals, ...e1.residuals);
+  const { grid } = opts;
   return {
     grid: { n: grid.n, length: grid.length }, ramp: opts.ramp, duration: opts.duration, lambdaEnd: opts.lambdaEnd,
     states: spectra.states, boundStates: spectra.bound, isospectralDrift: drift,
     eigen: { method: e1.method, detail: e1.detail, maxResidual: maxRes, residualTol: e1.residualTol, wallMs: eigenMs },
-    drives: results, cdStrength, painted, timings: { eigenMs, propagationMs, totalMs: performance.now() - tStart }, warnings,
+    drives: results, cdStrength, painted, timings: { eigenMs, propagationMs, totalMs: performance.now() - tStart, threads: 1 }, warnings,
   };
+}
+
+/** the verification with every propagation in this thread */
+export function verifySequence(options: VerifyOptions): VerifyResult {
+  const p = prepare(options);
+  return assemble(p, p.plans.map((plan) => runPlanHere(p.ctx, plan)));
+}
+
+/** below this estimated propagation time a verify runs in one thread (a worker's start-up costs ~0.1 s compiled,
+ *  ~1 s from the TypeScript sources; common practice) */
+export const THREADS_MIN_SECONDS = 1;
+
+/**
+ * The verification with the KdV drives' groups on `threads` worker threads (drive-worker.mjs) when the sequence is
+ * given as plain data (`options.source`) and more than one thread is asked for; the painted drives and the gauge
+ * checks run in this thread afterwards. The numbers equal those of `verifySequence` (drive-group.ts).
+ */
+export async function verifySequenceThreaded(options: VerifyOptions, threads: number, minSeconds = THREADS_MIN_SECONDS): Promise<VerifyResult> {
+  const source = options.source;
+  const { grid } = options;
+  // the workers start before the spectra are solved, when the propagation is expected to take minSeconds or more
+  const workers = threads > 1 && source !== undefined && estimatedDriveSeconds(options) >= minSeconds ? threads : 0;
+  const shared: Omit<KdvDriveSpec, 'sigma'> | null = source === undefined ? null : {
+    grid: { length: grid.length, n: grid.n }, potential: source, ramp: { kind: options.ramp, duration: options.duration, lambdaEnd: options.lambdaEnd },
+    drift: options.drift ?? 0, errors: { ...NO_ERRORS, ...options.errors },
+  };
+  const pool = workers > 0 ? new WorkerPool<DriveTask, GroupResult>(new URL('./drive-worker.mjs', import.meta.url), workers, shared) : null;
+  let running: Promise<GroupResult[]> | null = null;
+  let jobs: Array<{ drive: DriveKind; work: number }> = [];
+  let meter: WorkMeter | null = null;
+  const cancel = new AbortController();
+  const launch = (plans: DrivePlan[]) => {
+    if (pool === null) return;
+    const tasks = plans.filter((plan) => !isPainted(plan.drive)).flatMap((plan) => plan.tasks.map((group) => ({
+      task: { sigma: DRIVE_SIGMA[plan.drive as 'cd' | 'bare' | 'flipped'], group }, drive: plan.drive, work: workOfGroup(plan.expectedSteps, plan.drive, group.states.length),
+    })));
+    jobs = tasks;
+    // results arrive only once this thread waits, after `prepare` has made the meter
+    running = pool.run(tasks.map((t) => t.task), (done) => meter?.add(jobs[done - 1].work, jobs[done - 1].drive), cancel.signal);
+  };
+  let p: Prepared;
+  try {
+    p = prepare(options, launch);
+  } catch (e) {
+    // the end spectrum or a check after the launch failed: stop the workers, drop their (cancelled) result
+    if (running !== null) (running as Promise<GroupResult[]>).catch(() => undefined);
+    cancel.abort();
+    pool?.close();
+    throw e;
+  }
+  const { ctx } = p;
+  meter = ctx.meter;
+  if (running === null) {
+    pool?.close();
+    return assemble(p, p.plans.map((plan) => runPlanHere(ctx, plan)));
+  }
+  let results: GroupResult[];
+  try {
+    results = await (running as Promise<GroupResult[]>);
+  } catch (e) {
+    throw new NumericalError(`verify on ${workers} worker threads: ${e instanceof Error ? e.message : String(e)}`);
+  }
+  let next = 0;
+  const parts = p.plans.map((plan) => (isPainted(plan.drive) ? runPlanHere(ctx, plan) : plan.tasks.map(() => results[next++])));
+  const result = assemble(p, parts);
+  result.timings.threads = workers;
+  return result;
+}
+
+/** one group under one KdV drive, for a worker holding the shared part of the spec */
+interface DriveTask {
+  sigma: number;
+  group: GroupTask;
+}
+
+/** the propagation time of the KdV drives estimated before any eigen solve (quantum/cost.ts; the state count from
+ *  the semiclassical bound-state count when not given) */
+function estimatedDriveSeconds(opts: VerifyOptions): number {
+  const { grid } = opts;
+  const u0 = new Float64Array(grid.n);
+  const u1 = new Float64Array(grid.n);
+  opts.potential(0, u0);
+  opts.potential(opts.lambdaEnd, u1);
+  const expected = expectedLevels(opts, u0, u1);
+  const states = opts.states ?? boundStateEstimate(u0, grid.length / grid.n) + EXTRA_STATES;
+  const work = (opts.drives ?? ['cd', 'bare']).filter((d) => !isPainted(d)).reduce((sum, d) => sum + workOfGroup(expected, d, states), 0);
+  return work * SECONDS_PER_MATVEC_POINT * grid.n * Math.log2(grid.n);
 }

@@ -1,6 +1,7 @@
 /**
  * The reference schemes registered next to the production one, for tests that compare schemes: 'magnus4' and
- * 'split4' (this folder) and 'etd4' (src/quantum/etd4.ts).
+ * 'split4' (this folder) and the production ones, 'etd53', 'etd43' (src/quantum/etd-pair-scheme.ts) and 'etd4'
+ * (src/quantum/etd4.ts).
  */
 import { CORE_SCHEMES, propagate as propagateWith, type DrivenHamiltonian, type PropagateOptions, type PropagationResult } from '../../src/quantum/propagator.ts';
 import { MAGNUS4 } from './magnus4.ts';

@@ -66,7 +66,7 @@ export async function pipelineCommand(configPath: string, opts: CommonOptions, r
   const progress = makeStagedProgress(opts.quiet ?? false);
   let result: PipelineResult;
   try {
-    result = runPipeline(config, { dir, force: opts.force ?? false, report, figures, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
+    result = await runPipeline(config, { dir, force: opts.force ?? false, report, figures, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
   } finally {
     progress.stop();
   }

@@ -1,0 +1,96 @@
+/**
+ * The unit of propagation work of a verify (verify.ts): one group of states under one drive, from s = 0 to T, with
+ * copies of the states at the requested sample times. The groups are fixed by the state count alone
+ * (`stateGroups`), never by the number of threads, and each group runs its own step control, so a verify gives the
+ * same numbers serially and on any number of worker threads (drive-worker.mjs).
+ *
+ * A KdV drive is described by plain data (`KdvDriveSpec`: the grid, the designed sequence as its dense flow, the
+ * ramp, σ, drift and the lab's errors), so a worker thread can rebuild its Hamiltonian; drives whose Hamiltonian is
+ * a closure (painted drives, callers' potential functions) run in the calling thread.
+ */
+import { sequencePotential, type SequenceSource } from '../flow/dense.ts';
+import { makeRamp, type RampKind } from '../protocol/ramp.ts';
+import { makeGrid } from '../spectral/grid.ts';
+import { kdvDrive, Propagator, type DriveErrors, type PropagateOptions, type PropagationStats } from './propagator.ts';
+import type { DrivenHamiltonian } from './scheme.ts';
+
+/** states per group: small enough to spread a verify of a few bound states over two to eight cores, large enough
+ *  that the per-step work shared by a group's states (H at the stage times, the φ-coefficients) stays minor
+ *  (common practice) */
+export const STATE_GROUP_SIZE = 4;
+
+/** the groups [start, end) of m states */
+export function stateGroups(m: number): Array<[number, number]> {
+  const out: Array<[number, number]> = [];
+  for (let a = 0; a < m; a += STATE_GROUP_SIZE) out.push([a, Math.min(m, a + STATE_GROUP_SIZE)]);
+  return out;
+}
+
+/** a KdV drive H + σλ̇A as plain data (propagator.ts kdvDrive) */
+export interface KdvDriveSpec {
+  grid: { length: number; n: number };
+  potential: SequenceSource;
+  ramp: { kind: RampKind; duration: number; lambdaEnd: number };
+  sigma: number;
+  drift: number;
+  errors: DriveErrors;
+}
+
+/** the Hamiltonian of a spec */
+export function kdvDriveOf(spec: KdvDriveSpec): DrivenHamiltonian {
+  const grid = makeGrid(spec.grid.length, spec.grid.n);
+  const ramp = makeRamp(spec.ramp.kind, spec.ramp.duration, spec.ramp.lambdaEnd);
+  return kdvDrive(grid, sequencePotential(spec.potential), ramp, spec.sigma, spec.drift, spec.errors);
+}
+
+/** the step control of a group (propagator.ts PropagateOptions, plain data) */
+export type GroupControl = Pick<PropagateOptions, 'scheme' | 'tol' | 'errorControl' | 'expectedSteps'>;
+
+export interface GroupTask {
+  /** the initial states of the group (interleaved complex) */
+  states: Float64Array[];
+  duration: number;
+  /** times at which copies of the states are returned (ascending) */
+  sampleTimes: number[];
+  control: GroupControl;
+}
+
+export interface GroupResult {
+  states: Float64Array[];
+  /** per sample time, copies of the group's states there */
+  samples: Float64Array[][];
+  stats: PropagationStats;
+}
+
+/** propagate one group under H (module comment) */
+export function runGroup(H: DrivenHamiltonian, task: GroupTask, prop: Propagator = new Propagator(H.grid), onProgress?: (fraction: number) => void): GroupResult {
+  const samples: Float64Array[][] = [];
+  const res = prop.propagate(H, task.states, 0, task.duration, {
+    ...task.control,
+    sampleTimes: task.sampleTimes,
+    onSample: task.sampleTimes.length > 0 ? (_s, sts) => samples.push(sts.map((x) => Float64Array.from(x))) : undefined,
+    onProgress,
+  });
+  return { states: res.states, samples, stats: res.stats };
+}
+
+/** the statistics of a drive run in groups: steps and step sizes over all groups, work summed, errors the worst */
+export function mergeStats(parts: readonly PropagationStats[]): PropagationStats {
+  const first = parts[0];
+  const levels = parts.flatMap((p) => p.levels ?? []);
+  return {
+    ...first,
+    levels: levels.length > 0 ? [...new Set(levels)].sort((a, b) => a - b) : undefined,
+    steps: Math.max(...parts.map((p) => p.steps)),
+    rejected: parts.reduce((a, p) => a + p.rejected, 0),
+    matvecs: parts.reduce((a, p) => a + p.matvecs, 0),
+    krylovCalls: parts.reduce((a, p) => a + p.krylovCalls, 0),
+    krylovSubsteps: parts.reduce((a, p) => a + p.krylovSubsteps, 0),
+    krylovMaxDimUsed: Math.max(...parts.map((p) => p.krylovMaxDimUsed)),
+    minStep: Math.min(...parts.map((p) => p.minStep)),
+    maxStep: Math.max(...parts.map((p) => p.maxStep)),
+    estimatedAmplitudeError: Math.max(...parts.map((p) => p.estimatedAmplitudeError)),
+    maxNormDrift: Math.max(...parts.map((p) => p.maxNormDrift)),
+    wallMs: parts.reduce((a, p) => a + p.wallMs, 0),
+  };
+}
