@@ -32,7 +32,7 @@ import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { cumulativeIntegral } from '../spectral/cumulative.ts';
 import type { GaussianBlur } from '../spectral/blur.ts';
-import { ChebyshevSeries, chebyshevPoints } from '../spectral/chebyshev.ts';
+import { ChebyshevSeries, chebyshevPoints, PiecewiseChebyshev } from '../spectral/chebyshev.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import type { Ramp } from '../protocol/ramp.ts';
 import { groundStateNear, groupDegenerate, lowestEigenpairs, type EigenMethod } from './eigen.ts';
@@ -54,6 +54,12 @@ export const CHEBYSHEV_MAX = 256;
 /** the density's Chebyshev tail (last two coefficients) must fall below this fraction of max ρ (a few hundred
  *  times the eigenvectors' round-off, so the doubling stops at the round-off plateau) */
 export const CHEBYSHEV_TAIL = 1e-10;
+/** the piecewise re-expansion of the density series and its λ-derivatives reproduces each to this fraction of its
+ *  largest coefficient (well inside CHEBYSHEV_TAIL; common practice) */
+export const PIECE_TAIL = 1e-13;
+
+/** what evaluates a vector-valued function of λ */
+type Evaluator = { evaluate(t: number, out: Float64Array, b1: Float64Array, b2: Float64Array): Float64Array };
 /** levels closer than this (E₀) are one degenerate block when fidelities are measured (verify's value) */
 const DEGENERACY_TOL = 1e-7;
 
@@ -291,12 +297,19 @@ export function groundStateField(grid: Grid, potential: PotentialFn, lambdaStart
   const n = grid.n;
   const rho = new Float64Array(n), rl = new Float64Array(n), rll = new Float64Array(n);
   const J = new Float64Array(n), JL = new Float64Array(n), b1 = new Float64Array(n), b2 = new Float64Array(n);
+  // every evaluation in a drive reads the three series: their piecewise forms, where they converge, cost a fraction
+  const fast = (c: ChebyshevSeries): Evaluator => {
+    let scale = 0;
+    for (const ck of c.coefficients) for (const v of ck) scale = Math.max(scale, Math.abs(v));
+    return PiecewiseChebyshev.of(c, PIECE_TAIL * scale) ?? c;
+  };
+  const [fRho, fD1, fD2] = [fast(series), fast(d1), fast(d2)];
   return {
     grid, lambdaStart, lambdaEnd, degree: series.degree, clipDensity: rc, clippedWeight,
     at(lambda: number, g: Float64Array, gLambda: Float64Array): void {
-      series.evaluate(lambda, rho, b1, b2);
-      d1.evaluate(lambda, rl, b1, b2);
-      d2.evaluate(lambda, rll, b1, b2);
+      fRho.evaluate(lambda, rho, b1, b2);
+      fD1.evaluate(lambda, rl, b1, b2);
+      fD2.evaluate(lambda, rll, b1, b2);
       cumulativeIntegral(rl, grid.dx, J);
       cumulativeIntegral(rll, grid.dx, JL);
       for (let j = 0; j < n; j++) {

@@ -104,3 +104,59 @@ export function chebyshevIntegral(a: number, b: number, samples: readonly number
   });
   return 0.5 * (b - a) * s;
 }
+
+/** degree of each piece of a PiecewiseChebyshev (common practice: low enough that a piece costs an eighth of a
+ *  degree-256 series, high enough that few pieces are needed for a smooth function) */
+export const PIECE_DEGREE = 24;
+/** deepest bisection of a piece before the piecewise form gives up (the global series is used instead) */
+const PIECE_MAX_DEPTH = 8;
+
+/**
+ * A vector-valued series re-expanded on pieces of [a, b], each the degree-d interpolant through the series' values at
+ * the piece's Lobatto points, bisected until the piece's tail (two last coefficients, as ChebyshevSeries.tail) is ≤
+ * tol. Evaluation costs O(d·size) instead of O(n·size) (Trefethen 2013, ch. 8: a smooth function restricted to a
+ * shorter interval needs a lower degree). `of` returns null when some piece does not converge.
+ */
+export class PiecewiseChebyshev {
+  private constructor(private readonly breaks: number[], private readonly pieces: ChebyshevSeries[]) {}
+  static of(series: ChebyshevSeries, tol: number, degree = PIECE_DEGREE): PiecewiseChebyshev | null {
+    const size = series.size;
+    const b1 = new Float64Array(size), b2 = new Float64Array(size);
+    const breaks: number[] = [];
+    const pieces: ChebyshevSeries[] = [];
+    const build = (lo: number, hi: number, depth: number): boolean => {
+      const samples = chebyshevPoints(lo, hi, degree).map((t) => series.evaluate(t, new Float64Array(size), b1, b2));
+      const piece = ChebyshevSeries.fromSamples(lo, hi, samples);
+      if (piece.tail() <= tol) {
+        breaks.push(lo);
+        pieces.push(piece);
+        return true;
+      }
+      if (depth >= PIECE_MAX_DEPTH) return false;
+      const mid = 0.5 * (lo + hi);
+      return build(lo, mid, depth + 1) && build(mid, hi, depth + 1);
+    };
+    // start from as many pieces as the degree ratio suggests
+    const start = Math.max(1, Math.ceil(series.degree / degree));
+    for (let i = 0; i < start; i++) {
+      const lo = series.a + ((series.b - series.a) * i) / start;
+      const hi = i === start - 1 ? series.b : series.a + ((series.b - series.a) * (i + 1)) / start;
+      if (!build(lo, hi, 0)) return null;
+    }
+    return new PiecewiseChebyshev(breaks, pieces);
+  }
+  get count(): number {
+    return this.pieces.length;
+  }
+  /** f(t) into out (t clamped to [a, b]); b1, b2 scratch of the series' size */
+  evaluate(t: number, out: Float64Array, b1: Float64Array, b2: Float64Array): Float64Array {
+    const br = this.breaks;
+    let lo = 0, hi = br.length - 1;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (br[mid] <= t) lo = mid;
+      else hi = mid - 1;
+    }
+    return this.pieces[lo].evaluate(t, out, b1, b2);
+  }
+}
