@@ -43,4 +43,18 @@ describe('verify on worker threads', () => {
     // this small periodic grid come in near-degenerate pairs split by ~1e-6, beyond the degeneracy tolerance)
     for (const f of one.drives[0].fidelity.slice(0, one.boundStates)) expect(1 - f).toBeLessThan(1e-8);
   }, 60_000);
+
+  it('a trace and strength samples reach the end exactly when T·9/9 rounds above T (T = 0.9: 9·0.9/9 > 0.9 in binary floating point)', () => {
+    // IEEE 754 double rounding (common practice): the trace's last time must be T itself, or the propagation, which
+    // ends at T, never reaches it
+    expect((0.9 * 9) / 9).not.toBe(0.9);
+    const config = parseConfig(CONFIG.replace('duration: 0.5', 'duration: 0.9'), 'end.yaml', tmpdir());
+    const design = runDesign(config);
+    const source: SequenceSource = { dense: design.run.dense.data(), lo: 0, hi: 0.1 };
+    const r = verifySequence({ grid: design.ctx.grid, potential: sequencePotential(source), lambdaEnd: 0.1, ramp: 'sin2', duration: 0.9, states: 2, drives: ['cd'], traceSamples: 10, strengthSamples: 33 });
+    const cd = r.drives[0];
+    expect(cd.trace!.times.at(-1)).toBe(0.9);
+    expect(cd.trace!.fidelity.at(-1)).toEqual(cd.fidelity);
+    expect(r.cdStrength!.time).toHaveLength(33);
+  });
 });

@@ -291,8 +291,10 @@ interface DrivePlan {
 function planDrive(opts: VerifyOptions, init: readonly Float64Array[], expectedSteps: ExpectedSteps, drive: DriveKind): DrivePlan {
   const nTrace = opts.traceSamples ?? 0;
   const nStrength = drive === 'cd' ? (opts.strengthSamples ?? STRENGTH_SAMPLES_DEFAULT) : 0;
-  const traceTimes = Array.from({ length: nTrace }, (_, i) => (nTrace === 1 ? opts.duration : (opts.duration * i) / (nTrace - 1)));
-  const strengthTimes = Array.from({ length: nStrength }, (_, i) => (opts.duration * i) / Math.max(1, nStrength - 1));
+  // n times from 0 to T, the last exactly T (T·i/(n − 1) at i = n − 1 can round above T, past the propagation's end)
+  const evenly = (n: number) => Array.from({ length: n }, (_, i) => (i === n - 1 ? opts.duration : (opts.duration * i) / (n - 1)));
+  const traceTimes = nTrace === 1 ? [opts.duration] : evenly(nTrace);
+  const strengthTimes = nStrength === 1 ? [0] : evenly(nStrength);
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
   const expected = drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected;
   const control: GroupControl = { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected };
@@ -333,6 +335,9 @@ function finishDrive(ctx: DriveContext, plan: DrivePlan, parts: readonly GroupRe
   const trace = plan.traceTimes.length > 0 ? { times: plan.traceTimes, fidelity: [] as number[][] } : null;
   const coupling: CdStrength = { occupied: ctx.occupied, time: [], leakage: [], leakageCubic: [], leakagePotential: [], window: [] };
   const uS = new Float64Array(grid.n);
+  for (const p of parts) {
+    if (p.samples.length !== plan.sampleTimes.length) throw new Error(`internal error: ${drive}: ${p.samples.length} samples for ${plan.sampleTimes.length} sample times`);
+  }
   plan.sampleTimes.forEach((s, k) => {
     const sts = parts.flatMap((p) => p.samples[k]);
     opts.potential(ramp.value(s), uS);
