@@ -16,7 +16,7 @@ const work = mkdtempSync(join(tmpdir(), 'isotrap-interrupt-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
 /** the small soliton with a long protocol and more states: a verify of several seconds (interrupted early) */
-const LONG_VERIFY = (name: string) => SMALL_SOLITON(name).replace('protocol: { duration: 0.4, ramp: sin2 }', 'protocol: { duration: 8, ramp: sin2 }').replace('verify: { states: 2 }', 'verify: { states: 6 }');
+const LONG_VERIFY = (name: string) => SMALL_SOLITON(name).replace('points: 256', 'points: 1024').replace('protocol: { duration: 0.4, ramp: sin2 }', 'protocol: { duration: 40, ramp: sin2 }').replace('verify: { states: 2 }', 'verify: { states: 16 }');
 
 /** a signal is answered within this time (the goal is about a second; common practice: margin for a loaded machine) */
 const PROMPT_MS = 2000;

@@ -84,9 +84,34 @@ export interface VerifyCost {
   bytes: number;
 }
 
-/** products of one eigen solve of `levels` levels (module comment) */
-export function eigenSolveMatvecs(levels: number): number {
+/** wall seconds per N³ of the dense Householder solve (linalg/symmetric-lowest.ts): measured 9.9 s at N = 2048 and
+ *  1.7 s at N = 1024 with 200 levels (the reduction dominates; the back-transformation adds 2N²·levels) */
+export const HOUSEHOLDER_SECONDS_PER_CUBE = 1.2e-9;
+/** the dense solve holds the matrix and its reflections, 1.5 N² doubles: not above this many points */
+export const HOUSEHOLDER_MAX_POINTS = 4096;
+
+/** products of one Lanczos eigen solve of `levels` levels (module comment) */
+function lanczosMatvecs(levels: number): number {
   return EIGEN_MATVECS_BASE * Math.pow(Math.max(1, levels / EIGEN_LEVELS_PER_RUN), EIGEN_GROWTH);
+}
+
+/** seconds of one product with H on N points (SECONDS_PER_MATVEC_POINT · N log₂N) */
+function matvecSeconds(points: number): number {
+  return SECONDS_PER_MATVEC_POINT * points * Math.log2(points);
+}
+
+/** the eigen method for `levels` levels on N points: Lanczos while one run finds them all (measured fast there), the
+ *  dense Householder solve beyond when the model says it is cheaper */
+export function eigenMethodFor(points: number, levels: number): 'lanczos' | 'householder' {
+  if (points > HOUSEHOLDER_MAX_POINTS || levels <= EIGEN_LEVELS_PER_RUN) return 'lanczos';
+  return HOUSEHOLDER_SECONDS_PER_CUBE * points ** 3 < lanczosMatvecs(levels) * matvecSeconds(points) ? 'householder' : 'lanczos';
+}
+
+/** one eigen solve of `levels` levels on N points by the method eigenMethodFor picks, in products with H (the dense
+ *  solve's time expressed as products) */
+export function eigenSolveMatvecs(levels: number, points: number): number {
+  const lanczos = lanczosMatvecs(levels);
+  return eigenMethodFor(points, levels) === 'householder' ? (HOUSEHOLDER_SECONDS_PER_CUBE * points ** 3) / matvecSeconds(points) : lanczos;
 }
 
 /** the first level of the doubling ladder for an expected accepted level: the power of two at or below a quarter of
@@ -125,14 +150,14 @@ export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length'
 /** the whole cost of a verify (module comment) */
 export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const levels = Math.min(s.points, s.states + 2);
-  const eigenMatvecs = eigenSolveMatvecs(levels);
+  const eigenMatvecs = eigenSolveMatvecs(levels, s.points);
   const eigenSolves = 2 + Math.max(0, s.traceSamples - 2);
   const acceptedSteps = estimateSchrodingerSteps(s, true);
   const ladder = ladderSteps(acceptedSteps);
   const correctedMatvecs = ladder * SCHRODINGER_MATVECS_PER_STEP * s.states;
   const bareMatvecs = ladderSteps(estimateSchrodingerSteps(s, false)) * SCHRODINGER_MATVECS_PER_STEP * s.states;
   const matvecs = eigenSolves * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
-  const perMatvec = SECONDS_PER_MATVEC_POINT * s.points * Math.log2(s.points);
+  const perMatvec = matvecSeconds(s.points);
   const vector = s.points * Float64Array.BYTES_PER_ELEMENT;
   const bytes = s.states * 2 * vector * STATE_COPIES + MAX_KRYLOV_DEFAULT * vector + eigenSolves * levels * vector;
   return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs, seconds: matvecs * perMatvec, bytes };

@@ -13,6 +13,7 @@ import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { makeGrid } from '../spectral/grid.ts';
 import { kdvDrive, Propagator, type DriveErrors, type PropagateOptions, type PropagationStats } from './propagator.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
+import { lowestEigenpairs, type EigenMethod, type EigenResult } from './eigen.ts';
 
 /** states per group: small enough to spread a verify of a few bound states over two to eight cores, large enough
  *  that the per-step work shared by a group's states (H at the stage times, the φ-coefficients) stays minor
@@ -41,6 +42,16 @@ export function kdvDriveOf(spec: KdvDriveSpec): DrivenHamiltonian {
   const grid = makeGrid(spec.grid.length, spec.grid.n);
   const ramp = makeRamp(spec.ramp.kind, spec.ramp.duration, spec.ramp.lambdaEnd);
   return kdvDrive(grid, sequencePotential(spec.potential), ramp, spec.sigma, spec.drift, spec.errors);
+}
+
+/** the lowest `levels` eigenpairs of the lab's potential (1 + δ)u(λ) of a spec (σ unused): a fidelity-trace basis
+ *  solved on a worker thread */
+export function labBasis(spec: Omit<KdvDriveSpec, 'sigma'>, lambda: number, levels: number, method: EigenMethod): EigenResult {
+  const grid = makeGrid(spec.grid.length, spec.grid.n);
+  const u = new Float64Array(grid.n);
+  sequencePotential(spec.potential)(lambda, u);
+  for (let j = 0; j < u.length; j++) u[j] *= 1 + spec.errors.depth;
+  return lowestEigenpairs(grid, u, levels, { method });
 }
 
 /** the step control of a group (propagator.ts PropagateOptions, plain data) */

@@ -21,6 +21,7 @@ import { makeRng } from '../core/rng.ts';
 import { FourierMultiplier } from '../spectral/real-operators.ts';
 import type { Grid } from '../spectral/grid.ts';
 import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
+import { symmetricLowest } from '../linalg/symmetric-lowest.ts';
 
 /** residual tolerance relative to ‖H‖ (~1e-10·‖H‖: well below the fidelity budgets of verify) */
 const RESIDUAL_REL = 1e-10;
@@ -33,7 +34,9 @@ const MAX_RESTARTS = 200;
 /** default rng start value (any fixed value; common practice) */
 const RNG_START_DEFAULT = 20260101;
 
-export type EigenMethod = 'lanczos' | 'dense';
+/** 'lanczos': Chebyshev-filtered Lanczos (few levels); 'householder': dense tridiagonalisation for many levels
+ *  (linalg/symmetric-lowest.ts); 'dense': ml-matrix's full eigendecomposition (a reference for small grids) */
+export type EigenMethod = 'lanczos' | 'dense' | 'householder';
 
 export interface EigenResult {
   method: EigenMethod;
@@ -106,8 +109,8 @@ function checkArgs(grid: Grid, u: Float64Array, count: number): void {
   if (!Number.isInteger(count) || count < 1 || count > grid.n) throw new RangeError(`eigen: states ${count} must be an integer in 1 … ${grid.n}`);
 }
 
-/** dense N×N matrix of k² + u in the position basis: H_jl = c[(j−l) mod N] + u_j δ_jl, c = IDFT(k²) */
-export function denseHamiltonian(grid: Grid, u: Float64Array): Matrix {
+/** the first column of the circulant kinetic matrix: c = IDFT(k²), c_d = (1/N) Σ_m k_m² cos(2πmd/N) */
+function kineticColumn(grid: Grid): Float64Array {
   const n = grid.n;
   const c = new Float64Array(n);
   for (let d = 0; d < n; d++) {
@@ -115,9 +118,38 @@ export function denseHamiltonian(grid: Grid, u: Float64Array): Matrix {
     for (let m = 0; m < n; m++) s += grid.k[m] * grid.k[m] * Math.cos((2 * Math.PI * m * d) / n);
     c[d] = s / n;
   }
+  return c;
+}
+
+/** dense N×N matrix of k² + u in the position basis: H_jl = c[(j−l) mod N] + u_j δ_jl, c = IDFT(k²) */
+export function denseHamiltonian(grid: Grid, u: Float64Array): Matrix {
+  const n = grid.n;
+  const c = kineticColumn(grid);
   const a = new Matrix(n, n);
   for (let j = 0; j < n; j++) for (let l = 0; l < n; l++) a.set(j, l, c[(j - l + n) % n] + (j === l ? u[j] : 0));
   return a;
+}
+
+/** the lowest levels from the dense matrix by Householder tridiagonalisation (linalg/symmetric-lowest.ts) */
+function householderLowest(grid: Grid, u: Float64Array, count: number, residualTol: number | undefined): EigenResult {
+  const t0 = performance.now();
+  const n = grid.n;
+  const c = kineticColumn(grid);
+  const a = new Float64Array(n * n);
+  for (let j = 0; j < n; j++) {
+    const row = j * n;
+    for (let l = 0; l <= j; l++) a[row + l] = c[j - l];
+    a[row + j] += u[j];
+  }
+  const { values, vectors } = symmetricLowest(a, n, count);
+  const h = new RealHamiltonian(grid, u);
+  const scratch = new Float64Array(n);
+  const residuals = vectors.map((v, i) => residual(h, v, values[i], scratch));
+  return {
+    method: 'householder', detail: 'Householder tridiagonalisation of the dense N×N matrix, Sturm bisection and inverse iteration, back-transformation',
+    energies: Array.from(values), vectors, residuals, normH: h.normH, residualTol: residualTol ?? RESIDUAL_REL * h.normH, matvecs: h.matvecs, restarts: 0,
+    wallMs: performance.now() - t0,
+  };
 }
 
 function denseLowest(grid: Grid, u: Float64Array, count: number, residualTol: number | undefined): EigenResult {
@@ -422,8 +454,9 @@ export function lowestEigenpairs(grid: Grid, u: Float64Array, count: number, opt
   checkArgs(grid, u, count);
   const method = opts.method ?? 'lanczos';
   if (method === 'dense') return denseLowest(grid, u, count, opts.residualTol);
+  if (method === 'householder') return householderLowest(grid, u, count, opts.residualTol);
   if (method === 'lanczos') return lanczosLowest(grid, u, count, opts);
-  throw new RangeError(`eigen: method "${String(method)}" is not known; allowed: lanczos, dense`);
+  throw new RangeError(`eigen: method "${String(method)}" is not known; allowed: lanczos, householder, dense`);
 }
 
 /**

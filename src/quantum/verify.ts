@@ -18,7 +18,7 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
-import { boundStateEstimate, eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
+import { boundStateEstimate, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
 import { mergeStats, runGroup, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
 import { WorkerPool } from '../core/worker-pool.ts';
 import { NumericalError } from '../core/errors.ts';
@@ -203,9 +203,10 @@ function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, deg
   const m = opts.states ?? Math.min(grid.n, first.bound + EXTRA_STATES);
   if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new StateCountError('states', m, `must be an integer in 1 … ${grid.n} (the grid points)`);
   const extra = Math.min(grid.n, m + 2);
-  const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method: opts.eigenMethod });
+  const method = opts.eigenMethod ?? eigenMethodFor(grid.n, extra);
+  const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method });
   started(e0, m);
-  const e1 = lowestEigenpairs(grid, u1, extra, { method: opts.eigenMethod });
+  const e1 = lowestEigenpairs(grid, u1, extra, { method });
   const eigenMs = performance.now() - t0;
   const groups1 = groupDegenerate(e1.energies, degTol);
   const states: StateResult[] = [];
@@ -416,7 +417,7 @@ function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, rate: numbe
 function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: readonly Float64Array[]): number[] {
   let basis = ctx.traceBases.get(s);
   if (!basis) {
-    const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod });
+    const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod ?? eigenMethodFor(ctx.opts.grid.n, ctx.spectra.extra) });
     basis = { es: e, gs: groupDegenerate(e.energies, ctx.degTol) };
     ctx.traceBases.set(s, basis);
     ctx.meter.add(ctx.meter.eigen, 'trace eigenstates');
@@ -443,7 +444,7 @@ function expectedLevels(opts: VerifyOptions, u0: Float64Array, u1: Float64Array)
 /** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
  *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
 function workMeter(opts: VerifyOptions, spectra: Spectra, expectedSteps: ExpectedSteps, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: ExpectedSteps } {
-  const eigen = eigenSolveMatvecs(spectra.extra);
+  const eigen = eigenSolveMatvecs(spectra.extra, opts.grid.n);
   // a painted drive costs about a corrected one; its gauge check propagates the bound states once more
   const gaugeStates = Math.min(spectra.m, Math.max(1, spectra.bound));
   const groupWork = (d: DriveKind | 'gauge', states: number) => workOfGroup(expectedSteps, d, states);
@@ -467,7 +468,7 @@ interface Prepared {
 
 /** the spectra, context and plans of a verify; `launch(plans)` is called as soon as the plans exist (before the end
  *  spectrum is solved) */
-function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[]) => void): Prepared {
+function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[], levels: number) => void): Prepared {
   const errors: DriveErrors = { ...NO_ERRORS, ...options.errors };
   for (const [k, v] of Object.entries(errors)) if (!Number.isFinite(v)) throw new RangeError(`verify: errors.${k} = ${v} must be a finite number`);
   const design = options.potential;
@@ -492,7 +493,7 @@ function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[]) => void):
   const spectra = endSpectra(opts, u0, u1, degTol, (e0, count) => {
     init = e0.vectors.slice(0, count).map(complexFromReal);
     plans = drives.map((d) => planDrive(opts, init, expectedSteps, d));
-    launch?.(plans);
+    launch?.(plans, Math.min(grid.n, count + 2));
   });
   const { m } = spectra;
   const occupied = opts.fermions ?? Math.min(m, Math.max(1, spectra.bound));
@@ -575,26 +576,35 @@ export async function verifySequenceThreaded(options: VerifyOptions, threads: nu
     grid: { length: grid.length, n: grid.n }, potential: source, ramp: { kind: options.ramp, duration: options.duration, lambdaEnd: options.lambdaEnd },
     drift: options.drift ?? 0, errors: { ...NO_ERRORS, ...options.errors },
   };
-  const pool = workers > 0 ? new WorkerPool<DriveTask, GroupResult>(new URL('./drive-worker.mjs', import.meta.url), workers, shared) : null;
-  let running: Promise<GroupResult[]> | null = null;
-  let jobs: Array<{ drive: DriveKind; work: number }> = [];
+  const pool = workers > 0 ? new WorkerPool<DriveTask | BasisTask, GroupResult | EigenResult>(new URL('./drive-worker.mjs', import.meta.url), workers, shared) : null;
+  let running: Promise<Array<GroupResult | EigenResult>> | null = null;
+  let jobs: Array<{ stage: string; work: number }> = [];
   let meter: WorkMeter | null = null;
+  /** interior fidelity-trace times whose eigenbases the workers solve */
+  let basisTimes: number[] = [];
   const cancel = new AbortController();
-  const launch = (plans: DrivePlan[]) => {
+  const launch = (plans: DrivePlan[], levels: number) => {
     if (pool === null) return;
-    const tasks = plans.filter((plan) => !isPainted(plan.drive)).flatMap((plan) => plan.tasks.map((group) => ({
-      task: { sigma: DRIVE_SIGMA[plan.drive as 'cd' | 'bare' | 'flipped'], group }, drive: plan.drive, work: workOfGroup(plan.expectedSteps, plan.drive, group.states.length),
+    const ramp = makeRamp(options.ramp, options.duration, options.lambdaEnd);
+    const method = options.eigenMethod ?? eigenMethodFor(grid.n, levels);
+    basisTimes = (plans[0]?.traceTimes ?? []).filter((t) => t > 0 && t < options.duration);
+    const eigenWork = eigenSolveMatvecs(levels, grid.n);
+    // the eigen solves are the longest tasks: first, so that the groups fill the threads' ends
+    const bases = basisTimes.map((t) => ({ task: { kind: 'basis' as const, lambda: ramp.value(t), levels, method }, stage: 'trace eigenstates', work: eigenWork }));
+    const groups = plans.filter((plan) => !isPainted(plan.drive)).flatMap((plan) => plan.tasks.map((group) => ({
+      task: { sigma: DRIVE_SIGMA[plan.drive as 'cd' | 'bare' | 'flipped'], group }, stage: plan.drive as string, work: workOfGroup(plan.expectedSteps, plan.drive, group.states.length),
     })));
+    const tasks: Array<{ task: DriveTask | BasisTask; stage: string; work: number }> = [...bases, ...groups];
     jobs = tasks;
     // results arrive only once this thread waits, after `prepare` has made the meter
-    running = pool.run(tasks.map((t) => t.task), (done) => meter?.add(jobs[done - 1].work, jobs[done - 1].drive), cancel.signal);
+    running = pool.run(tasks.map((t) => t.task), (done) => meter?.add(jobs[done - 1].work, jobs[done - 1].stage), cancel.signal);
   };
   let p: Prepared;
   try {
     p = prepare(options, launch);
   } catch (e) {
     // the end spectrum or a check after the launch failed: stop the workers, drop their (cancelled) result
-    if (running !== null) (running as Promise<GroupResult[]>).catch(() => undefined);
+    if (running !== null) (running as Promise<unknown>).catch(() => undefined);
     cancel.abort();
     pool?.close();
     throw e;
@@ -605,12 +615,17 @@ export async function verifySequenceThreaded(options: VerifyOptions, threads: nu
     pool?.close();
     return assemble(p, p.plans.map((plan) => runPlanHere(ctx, plan)));
   }
-  let results: GroupResult[];
+  let all: Array<GroupResult | EigenResult>;
   try {
-    results = await (running as Promise<GroupResult[]>);
+    all = await (running as Promise<Array<GroupResult | EigenResult>>);
   } catch (e) {
     throw new NumericalError(`verify on ${workers} worker threads: ${e instanceof Error ? e.message : String(e)}`);
   }
+  basisTimes.forEach((t, i) => {
+    const es = all[i] as EigenResult;
+    ctx.traceBases.set(t, { es, gs: groupDegenerate(es.energies, ctx.degTol) });
+  });
+  const results = all.slice(basisTimes.length) as GroupResult[];
   let next = 0;
   const parts = p.plans.map((plan) => (isPainted(plan.drive) ? runPlanHere(ctx, plan) : plan.tasks.map(() => results[next++])));
   const result = assemble(p, parts);
@@ -622,6 +637,14 @@ export async function verifySequenceThreaded(options: VerifyOptions, threads: nu
 interface DriveTask {
   sigma: number;
   group: GroupTask;
+}
+
+/** the lowest `levels` eigenpairs of the lab's potential at λ (a fidelity-trace basis; drive-group.ts labBasis) */
+interface BasisTask {
+  kind: 'basis';
+  lambda: number;
+  levels: number;
+  method: EigenMethod;
 }
 
 /** the propagation time of the KdV drives estimated before any eigen solve (quantum/cost.ts; the state count from
