@@ -25,6 +25,11 @@ describe('verify on worker threads', () => {
       states: 6, temperature: 1, drives: ['cd', 'bare'], traceSamples: 3, strengthSamples: 5,
     };
     expect(stateGroups(6)).toEqual([[0, STATE_GROUP_SIZE], [STATE_GROUP_SIZE, 6]]);
+    // a large ensemble in at most 16 groups (the same for any thread count)
+    const big = stateGroups(200);
+    expect(big).toHaveLength(16);
+    expect(big[0]).toEqual([0, 13]);
+    expect(big.at(-1)).toEqual([195, 200]);
     const one = verifySequence(opts);
     const two = await verifySequenceThreaded(opts, 2, 0);
     expect(two.timings.threads).toBe(2);

@@ -15,15 +15,19 @@ import { kdvDrive, Propagator, type DriveErrors, type PropagateOptions, type Pro
 import type { DrivenHamiltonian } from './scheme.ts';
 import { lowestEigenpairs, type EigenMethod, type EigenResult } from './eigen.ts';
 
-/** states per group: small enough to spread a verify of a few bound states over two to eight cores, large enough
- *  that the per-step work shared by a group's states (H at the stage times, the φ-coefficients) stays minor
+/** states per group at least: small enough to spread a verify of a few bound states over two to eight cores, large
+ *  enough that the per-step work shared by a group's states (H at the stage times, the φ-coefficients) stays minor
  *  (common practice) */
 export const STATE_GROUP_SIZE = 4;
+/** at most this many groups: a large ensemble is cut into this many, so the shared per-step work stays minor too */
+export const MAX_STATE_GROUPS = 16;
 
-/** the groups [start, end) of m states */
+/** the groups [start, end) of m states: of STATE_GROUP_SIZE, or of ⌈m/MAX_STATE_GROUPS⌉ when that is larger (a
+ *  function of m alone, never of the thread count) */
 export function stateGroups(m: number): Array<[number, number]> {
+  const size = Math.max(STATE_GROUP_SIZE, Math.ceil(m / MAX_STATE_GROUPS));
   const out: Array<[number, number]> = [];
-  for (let a = 0; a < m; a += STATE_GROUP_SIZE) out.push([a, Math.min(m, a + STATE_GROUP_SIZE)]);
+  for (let a = 0; a < m; a += size) out.push([a, Math.min(m, a + size)]);
   return out;
 }
 
