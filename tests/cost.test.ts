@@ -15,7 +15,8 @@ import { lowestEigenpairs } from '../src/quantum/eigen.ts';
 import { estimateSchrodingerSteps } from '../src/quantum/cost.ts';
 import { compareCorrections } from '../src/check/drive.ts';
 import { complexFromReal } from '../src/linalg/complex.ts';
-import { approxBytes, approxCount, approxDuration, assertDesignAffordable } from '../src/io/cost.ts';
+import { approxBytes, approxCount, approxDuration, assertDesignAffordable, assertVerifyAffordable } from '../src/io/cost.ts';
+import { makeContext } from '../src/jobs/context.ts';
 import { parseConfig } from '../src/io/config.ts';
 import { userErrorOf } from './user-error.ts';
 
@@ -94,6 +95,15 @@ describe('bounded cost: refusals before computing (exit 2, nothing written)', ()
     // above 4096 points the dense solve does not fit (quantum/cost.ts HOUSEHOLDER_MAX_POINTS): 202 levels by Lanczos
     const c = config(SMALL.replace('points: 256', 'points: 8192').replace('length: 40', 'length: 480') + 'verify: { states: 200 }\n');
     await expectRefused(['verify', c.path], c.out, [/verify\.states = 200/, /eigen solves of 202 levels/, /products with H \(≈ [\d.]+ h/, /at most about \d+ states fit/]);
+  });
+
+  it('an affordable verify states its estimate: the dense solve for 202 levels, the Lanczos one for a few (common practice)', () => {
+    const many = parseConfig(SMALL.replace('points: 256', 'points: 1024') + 'verify: { states: 200 }\n', 'many.yaml', tmpdir());
+    const e = assertVerifyAffordable(many, makeContext(many), 2, 10)!;
+    expect(e.text).toMatch(/^estimated ≈ [\d.]+ (s|min) on a 2-core laptop \(10 eigen solves of 202 levels by dense Householder; 2 drives of 200 states/);
+    expect(e.seconds).toBeGreaterThan(0);
+    const few = parseConfig(SMALL + 'verify: { states: 4 }\n', 'few.yaml', tmpdir());
+    expect(assertVerifyAffordable(few, makeContext(few), 2, 10)!.text).toMatch(/of 6 levels by Lanczos/);
   });
 
   it('compare: verify.states = 200 is refused before the comparison, naming its two corrected drives', async () => {

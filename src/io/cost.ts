@@ -162,18 +162,32 @@ function affordableStates(size: VerifySize): number {
   return lo;
 }
 
+/** what a Schrödinger proof is estimated to cost, in words a user can act on */
+export interface VerifyEstimate {
+  seconds: number;
+  text: string;
+}
+
 /**
- * Refuse a Schrödinger proof over the limits (quantum/cost.ts): eigen solves, drives and the states they hold.
- * `durationNatural` is protocol.duration in t₀; without a protocol section there is nothing to estimate.
+ * Refuse a Schrödinger proof over the limits (quantum/cost.ts): eigen solves, drives and the states they hold;
+ * otherwise return its estimate. `durationNatural` is protocol.duration in t₀; without a protocol section there is
+ * nothing to estimate (null).
  */
-export function assertVerifyAffordable(config: Config, start: StartSize, durationNatural: number, traceSamples: number, drives: DriveCounts = { corrected: 1, bare: 1 }): void {
-  if (limitsLifted() || !config.protocol || !(durationNatural > 0)) return;
+export function assertVerifyAffordable(config: Config, start: StartSize, durationNatural: number, traceSamples: number, drives: DriveCounts = { corrected: 1, bare: 1 }): VerifyEstimate | null {
+  if (!config.protocol || !(durationNatural > 0)) return null;
   const src = config.meta.source;
   const given = config.verify?.states;
   const states = Math.min(start.grid.n, given ?? boundStateEstimate(start.u0, start.grid.length / start.grid.n) + 4);
   const size = verifySize(config, start, durationNatural, traceSamples, states, drives);
   const cost = estimateVerifyCost(size);
-  if (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES) return;
+  const levels = Math.min(start.grid.n, states + 2);
+  const method = eigenMethodFor(start.grid.n, levels) === 'householder' ? 'dense Householder' : 'Lanczos';
+  const estimate = {
+    seconds: cost.seconds,
+    text: `estimated ${approxDuration(cost.seconds)} ${ON_LAPTOP} (${cost.eigenSolves} eigen solves of ${levels} levels by ${method}; ` +
+      `${drives.corrected + drives.bare} drives of ${states} states, ${approxCount(cost.ladderSteps)} steps for the corrected ones; ${approxBytes(cost.bytes)})`,
+  };
+  if (limitsLifted() || (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES)) return estimate;
   const statesKey = given !== undefined ? `verify.states = ${given}` : `verify.states (not given: the bound states + 4 ≈ ${states})`;
   const fit = affordableStates(size);
   throw new UserError(

@@ -11,7 +11,7 @@ import { DESIGN_FILES, runDesign, writeDesignOutputs, type DesignResult } from '
 import { renderFolder } from './report.ts';
 import { runVerify, TRACE_SAMPLES, VERIFY_FILES, writeVerifyOutputs, type VerifyJobResult } from './verify.ts';
 import { makeContext } from './context.ts';
-import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
+import { assertDesignAffordable, assertVerifyAffordable, type VerifyEstimate } from '../io/cost.ts';
 
 export interface PipelineOptions {
   /** output folder */
@@ -24,6 +24,8 @@ export interface PipelineOptions {
   /** figure size of the report (report/style.ts): paper (default) or slides */
   figures?: FigureSize;
   onProgress?: (stage: 'design' | 'verify', fraction: number) => void;
+  /** the verify's estimated cost, before anything is computed */
+  onEstimate?: (estimate: VerifyEstimate) => void;
 }
 
 export interface PipelineResult {
@@ -44,7 +46,8 @@ export async function runPipeline(config: Config, opts: PipelineOptions): Promis
   assertDesignAffordable(config, context, true);
   // a painted drive costs about a corrected one, and its gauge check propagates the bound states once more
   const painted = config.verify?.painted.length ?? 0;
-  if (config.protocol) assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES, { corrected: 1 + 2 * painted, bare: 1 });
+  const estimate = config.protocol ? assertVerifyAffordable(config, context, context.units.timeToNatural(config.protocol.duration), TRACE_SAMPLES, { corrected: 1 + 2 * painted, bare: 1 }) : null;
+  if (estimate) opts.onEstimate?.(estimate);
   const design = runDesign(config, { onProgress: (l, end) => progress('design', l / end), context });
   if (!design.summary.complete) {
     writeDesignOutputs(design, opts.dir, opts.force, identity);

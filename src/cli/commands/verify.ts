@@ -58,6 +58,9 @@ export function printPipeline(r: PipelineResult, dir: string, opts: CommonOption
   return v.accepted ? 0 : 1;
 }
 
+/** a verify estimated to take at least this long says so before it starts (seconds; common practice) */
+const ESTIMATE_SHOWN_FROM = 10;
+
 /** `verify` (report: false) and `run` (report: true) */
 export async function pipelineCommand(configPath: string, opts: CommonOptions, report: boolean): Promise<number> {
   const figures = report ? figureSizeOption(opts.figures) : undefined;
@@ -66,7 +69,10 @@ export async function pipelineCommand(configPath: string, opts: CommonOptions, r
   const progress = makeStagedProgress(opts.quiet ?? false);
   let result: PipelineResult;
   try {
-    result = await runPipeline(config, { dir, force: opts.force ?? false, report, figures, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f) });
+    result = await runPipeline(config, {
+      dir, force: opts.force ?? false, report, figures, toolVersion: version(), onProgress: (stage, f) => progress.update(stage, f),
+      onEstimate: (e) => { if (!opts.quiet && e.seconds >= ESTIMATE_SHOWN_FROM) process.stderr.write(`verify: ${e.text}\n`); },
+    });
   } finally {
     progress.stop();
   }
