@@ -195,7 +195,7 @@ protocol: { duration: 1, ramp: cubic }
       'initial.kind = "ring" is not allowed: must be one of sech2, wells, solitons, samples',
       'flow.frames = 1 is not allowed: must be an integer from 2 to 10000',
       'flow.tolerance = 0.5 is not allowed: must be a number from 1e-14 to 1e-2',
-      'verify.states = 0 is not allowed: must be an integer from 1 to 200',
+      'verify.states = 0 is not allowed: must be an integer from 1 to 1000',
       'verify.tolerance = 0.01 is not allowed: must be a number from 1e-14 to 1e-3',
       'verify.temperature = -1 is not allowed: must be a number ≥ 0',
       'verify.fermions = 201 is not allowed',

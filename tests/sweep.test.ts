@@ -151,7 +151,7 @@ describe('isotrap sweep', () => {
     expect(plan('protocol.ramp=1,2')).toMatch(/--vary protocol\.ramp is not allowed: the key holds "sin2", not a number/);
     expect(plan('protocol.duration=1:2:lin')).toMatch(/protocol\.duration=1:2:lin is not allowed: .*a:b:lin:n/);
     expect(plan('protocol.duration=0:2:log:3')).toMatch(/log spacing needs a > 0 and b > 0/);
-    expect(plan('verify.states=0,2')).toMatch(/verify\.states = 0 is not allowed: must be an integer from 1 to 200/);
+    expect(plan('verify.states=0,2')).toMatch(/verify\.states = 0 is not allowed: must be an integer from 1 to 1000/);
     expect(plan('grid.points=100')).toMatch(/grid\.points = 100 is not allowed: must be a power of two/);
   });
 

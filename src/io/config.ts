@@ -331,7 +331,7 @@ export type PaintedKind = (typeof PAINTED_KINDS)[number];
 
 export const verifySchema = strictSection(
   {
-    states: intBetween(1, 200).optional(),
+    states: intBetween(1, 1000).optional(),
     tolerance: numberWhere(`must be a number from ${VERIFY_TOLERANCE_MIN} to 1e-3 (infidelity budget of the time stepping; ${VERIFY_TOLERANCE_MIN} is the smallest double precision can confirm)`, (v) => v >= VERIFY_TOLERANCE_MIN && v <= 1e-3).default(1e-8),
     temperature: z
       .number({ error: TEMPERATURE_RULE })
