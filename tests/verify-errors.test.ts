@@ -7,7 +7,7 @@ import { verifySequence } from '../src/quantum/verify.ts';
 // that the bare ramp loses most of the ground state
 const grid = makeGrid(24, 256);
 const split = (tau: number, out: Float64Array): void => { grid.x.forEach((x, j) => { out[j] = twoSolitonFromSech2(x, tau); }); };
-const run = (errors: { scale?: number; depth?: number; shift?: number }) =>
+const run = (errors: { scale?: number; depth?: number; shift?: number; psf?: number }) =>
   verifySequence({ grid, potential: split, lambdaEnd: 0.1, ramp: 'smooth', duration: 0.3, states: 2, tol: 1e-10, drives: ['cd'], errors, traceSamples: 0, strengthSamples: 0 });
 
 describe('errors a lab makes in building the correction (quantum/propagator.ts DriveErrors)', () => {
@@ -32,5 +32,18 @@ describe('errors a lab makes in building the correction (quantum/propagator.ts D
       expect(l[1]).toBeGreaterThan(l[0]);
     }
     expect(() => run({ scale: Number.NaN })).toThrow(/errors\.scale = NaN must be a finite number/);
+  }, 60_000);
+
+  it('an optical point-spread function of 1/e² radius w costs infidelity ∝ w⁴ (the blur changes V by (w²/8)V″ + O(w⁴), so the amplitude error is ∝ w²: first-order perturbation theory; fitted exponent 4 ± 0.15)', () => {
+    // Gaussian blur e^{−k²w²/8} (spectral/blur.ts): Taylor expansion of the multiplier, 1 − k²w²/8 + …
+    const exact = run({}).drives[0].fidelity;
+    expect(run({ psf: 0 }).drives[0].fidelity).toEqual(exact);
+    const ws = [0.05, 0.1, 0.2];
+    const loss = ws.map((w) => 1 - run({ psf: w }).drives[0].fidelity[0]);
+    const xs = ws.map(Math.log), ys = loss.map(Math.log);
+    const mx = xs.reduce((a, b) => a + b) / 3, my = ys.reduce((a, b) => a + b) / 3;
+    const slope = xs.reduce((t, x, i) => t + (x - mx) * (ys[i] - my), 0) / xs.reduce((t, x) => t + (x - mx) ** 2, 0);
+    expect(Math.abs(slope - 4)).toBeLessThan(0.15); // measured 3.96
+    expect(loss[0]).toBeGreaterThan(1e3 * (1 - exact[0]));
   }, 60_000);
 });

@@ -320,6 +320,7 @@ export const errorsSchema = strictSection(
     correction_scale: numberWhere('must be a number from -1 to 1 (relative error ε of the correction: A → (1 + ε)A)', (v) => v >= -1 && v <= 1).default(0),
     depth: numberWhere('must be a number from -0.5 to 0.5 (relative calibration error δ of the potential: V → (1 + δ)V)', (v) => v >= -0.5 && v <= 0.5).default(0),
     timing: numberWhere('must be a finite number (the correction runs late by this time, early when negative; t₀ natural, ms lab)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e6).default(0),
+    psf: numberWhere('must be a number ≥ 0 (1/e² radius of the optics’ Gaussian point-spread function blurring the painted potential; ℓ natural, µm lab; 0: none)', (v) => Number.isFinite(v) && v >= 0 && v <= 1e6).default(0),
   },
   'verify.errors',
 );

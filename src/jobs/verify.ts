@@ -80,7 +80,7 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
-  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0 } };
+  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0, psf: 0 } };
   return {
     protocol: config.protocol,
     verify: v,
@@ -235,7 +235,7 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
     ),
     traces: { file: 'traces.npy', times: parts.traces.times, rows: parts.traces.rows },
     painted: null,
-    errors: { correction_scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, timing: input.verify.errors.timing, time_unit: Lt.time },
+    errors: { correction_scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, timing: input.verify.errors.timing, time_unit: Lt.time, psf: input.verify.errors.psf, length_unit: Lt.length },
     accepted,
     acceptance: acceptanceText(accepted, cd.minFidelity),
     seconds: 0,
@@ -276,8 +276,8 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
     { key: 'correction out of the occupied states, max |λ̇|‖(1 − P)AP‖ (p³ / potential part alone)', value: `${file.cd_strength.max_leakage.toPrecision(4)} (${file.cd_strength.max_leakage_cubic.toPrecision(4)} / ${file.cd_strength.max_leakage_potential.toPrecision(4)})`, unit: file.units.energy },
     { key: 'largest single transition element |λ̇⟨m|A|n⟩|', value: file.cd_strength.max_window.toPrecision(4), unit: file.units.energy },
     ...paintedRows(file),
-    ...(file.errors && (file.errors.correction_scale !== 0 || file.errors.depth !== 0 || file.errors.timing !== 0)
-      ? [{ key: 'errors simulated (verify.errors)', value: `correction scale ε = ${file.errors.correction_scale}, depth δ = ${file.errors.depth}, correction late by ${file.errors.timing} ${file.errors.time_unit}` }]
+    ...(file.errors && (file.errors.correction_scale !== 0 || file.errors.depth !== 0 || file.errors.timing !== 0 || (file.errors.psf ?? 0) !== 0)
+      ? [{ key: 'errors simulated (verify.errors)', value: `correction scale ε = ${file.errors.correction_scale}, depth δ = ${file.errors.depth}, correction late by ${file.errors.timing} ${file.errors.time_unit}, point-spread radius ${file.errors.psf ?? 0} ${file.errors.length_unit ?? ''}` }]
       : []),
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
@@ -311,7 +311,7 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     fermions: input.verify.fermions,
     drives: ['cd', 'bare', ...painted.map((k) => PAINTED_DRIVE[k])],
     paintedField,
-    errors: { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing) },
+    errors: { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing), psf: units.lengthToNatural(input.verify.errors.psf) },
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
     onProgress: opts.onProgress,
   }, opts.threads ?? coreCount()));

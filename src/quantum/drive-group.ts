@@ -11,7 +11,7 @@
 import { sequencePotential, type SequenceSource } from '../flow/dense.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { makeGrid } from '../spectral/grid.ts';
-import { kdvDrive, Propagator, type DriveErrors, type PropagateOptions, type PropagationStats } from './propagator.ts';
+import { kdvDrive, labPotential, Propagator, type DriveErrors, type PropagateOptions, type PropagationStats } from './propagator.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
 import { lowestEigenpairs, type EigenMethod, type EigenResult } from './eigen.ts';
 
@@ -48,13 +48,12 @@ export function kdvDriveOf(spec: KdvDriveSpec): DrivenHamiltonian {
   return kdvDrive(grid, sequencePotential(spec.potential), ramp, spec.sigma, spec.drift, spec.errors);
 }
 
-/** the lowest `levels` eigenpairs of the lab's potential (1 + δ)u(λ) of a spec (σ unused): a fidelity-trace basis
+/** the lowest `levels` eigenpairs of the lab's potential (propagator.ts labPotential) of a spec (σ unused): a fidelity-trace basis
  *  solved on a worker thread */
 export function labBasis(spec: Omit<KdvDriveSpec, 'sigma'>, lambda: number, levels: number, method: EigenMethod): EigenResult {
   const grid = makeGrid(spec.grid.length, spec.grid.n);
   const u = new Float64Array(grid.n);
-  sequencePotential(spec.potential)(lambda, u);
-  for (let j = 0; j < u.length; j++) u[j] *= 1 + spec.errors.depth;
+  labPotential(grid, sequencePotential(spec.potential), spec.errors)(lambda, u);
   return lowestEigenpairs(grid, u, levels, { method });
 }
 

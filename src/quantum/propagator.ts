@@ -26,6 +26,7 @@ import type { Ramp } from '../protocol/ramp.ts';
 import { etd4Scheme } from './etd4.ts';
 import { ETD43_SCHEME, ETD53_SCHEME } from './etd-pair-scheme.ts';
 import { cdTerms, SpectralOperator } from './hamiltonian.ts';
+import { GaussianBlur } from '../spectral/blur.ts';
 import { SchemeRegistry, type DrivenHamiltonian, type EmbeddedStepScheme, type SchemeDefinition, type StepScheme } from './scheme.ts';
 
 export type { DrivenHamiltonian } from './scheme.ts';
@@ -79,7 +80,7 @@ export type PotentialFn = (lambda: number, out: Float64Array) => void;
  */
 export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number, drift = 0, errors: DriveErrors = NO_ERRORS): DrivenHamiltonian {
   const u = new Float64Array(grid.n);
-  if (errors.depth === 0 && errors.shift === 0) {
+  if (errors.depth === 0 && errors.shift === 0 && errors.psf === 0) {
     return {
       grid,
       terms(s, out) {
@@ -88,14 +89,14 @@ export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: 
       },
     };
   }
-  // the lab's potential (1 + δ)u(λ(s)); the correction built for the design, λ̇A[u] at s + δs (held at the ends)
+  // the lab's potential (labPotential); the correction built for the design, λ̇A[u] at s + δs (held at the ends)
   const uA = new Float64Array(grid.n);
+  const lab = labPotential(grid, potential, errors);
   return {
     grid,
     terms(s, out) {
       const sA = Math.min(Math.max(s + errors.shift, 0), ramp.duration);
-      potential(ramp.value(s), u);
-      for (let j = 0; j < u.length; j++) u[j] *= 1 + errors.depth;
+      lab(ramp.value(s), u);
       potential(ramp.value(sA), uA);
       cdTerms(u, ramp.rate(sA), sigma * (1 + errors.scale), out, drift);
       if (out.w) out.w = uA;
@@ -106,14 +107,29 @@ export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: 
 /**
  * Errors a lab makes in building the drive: `scale` ε, the correction A → (1 + ε)A; `depth` δ, the painted potential
  * (1 + δ)V (a static calibration error; the correction stays the design's); `shift` δs (t₀), the correction running
- * late (δs > 0) or early, λ̇A evaluated at s + δs and held at the ends of the ramp.
+ * late (δs > 0) or early, λ̇A evaluated at s + δs and held at the ends of the ramp; `psf` w (ℓ), the optics' Gaussian
+ * point-spread function (1/e² radius) blurring the painted potential (spectral/blur.ts; 0: none).
  */
 export interface DriveErrors {
   scale: number;
   depth: number;
   shift: number;
+  psf: number;
 }
-export const NO_ERRORS: DriveErrors = { scale: 0, depth: 0, shift: 0 };
+export const NO_ERRORS: DriveErrors = { scale: 0, depth: 0, shift: 0, psf: 0 };
+
+/** the potential the lab paints for the design's u: blur_w((1 + δ)u) (DriveErrors depth and psf) */
+export function labPotential(grid: Grid, design: PotentialFn, errors: DriveErrors): PotentialFn {
+  if (errors.depth === 0 && errors.psf === 0) return design;
+  const blur = errors.psf > 0 ? new GaussianBlur(grid, errors.psf) : null;
+  const raw = new Float64Array(grid.n);
+  return (lambda, out) => {
+    design(lambda, blur ? raw : out);
+    const target = blur ? raw : out;
+    for (let j = 0; j < target.length; j++) target[j] *= 1 + errors.depth;
+    if (blur) blur.apply(raw, out);
+  };
+}
 
 export interface PropagateOptions {
   /** a scheme name of the propagator's registry (default DEFAULT_SCHEME) */

@@ -11,7 +11,7 @@ import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult }
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
-import { kdvDrive, NO_ERRORS, Propagator, type DriveErrors, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
+import { kdvDrive, labPotential, NO_ERRORS, Propagator, type DriveErrors, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
 import { GaussianBlur } from '../spectral/blur.ts';
@@ -310,8 +310,11 @@ function localHamiltonian(ctx: DriveContext, plan: DrivePlan): DrivenHamiltonian
   const { opts, ramp } = ctx;
   const drive = plan.drive;
   if (isPainted(drive)) {
-    const blur = opts.blur !== undefined ? new GaussianBlur(opts.grid, opts.blur) : null;
-    return recordRange(paintedDrive(opts.grid, opts.potential, fieldOf(ctx, drive), ramp, 0, blur), plan.range);
+    // the lab paints V + V_loc as one image: the optics blur the whole frame (errors.psf, or the export's blur)
+    const width = opts.blur ?? ctx.errors.psf;
+    const blur = width > 0 ? new GaussianBlur(opts.grid, width) : null;
+    const unblurred = labPotential(opts.grid, ctx.design, { ...ctx.errors, psf: 0 });
+    return recordRange(paintedDrive(opts.grid, unblurred, fieldOf(ctx, drive), ramp, 0, blur), plan.range);
   }
   return kdvDrive(opts.grid, ctx.design, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors);
 }
@@ -363,6 +366,12 @@ function finishDrive(ctx: DriveContext, plan: DrivePlan, parts: readonly GroupRe
     result: { drive, sigma, fidelity: fid, excessEnergy: exc, minFidelity: Math.min(...fid), thermal, fermions, normDrift: stats.maxNormDrift, stats, trace, paintedRange: isPainted(drive) ? plan.range : null },
     strength: plan.strengthTimes.length > 0 ? coupling : null,
   };
+}
+
+/** the gauge check runs unless turned off or the painted frames are blurred (a blurred V_loc is no longer the gauge
+ *  image of λ̇½{g, k}, so the two drives need not agree) */
+function gaugeWanted(opts: VerifyOptions): boolean {
+  return (opts.gaugeCheck ?? true) && !((opts.blur ?? 0) > 0 || (opts.errors?.psf ?? 0) > 0);
 }
 
 function fieldOf(ctx: DriveContext, drive: 'painted' | 'painted_ground'): VelocityField {
@@ -449,7 +458,7 @@ function workMeter(opts: VerifyOptions, spectra: Spectra, expectedSteps: Expecte
   const gaugeStates = Math.min(spectra.m, Math.max(1, spectra.bound));
   const groupWork = (d: DriveKind | 'gauge', states: number) => workOfGroup(expectedSteps, d, states);
   const solves = 2 + Math.max(0, (opts.traceSamples ?? 0) - 2);
-  const gauges = drives.filter((d) => isPainted(d) && (opts.gaugeCheck ?? true)).length;
+  const gauges = drives.filter((d) => isPainted(d) && gaugeWanted(opts)).length;
   const propagation = drives.reduce((sum, d) => sum + groupWork(d, spectra.m), 0) + gauges * groupWork('gauge', gaugeStates);
   const meter = new WorkMeter(solves * eigen + propagation, eigen, groupWork, progress);
   meter.add(2 * eigen, 'eigen');
@@ -472,7 +481,7 @@ function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[], levels: n
   const errors: DriveErrors = { ...NO_ERRORS, ...options.errors };
   for (const [k, v] of Object.entries(errors)) if (!Number.isFinite(v)) throw new RangeError(`verify: errors.${k} = ${v} must be a finite number`);
   const design = options.potential;
-  const opts: VerifyOptions = errors.depth === 0 ? options : { ...options, potential: (l, out) => { design(l, out); for (let j = 0; j < out.length; j++) out[j] *= 1 + errors.depth; } };
+  const opts: VerifyOptions = { ...options, potential: labPotential(options.grid, design, errors) };
   const tStart = performance.now();
   const { grid } = opts;
   const warnings: string[] = [];
@@ -531,7 +540,7 @@ function assemble(p: Prepared, parts: readonly GroupResult[][]): VerifyResult {
     if (strength) cdStrength = strength;
     results.push(result);
     const drive = plan.drive;
-    if (isPainted(drive) && (opts.gaugeCheck ?? true)) gauge.push(gaugeOf(ctx, drive, result));
+    if (isPainted(drive) && gaugeWanted(opts)) gauge.push(gaugeOf(ctx, drive, result));
   });
   let startMin = Infinity, startMax = -Infinity;
   for (const v of u0) { startMin = Math.min(startMin, v); startMax = Math.max(startMax, v); }

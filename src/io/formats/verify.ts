@@ -79,7 +79,7 @@ export interface VerifyFile {
   painted?: null | PaintedSection;
   /** the errors a lab makes that this run simulated (verify.errors; all zero for the design as built); files of
    *  earlier versions have neither key */
-  errors?: { correction_scale: number; depth: number; timing: number; time_unit: string };
+  errors?: { correction_scale: number; depth: number; timing: number; time_unit: string; psf?: number; length_unit?: string };
   accepted: boolean;
   acceptance: string;
   seconds: number;
@@ -119,7 +119,7 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
   classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
   propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),
   traces: z.object({ file: str, times: nums, rows: z.array(z.object({ drive: str, state: num })) }),
-  errors: z.object({ correction_scale: num, depth: num, timing: num, time_unit: str }).optional(),
+  errors: z.object({ correction_scale: num, depth: num, timing: num, time_unit: str, psf: num.optional(), length_unit: str.optional() }).optional(),
   painted: z
     .object({
       definition: str,
