@@ -10,16 +10,20 @@ const split = (tau: number, out: Float64Array): void => { grid.x.forEach((x, j) 
 const run = (errors: { scale?: number; depth?: number; shift?: number; psf?: number }) =>
   verifySequence({ grid, potential: split, lambdaEnd: 0.1, ramp: 'smooth', duration: 0.3, states: 2, tol: 1e-10, drives: ['cd'], errors, traceSamples: 0, strengthSamples: 0 });
 
+/** least-squares slope of log y against log x (common practice: the exponent of a power law) */
+function logSlope(x: number[], y: number[]): number {
+  const xs = x.map(Math.log), ys = y.map(Math.log);
+  const mx = xs.reduce((a, b) => a + b) / xs.length, my = ys.reduce((a, b) => a + b) / ys.length;
+  return xs.reduce((t, v, i) => t + (v - mx) * (ys[i] - my), 0) / xs.reduce((t, v) => t + (v - mx) ** 2, 0);
+}
+
 describe('errors a lab makes in building the correction (quantum/propagator.ts DriveErrors)', () => {
   it('no error reproduces the exact correction to the last digit; a correction scale error ε costs infidelity ∝ ε² (first-order perturbation theory: the amplitude error is linear in ε; fitted exponent 2 ± 0.05)', () => {
     const exact = run({}).drives[0].fidelity;
     expect(run({ scale: 0, depth: 0, shift: 0 }).drives[0].fidelity).toEqual(exact);
     const eps = [0.005, 0.01, 0.02];
     const loss = eps.map((e) => 1 - run({ scale: e }).drives[0].fidelity[0]);
-    // least-squares slope of log(1 − F) against log ε
-    const xs = eps.map(Math.log), ys = loss.map(Math.log);
-    const mx = xs.reduce((a, b) => a + b) / 3, my = ys.reduce((a, b) => a + b) / 3;
-    const slope = xs.reduce((s, x, i) => s + (x - mx) * (ys[i] - my), 0) / xs.reduce((s, x) => s + (x - mx) ** 2, 0);
+    const slope = logSlope(eps, loss);
     expect(Math.abs(slope - 2)).toBeLessThan(0.05); // measured 2.001
     expect(loss[0]).toBeGreaterThan(1e3 * (1 - exact[0])); // well above the time-stepping floor
   }, 60_000);
@@ -40,9 +44,7 @@ describe('errors a lab makes in building the correction (quantum/propagator.ts D
     expect(run({ psf: 0 }).drives[0].fidelity).toEqual(exact);
     const ws = [0.05, 0.1, 0.2];
     const loss = ws.map((w) => 1 - run({ psf: w }).drives[0].fidelity[0]);
-    const xs = ws.map(Math.log), ys = loss.map(Math.log);
-    const mx = xs.reduce((a, b) => a + b) / 3, my = ys.reduce((a, b) => a + b) / 3;
-    const slope = xs.reduce((t, x, i) => t + (x - mx) * (ys[i] - my), 0) / xs.reduce((t, x) => t + (x - mx) ** 2, 0);
+    const slope = logSlope(ws, loss);
     expect(Math.abs(slope - 4)).toBeLessThan(0.15); // measured 3.96
     expect(loss[0]).toBeGreaterThan(1e3 * (1 - exact[0]));
   }, 60_000);
