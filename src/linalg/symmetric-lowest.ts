@@ -60,13 +60,14 @@ export function symmetricLowest(a: Float64Array, n: number, count: number): { va
   }
   d[n - 1] = a[(n - 1) * n + (n - 1)];
   const { values, vectors } = tridiagonalLowest(d, e, count);
-  // back-transformation x = H_0 ⋯ H_{n−3} y: apply H_{n−3} first
-  for (const x of vectors) {
-    for (let k = n - 3; k >= 0; k--) {
-      const beta = betas[k];
-      if (beta === 0) continue;
-      const v = reflections[k];
-      const m = k + 1;
+  // back-transformation x = H_0 ⋯ H_{n−3} y, H_{n−3} first; each reflection is applied to every vector in turn, so
+  // it is read once for all of them
+  for (let k = n - 3; k >= 0; k--) {
+    const beta = betas[k];
+    if (beta === 0) continue;
+    const v = reflections[k];
+    const m = k + 1;
+    for (const x of vectors) {
       let sum = 0;
       for (let i = 0; i < v.length; i++) sum += v[i] * x[m + i];
       sum *= beta;
