@@ -3,7 +3,7 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { makeGrid, type Grid } from '../src/spectral/grid.ts';
 import { emptyTerms, SpectralOperator, type OperatorTerms } from '../src/quantum/hamiltonian.ts';
 import { complexFromReal } from '../src/linalg/complex.ts';
-import { kdvDrive, type DrivenHamiltonian, type Scheme } from '../src/quantum/propagator.ts';
+import { kdvDrive, Propagator, type DrivenHamiltonian, type Scheme } from '../src/quantum/propagator.ts';
 import { propagate } from './reference/schemes.ts';
 import type { KineticIntegrable } from './reference/split4.ts';
 import { lowestEigenpairs, groupDegenerate } from '../src/quantum/eigen.ts';
@@ -235,6 +235,16 @@ describe('global error control: converged to its budget or refused', () => {
     expect(r.stats.errorEstimator).toBe('embedded pair');
     const ref = propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { fixedSteps: 4000 }).states[0];
     expect(dist(r.states[0], ref)).toBeLessThan(Math.sqrt(tol));
+  });
+  it('a scheme carrying its last stage (FSAL) does not carry it into another propagation that starts at the same time (common practice: a cached stage belongs to one state set)', () => {
+    const H = kdvDrive(g, pot, ramp, 1);
+    const other = [Float64Array.from(init[0], (v, j) => (j % 2 === 0 ? v : 0.3 * v))];
+    const shared = new Propagator(g);
+    shared.propagate(H, init, 0, 1, { scheme: 'etd53', fixedSteps: 40 });
+    // the first ended at s = 1; a second one from s = 1 with other states must not reuse its stage
+    const again = shared.propagate(H, other, 1, 1.2, { scheme: 'etd53', fixedSteps: 10 }).states[0];
+    const fresh = new Propagator(g).propagate(H, other, 1, 1.2, { scheme: 'etd53', fixedSteps: 10 }).states[0];
+    expect(again).toEqual(fresh);
   });
   it('refuses with a NumericalError when the level cap comes first', () => {
     expect(() => propagate(kdvDrive(g, pot, ramp, 1), init, 0, 1, { tol: 1e-28, errorControl: 'global', maxSteps: 256 })).toThrow(NumericalError);

@@ -115,14 +115,21 @@ export interface EtdPairCoefficients {
   readonly errorTerms: readonly Term[];
   /** what `refillEtdPairCoefficients` recomputes: per distinct node its exponential and φ-values, per combination
    *  its node, its scale in units of h and its weights */
-  readonly nodeValues: ReadonlyMap<number, { exp: Float64Array; phi: Float64Array }>;
-  readonly combos: readonly { c: number; factor: number; w: readonly [number, number, number]; out: Float64Array }[];
-  /** the nodes as multiples of a common unit (1/8 or coarser), so that every e^{i c h lim} is a power of one
-   *  exponential per mode (null: some node is not such a multiple) */
-  readonly multiples: ReadonlyMap<number, number> | null;
+  readonly nodes: readonly NodeValues[];
+  readonly combos: readonly { phi: Float64Array; factor: number; w: readonly [number, number, number]; out: Float64Array }[];
+  /** all nodes are multiples of this unit (1/8 or coarser; NaN when one is not), so every e^{i c h lim} is a power of
+   *  one exponential per mode */
   readonly unit: number;
   /** powers e^{i k·unit·h·lim}, k = 1 … max multiple, of one mode (re, im) */
   readonly powers: Float64Array;
+}
+
+/** one distinct node c: its multiple of the unit (0 when there is no unit), e^{i c h lim} and φ₁,₂,₃ per mode */
+interface NodeValues {
+  readonly c: number;
+  readonly multiple: number;
+  readonly exp: Float64Array;
+  readonly phi: Float64Array;
 }
 
 /**
@@ -141,15 +148,14 @@ export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64
     return p;
   };
   const byKey = new Map<string, Float64Array>();
-  const combos: { c: number; factor: number; w: readonly [number, number, number]; out: Float64Array }[] = [];
+  const combos: { phi: Float64Array; factor: number; w: readonly [number, number, number]; out: Float64Array }[] = [];
   const combo = (c: number, factor: number, w: readonly [number, number, number]): Float64Array => {
     const key = `${c}:${factor}:${w.join(',')}`;
     let out = byKey.get(key);
     if (!out) {
-      node(c);
       out = new Float64Array(2 * m);
       byKey.set(key, out);
-      combos.push({ c, factor, w, out });
+      combos.push({ phi: node(c).phi, factor, w, out });
     }
     return out;
   };
@@ -157,7 +163,7 @@ export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64
     ws.flatMap((w, from) => (w ? [{ from, coef: combo(c, factor, w) }] : []));
   const stageExp = table.nodes.map((c, i) => (i === 0 ? new Float64Array(0) : node(c).exp));
   const stageTerms = table.a.map((row, i) => terms(row, table.nodes[i], table.nodes[i]));
-  const co: EtdPairCoefficients = { h, table, stageExp, stageTerms, exp: node(1).exp, resultTerms: terms(table.b, 1, 1), errorTerms: terms(table.d, 1, 1), nodeValues, combos, ...nodeMultiples([...nodeValues.keys()]) };
+  const co: EtdPairCoefficients = { h, table, stageExp, stageTerms, exp: node(1).exp, resultTerms: terms(table.b, 1, 1), errorTerms: terms(table.d, 1, 1), ...nodeMultiples(nodeValues), combos };
   refillEtdPairCoefficients(co, h, lim);
   return co;
 }
@@ -166,15 +172,12 @@ export function etdPairCoefficients(table: EtdPairTable, h: number, lim: Float64
  *  the tables here are quarters and halves) */
 const MAX_NODE_DENOMINATOR = 8;
 
-function nodeMultiples(nodes: readonly number[]): { multiples: Map<number, number> | null; unit: number; powers: Float64Array } {
+function nodeMultiples(values: ReadonlyMap<number, { exp: Float64Array; phi: Float64Array }>): { nodes: NodeValues[]; unit: number; powers: Float64Array } {
   const unit = 1 / MAX_NODE_DENOMINATOR;
-  const multiples = new Map<number, number>();
-  for (const c of nodes) {
-    const k = Math.round(c / unit);
-    if (Math.abs(k * unit - c) > 1e-15 || k < 1) return { multiples: null, unit, powers: new Float64Array(0) };
-    multiples.set(c, k);
-  }
-  return { multiples, unit, powers: new Float64Array(2 * (Math.max(...multiples.values()) + 1)) };
+  const ks = [...values.keys()].map((c) => Math.round(c / unit));
+  const whole = [...values.keys()].every((c, i) => ks[i] >= 1 && Math.abs(ks[i] * unit - c) <= 1e-15);
+  const nodes = [...values].map(([c, v], i) => ({ c, multiple: whole ? ks[i] : 0, ...v }));
+  return { nodes, unit: whole ? unit : Number.NaN, powers: new Float64Array(whole ? 2 * (Math.max(...ks) + 1) : 0) };
 }
 
 /** the coefficients of `co` recomputed in place for step h and L = i·lim (allocates nothing); with node multiples,
@@ -183,23 +186,11 @@ function nodeMultiples(nodes: readonly number[]): { multiples: Map<number, numbe
 export function refillEtdPairCoefficients(co: EtdPairCoefficients, h: number, lim: Float64Array): void {
   const m = lim.length;
   co.h = h;
-  const mult = co.multiples;
-  if (mult === null) {
-    for (const [c, { exp, phi }] of co.nodeValues) {
-      for (let j = 0; j < m; j++) {
-        const th = c * h * lim[j];
-        exp[2 * j] = Math.cos(th);
-        exp[2 * j + 1] = Math.sin(th);
-        phiImaginary(th, phi, 6 * j);
-      }
-    }
-  } else {
-    const pw = co.powers;
-    const top = pw.length / 2 - 1;
-    const cs = [...co.nodeValues.keys()];
-    const vals = [...co.nodeValues.values()];
-    const ks = cs.map((c) => mult.get(c) as number);
-    for (let j = 0; j < m; j++) {
+  const nodes = co.nodes;
+  const pw = co.powers;
+  const top = pw.length / 2 - 1;
+  for (let j = 0; j < m; j++) {
+    if (top > 0) {
       const base = co.unit * h * lim[j];
       const br = Math.cos(base), bi = Math.sin(base);
       pw[2] = br; pw[3] = bi;
@@ -208,19 +199,19 @@ export function refillEtdPairCoefficients(co: EtdPairCoefficients, h: number, li
         pw[2 * k] = pr * br - pi * bi;
         pw[2 * k + 1] = pr * bi + pi * br;
       }
-      for (let q = 0; q < cs.length; q++) {
-        const c = cs[q], k = ks[q], { exp, phi } = vals[q];
-        const er = pw[2 * k], ei = pw[2 * k + 1];
-        exp[2 * j] = er;
-        exp[2 * j + 1] = ei;
-        const th = c * h * lim[j];
-        if (Math.abs(th) < PHI_SERIES_BELOW) phiImaginary(th, phi, 6 * j);
-        else phiImaginaryFromExp(th, er, ei, phi, 6 * j);
-      }
+    }
+    for (let q = 0; q < nodes.length; q++) {
+      const { c, multiple, exp, phi } = nodes[q];
+      const th = c * h * lim[j];
+      const er = multiple > 0 ? pw[2 * multiple] : Math.cos(th);
+      const ei = multiple > 0 ? pw[2 * multiple + 1] : Math.sin(th);
+      exp[2 * j] = er;
+      exp[2 * j + 1] = ei;
+      if (Math.abs(th) < PHI_SERIES_BELOW) phiImaginary(th, phi, 6 * j);
+      else phiImaginaryFromExp(th, er, ei, phi, 6 * j);
     }
   }
-  for (const { c, factor, w, out } of co.combos) {
-    const phi = (co.nodeValues.get(c) as { phi: Float64Array }).phi;
+  for (const { phi, factor, w, out } of co.combos) {
     const scale = factor * h;
     for (let j = 0; j < m; j++) {
       let re = 0, im = 0;

@@ -49,8 +49,11 @@ export class EtdPairCache {
   trial: Float64Array[] = [];
   nTrial: Float64Array[] = [];
   readonly err: Float64Array;
-  /** yHat and nHat hold the states and their first stage at fsalS (NaN: none) */
+  /** yHat and nHat hold the first stage of these states under this H at fsalS (NaN: none); a retry or the next step
+   *  reuses them only for the same time, the same state arrays and the same Hamiltonian */
   fsalS = Number.NaN;
+  fsalStates: readonly Float64Array[] | null = null;
+  fsalH: DrivenHamiltonian | null = null;
   lastS = Number.NaN;
   lastH = Number.NaN;
 
@@ -142,7 +145,7 @@ function rereference(c: EtdPairCache, y: Float64Array, nv: Float64Array): void {
 export function etdPairAttempt(c: EtdPairCache, H: DrivenHamiltonian, s: number, h: number, states: readonly Float64Array[]): number {
   const count = states.length;
   c.ensure(count);
-  const carried = c.fsalS === s;
+  const carried = c.fsalS === s && c.fsalStates === states && c.fsalH === H;
   loadStep(c, H, s, h, carried);
   const co = c.coefficients as EtdPairCoefficients;
   let worst = 0;
@@ -157,6 +160,8 @@ export function etdPairAttempt(c: EtdPairCache, H: DrivenHamiltonian, s: number,
   // the first stages now refer to this step's midpoint and are kept for a retry from s
   c.carriedRef.r1 = c.midRef.r1; c.carriedRef.r2 = c.midRef.r2; c.carriedRef.r3 = c.midRef.r3;
   c.fsalS = s;
+  c.fsalStates = states;
+  c.fsalH = H;
   c.lastS = s;
   c.lastH = h;
   return worst;
