@@ -100,7 +100,7 @@ describe('bounded cost: refusals before computing (exit 2, nothing written)', ()
   it('an affordable verify states its estimate: the dense solve for 202 levels, the Lanczos one for a few (common practice)', () => {
     const many = parseConfig(SMALL.replace('points: 256', 'points: 1024') + 'verify: { states: 200 }\n', 'many.yaml', tmpdir());
     const e = assertVerifyAffordable(many, makeContext(many), 2, 10)!;
-    expect(e.text).toMatch(/^estimated ≈ [\d.]+ (s|min) on a 2-core laptop \(10 eigen solves of 202 levels by dense Householder; 2 drives of 200 states/);
+    expect(e.text).toMatch(/^estimated ≈ [\d.]+ (s|min) on a 2-core laptop \(10 eigen solves of 202 levels by dense Householder on \d+ points; 2 drives of 200 states/);
     expect(e.seconds).toBeGreaterThan(0);
     const few = parseConfig(SMALL + 'verify: { states: 4 }\n', 'few.yaml', tmpdir());
     expect(assertVerifyAffordable(few, makeContext(few), 2, 10)!.text).toMatch(/of 6 levels by Lanczos/);

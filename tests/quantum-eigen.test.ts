@@ -96,6 +96,32 @@ describe('many levels: Householder tridiagonalisation (linalg/symmetric-lowest.t
     expect(Math.abs(a.energies[0] + 4)).toBeLessThan(1e-7);
     expect(Math.abs(a.energies[1] + 1)).toBeLessThan(1e-7);
   });
+  it('a band-limited well is solved on a coarse grid and lifted: equal to ml-matrix on all N points (independent solver)', () => {
+    // −6sech²ξ on 30 ℓ: its spectrum falls to 1e-13 of the peak near mode 100, so 40 levels fit the 256-point grid
+    const g = makeGrid(30, 512);
+    const u = g.x.map((x) => -6 / Math.cosh(x) ** 2);
+    const a = lowestEigenpairs(g, u, 40, { method: 'householder' });
+    expect(a.detail).toContain('256-point grid');
+    const b = lowestEigenpairs(g, u, 40, { method: 'dense' });
+    for (let i = 0; i < 40; i++) expect(Math.abs(a.energies[i] - b.energies[i])).toBeLessThan(1e-10);
+    for (const r of a.residuals) expect(r).toBeLessThan(a.residualTol);
+    // Pöschl–Teller N = 2 bound states −4 and −1 (Landau & Lifshitz, QM §23); isolated levels: the same vector up to sign
+    expect(Math.abs(a.energies[0] + 4)).toBeLessThan(1e-10);
+    expect(Math.abs(a.energies[1] + 1)).toBeLessThan(1e-10);
+    for (const i of [0, 1]) {
+      let d = 0;
+      for (let j = 0; j < g.n; j++) d += a.vectors[i][j] * b.vectors[i][j];
+      expect(1 - Math.abs(d)).toBeLessThan(1e-12);
+    }
+  });
+  it('a well with sharp walls is not band-limited: the dense solve keeps all N points', () => {
+    const g = makeGrid(30, 256);
+    const u = g.x.map((x) => (Math.abs(x) < 3 ? -5 : 0));
+    const a = lowestEigenpairs(g, u, 50, { method: 'householder' });
+    expect(a.detail).toContain('N×N');
+    const b = lowestEigenpairs(g, u, 50, { method: 'dense' });
+    for (let i = 0; i < 50; i++) expect(Math.abs(a.energies[i] - b.energies[i])).toBeLessThan(1e-9);
+  });
   it('the cost model picks Lanczos for a few levels and the dense solve for hundreds (measured crossover)', () => {
     expect(eigenMethodFor(2048, 16)).toBe('lanczos');
     expect(eigenMethodFor(2048, 202)).toBe('householder');

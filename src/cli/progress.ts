@@ -7,6 +7,8 @@ import cliProgress from 'cli-progress';
 
 /** runs shorter than this never show progress (common practice: avoid flicker) */
 export const PROGRESS_DELAY_S = 1.5;
+/** no ETA is extrapolated from less of the work than this (common practice: the early rate is noise) */
+const ETA_MIN_FRACTION = 0.05;
 
 export interface Progress {
   update(fraction: number): void;
@@ -37,7 +39,7 @@ export function makeProgress(label: string, quiet: boolean): Progress {
         const decile = Math.floor(f * 10);
         if (decile > lastDecile) {
           lastDecile = decile;
-          const eta = f > 0 ? (elapsed * (1 - f)) / f : NaN;
+          const eta = f >= ETA_MIN_FRACTION ? (elapsed * (1 - f)) / f : NaN;
           process.stderr.write(`${label}: ${Math.round(f * 100)}% after ${elapsed.toFixed(1)} s, ETA ${Number.isFinite(eta) ? eta.toFixed(1) + ' s' : '?'}\n`);
         }
       }

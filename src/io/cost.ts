@@ -9,6 +9,7 @@ import { UserError } from '../core/errors.ts';
 import { bandEdge, estimateDesignCost, estimateFlowSteps, FLOW_SECONDS_PER_POINT_STEP, FRAME_VALUE_BYTES } from '../flow/cost.ts';
 import { DENSE_BYTES_DEFAULT } from '../flow/kdv.ts';
 import { boundStateEstimate, EIGEN_LEVELS_PER_RUN, eigenMethodFor, estimateVerifyCost, type VerifySize } from '../quantum/cost.ts';
+import { densePointsFor } from '../quantum/eigen.ts';
 import { amplitudeRange, estimateVariationalCost, LAMBDA_SPAN_MIN } from '../check/cost.ts';
 import type { Config } from './config.ts';
 import type { Sequence } from './external-sequence.ts';
@@ -145,7 +146,7 @@ function verifySize(config: Config, start: StartSize, durationNatural: number, t
   return {
     points: start.grid.n, length: start.grid.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
     ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
-    correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples,
+    correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples, u0: start.u0,
   };
 }
 
@@ -181,7 +182,9 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   const size = verifySize(config, start, durationNatural, traceSamples, states, drives);
   const cost = estimateVerifyCost(size);
   const levels = Math.min(start.grid.n, states + 2);
-  const method = eigenMethodFor(start.grid.n, levels) === 'householder' ? 'dense Householder' : 'Lanczos';
+  const densePoints = densePointsFor(start.u0, levels);
+  const householder = eigenMethodFor(start.grid.n, levels, densePoints) === 'householder';
+  const method = householder ? `dense Householder on ${densePoints} points` : 'Lanczos';
   const estimate = {
     seconds: cost.seconds,
     text: `estimated ${approxDuration(cost.seconds)} ${ON_LAPTOP} (${cost.eigenSolves} eigen solves of ${levels} levels by ${method}; ` +
@@ -192,7 +195,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   const fit = affordableStates(size);
   throw new UserError(
     `${src}: the Schrödinger proof would take ${approxCount(cost.matvecs)} products with H (${approxDuration(cost.seconds)} ${ON_LAPTOP}) and hold ${approxBytes(cost.bytes)}; ${LIMITS_TEXT}: ` +
-      `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.grid.n, states + 2)} levels (${eigenMethodFor(start.grid.n, Math.min(start.grid.n, states + 2)) === 'householder' ? 'dense Householder, ∝ N³' : `Lanczos; one run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts`}; ${approxCount(cost.eigenMatvecs)} products each) ` +
+      `${statesKey} means ${cost.eigenSolves} eigen solves of ${Math.min(start.grid.n, states + 2)} levels (${householder ? `dense Householder on ${densePoints} points, ∝ points³` : `Lanczos; one run finds about ${EIGEN_LEVELS_PER_RUN}, more need restarts`}; ${approxCount(cost.eigenMatvecs)} products each) ` +
       `and ${drives.corrected} corrected drive${drives.corrected === 1 ? '' : 's'} of ${states} states over ${approxCount(cost.ladderSteps)} steps (verify.tolerance = ${size.tol}, protocol.duration = ${config.protocol?.duration}, grid.points = ${start.grid.n}); ` +
       (fit > 0 ? `at most about ${fit} states fit: lower verify.states ` : 'lower grid.points or loosen verify.tolerance ') + LIFT_TEXT,
   );

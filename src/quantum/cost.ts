@@ -23,7 +23,7 @@
  * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
  */
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
-import { MAX_KRYLOV_DEFAULT } from './eigen.ts';
+import { densePointsFor, MAX_KRYLOV_DEFAULT } from './eigen.ts';
 
 /** products of one eigen solve of up to EIGEN_LEVELS_PER_RUN levels: measured 3,900–6,000 (N = 256, 10–45 levels) */
 export const EIGEN_MATVECS_BASE = 6000;
@@ -66,6 +66,8 @@ export interface VerifySize {
   correctedDrives: number;
   bareDrives: number;
   traceSamples: number;
+  /** the start potential (for the grid of the dense eigen solves, eigen.ts densePointsFor); without it, all N points */
+  u0?: ArrayLike<number>;
 }
 
 export interface VerifyCost {
@@ -103,17 +105,18 @@ function matvecSeconds(points: number): number {
 }
 
 /** the eigen method for `levels` levels on N points: Lanczos while one run finds them all (measured fast there), the
- *  dense Householder solve beyond when the model says it is cheaper */
-export function eigenMethodFor(points: number, levels: number): 'lanczos' | 'householder' {
+ *  dense Householder solve beyond when the model says it is cheaper; the dense solve runs on `densePoints` ≤ N
+ *  (eigen.ts densePointsFor: the coarse grid that holds the levels) */
+export function eigenMethodFor(points: number, levels: number, densePoints = points): 'lanczos' | 'householder' {
   if (points > HOUSEHOLDER_MAX_POINTS || levels <= EIGEN_LEVELS_PER_RUN) return 'lanczos';
-  return HOUSEHOLDER_SECONDS_PER_CUBE * points ** 3 < lanczosMatvecs(levels) * matvecSeconds(points) ? 'householder' : 'lanczos';
+  return HOUSEHOLDER_SECONDS_PER_CUBE * densePoints ** 3 < lanczosMatvecs(levels) * matvecSeconds(points) ? 'householder' : 'lanczos';
 }
 
 /** one eigen solve of `levels` levels on N points by the method eigenMethodFor picks, in products with H (the dense
  *  solve's time expressed as products) */
-export function eigenSolveMatvecs(levels: number, points: number): number {
+export function eigenSolveMatvecs(levels: number, points: number, densePoints = points): number {
   const lanczos = lanczosMatvecs(levels);
-  return eigenMethodFor(points, levels) === 'householder' ? (HOUSEHOLDER_SECONDS_PER_CUBE * points ** 3) / matvecSeconds(points) : lanczos;
+  return eigenMethodFor(points, levels, densePoints) === 'householder' ? (HOUSEHOLDER_SECONDS_PER_CUBE * densePoints ** 3) / matvecSeconds(points) : lanczos;
 }
 
 /** the first level of the doubling ladder for an expected accepted level: the power of two at or below a quarter of
@@ -152,7 +155,7 @@ export function estimateSchrodingerSteps(s: Pick<VerifySize, 'points' | 'length'
 /** the whole cost of a verify (module comment) */
 export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const levels = Math.min(s.points, s.states + 2);
-  const eigenMatvecs = eigenSolveMatvecs(levels, s.points);
+  const eigenMatvecs = eigenSolveMatvecs(levels, s.points, s.u0 ? densePointsFor(s.u0, levels) : s.points);
   const eigenSolves = 2 + Math.max(0, s.traceSamples - 2);
   const acceptedSteps = estimateSchrodingerSteps(s, true);
   const ladder = ladderSteps(acceptedSteps);

@@ -19,7 +19,8 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { NumericalError } from '../core/errors.ts';
 import { makeRng } from '../core/rng.ts';
 import { FourierMultiplier } from '../spectral/real-operators.ts';
-import type { Grid } from '../spectral/grid.ts';
+import { makeGrid, type Grid } from '../spectral/grid.ts';
+import { resample, spectrum } from '../spectral/ops.ts';
 import { sortedOrder, tridiagEigen } from '../linalg/tridiag.ts';
 import { symmetricLowest } from '../linalg/symmetric-lowest.ts';
 
@@ -130,9 +131,21 @@ export function denseHamiltonian(grid: Grid, u: Float64Array): Matrix {
   return a;
 }
 
-/** the lowest levels from the dense matrix by Householder tridiagonalisation (linalg/symmetric-lowest.ts) */
-function householderLowest(grid: Grid, u: Float64Array, count: number, residualTol: number | undefined): EigenResult {
-  const t0 = performance.now();
+/** Fourier amplitudes at or below this fraction of the largest count as absent (a few hundred ulps above the
+ *  round-off floor of an FFT; common practice) */
+const COARSE_TAIL_REL = 1e-13;
+
+/** the highest mode index m (0 … N/2) of u whose amplitude exceeds COARSE_TAIL_REL of the largest (the band limit of u) */
+function bandLimit(v: Float64Array): number {
+  const s = spectrum(v);
+  let peak = 0;
+  for (let m = 0; m <= v.length / 2; m++) peak = Math.max(peak, Math.hypot(s[2 * m], s[2 * m + 1]));
+  for (let m = v.length / 2; m > 0; m--) if (Math.hypot(s[2 * m], s[2 * m + 1]) > COARSE_TAIL_REL * peak) return m;
+  return 0;
+}
+
+/** the dense symmetric matrix of k² + u on a grid (lower triangle, row-major), its lowest `count` pairs */
+function householderOn(grid: Grid, u: Float64Array, count: number): { values: Float64Array; vectors: Float64Array[] } {
   const n = grid.n;
   const c = kineticColumn(grid);
   const a = new Float64Array(n * n);
@@ -141,13 +154,88 @@ function householderLowest(grid: Grid, u: Float64Array, count: number, residualT
     for (let l = 0; l <= j; l++) a[row + l] = c[j - l];
     a[row + j] += u[j];
   }
-  const { values, vectors } = symmetricLowest(a, n, count);
+  return symmetricLowest(a, n, count);
+}
+
+/** a lifted coarse pair must have an N-point residual this small relative to ‖H‖: as good as the N-point solve
+ *  itself (measured 1e-14 … 1e-13·‖H‖), a hundredth of RESIDUAL_REL */
+const COARSE_RESIDUAL_REL = 1e-12;
+
+/**
+ * The lowest `count` pairs from the coarse grid of M = N/2^j points, or null when it does not hold them exactly.
+ * When u·v has no content beyond the coarse Nyquist mode, the M-point collocation is the restriction of the N-point
+ * H to the lowest modes (no aliasing: Boyd, Chebyshev and Fourier Spectral Methods, 2nd ed. 2001, §11.4) and its
+ * eigenvectors zero-padded in Fourier space (ops.ts resample) are N-point eigenvectors. What aliasing leaves out is
+ * exactly the N-point residual of a lifted pair, so each must be resolved on the coarse grid (amplitudes at its
+ * Nyquist mode ≤ COARSE_TAIL_REL) and pass ‖Hv − θv‖ ≤ COARSE_RESIDUAL_REL·‖H‖; energies are the N-point
+ * Rayleigh quotients.
+ */
+function coarseLowest(grid: Grid, u: Float64Array, count: number, points: number, uBand: number, h: RealHamiltonian, tol: number): { energies: number[]; vectors: Float64Array[]; residuals: number[] } | null {
+  const stride = grid.n / points;
+  const coarse = makeGrid(grid.length, points);
+  const uc = new Float64Array(points);
+  for (let j = 0; j < points; j++) uc[j] = u[j * stride];
+  const { vectors: vc } = householderOn(coarse, uc, count);
+  if (vc.some((v) => bandLimit(v) >= points / 2)) return null;
+  const scale = Math.sqrt(points / grid.n);
+  const hv = new Float64Array(grid.n);
+  const energies: number[] = [];
+  const vectors: Float64Array[] = [];
+  const residuals: number[] = [];
+  for (const v of vc) {
+    const w = resample(v, grid.n);
+    for (let j = 0; j < w.length; j++) w[j] *= scale;
+    h.apply(w, hv);
+    const theta = dot(w, hv) / dot(w, w);
+    let r = 0;
+    for (let j = 0; j < w.length; j++) r += (hv[j] - theta * w[j]) ** 2;
+    if (!(Math.sqrt(r) <= Math.min(tol, COARSE_RESIDUAL_REL * h.normH))) return null;
+    energies.push(theta);
+    vectors.push(w);
+    residuals.push(Math.sqrt(r));
+  }
+  return { energies, vectors, residuals };
+}
+
+/** the first coarse grid householderLowest tries: the fewest points N/2^j with M/2 ≥ q_u + count/2 (room for u's band
+ *  q_u and the levels' own modes) */
+function coarsestPoints(n: number, uBand: number, count: number): number {
+  let points = n;
+  while (points / 4 >= 2 && points / 4 >= uBand + count / 2) points /= 2;
+  return points;
+}
+
+/** the grid on which the dense solve of `count` levels of k² + u is expected to run (householderLowest; for cost
+ *  estimates: a coarse attempt can still fail and fall back to all N points) */
+export function densePointsFor(u: ArrayLike<number>, count: number): number {
+  return coarsestPoints(u.length, bandLimit(Float64Array.from(u)), count);
+}
+
+/**
+ * The lowest levels by Householder tridiagonalisation of the dense matrix (linalg/symmetric-lowest.ts), on the
+ * coarsest grid M = N/2^j that holds them exactly (coarseLowest; O(M³) instead of O(N³)), else on the N-point grid.
+ */
+function householderLowest(grid: Grid, u: Float64Array, count: number, residualTol: number | undefined): EigenResult {
+  const t0 = performance.now();
+  const n = grid.n;
   const h = new RealHamiltonian(grid, u);
+  const tol = residualTol ?? RESIDUAL_REL * h.normH;
+  const uBand = bandLimit(u);
+  for (let points = coarsestPoints(n, uBand, count); points < n; points *= 2) {
+    const found = coarseLowest(grid, u, count, points, uBand, h, tol);
+    if (found !== null) {
+      return {
+        method: 'householder', detail: `Householder tridiagonalisation of the dense matrix on the ${points}-point grid that holds the levels exactly (u band-limited to mode ${uBand}), Sturm bisection and inverse iteration, back-transformation, Fourier interpolation to ${n} points`,
+        ...found, normH: h.normH, residualTol: tol, matvecs: h.matvecs, restarts: 0, wallMs: performance.now() - t0,
+      };
+    }
+  }
+  const { values, vectors } = householderOn(grid, u, count);
   const scratch = new Float64Array(n);
   const residuals = vectors.map((v, i) => residual(h, v, values[i], scratch));
   return {
     method: 'householder', detail: 'Householder tridiagonalisation of the dense N×N matrix, Sturm bisection and inverse iteration, back-transformation',
-    energies: Array.from(values), vectors, residuals, normH: h.normH, residualTol: residualTol ?? RESIDUAL_REL * h.normH, matvecs: h.matvecs, restarts: 0,
+    energies: Array.from(values), vectors, residuals, normH: h.normH, residualTol: tol, matvecs: h.matvecs, restarts: 0,
     wallMs: performance.now() - t0,
   };
 }

@@ -7,7 +7,7 @@
  * admissible sequence). Results are plain JSON-serialisable objects.
  */
 import type { Grid } from '../spectral/grid.ts';
-import { lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
+import { densePointsFor, lowestEigenpairs, groupDegenerate, type EigenMethod, type EigenResult } from './eigen.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
@@ -189,6 +189,8 @@ interface Spectra {
   m: number;
   /** levels solved (m plus two, so a degenerate pair cut at the top is complete) */
   extra: number;
+  /** the grid of the dense eigen solves, expected from the start potential (eigen.ts densePointsFor) */
+  densePoints: number;
   states: StateResult[];
   drift: number;
   eigenMs: number;
@@ -203,7 +205,8 @@ function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, deg
   const m = opts.states ?? Math.min(grid.n, first.bound + EXTRA_STATES);
   if (!Number.isInteger(m) || m < 1 || m > grid.n) throw new StateCountError('states', m, `must be an integer in 1 … ${grid.n} (the grid points)`);
   const extra = Math.min(grid.n, m + 2);
-  const method = opts.eigenMethod ?? eigenMethodFor(grid.n, extra);
+  const densePoints = densePointsFor(u0, extra);
+  const method = opts.eigenMethod ?? eigenMethodFor(grid.n, extra, densePoints);
   const e0 = first.res.energies.length >= extra ? first.res : lowestEigenpairs(grid, u0, extra, { method });
   started(e0, m);
   const e1 = lowestEigenpairs(grid, u1, extra, { method });
@@ -215,7 +218,7 @@ function endSpectra(opts: VerifyOptions, u0: Float64Array, u1: Float64Array, deg
     states.push({ index: i, energyStart: e0.energies[i], energyEnd: e1.energies[i], degeneracyEnd: groupOf(groups1, i).length });
     drift = Math.max(drift, Math.abs(e1.energies[i] - e0.energies[i]));
   }
-  return { e0, e1, groups1, bound: first.bound, m, extra, states, drift, eigenMs };
+  return { e0, e1, groups1, bound: first.bound, m, extra, densePoints, states, drift, eigenMs };
 }
 
 /** what every drive shares: the spectra, the initial states, the propagator and operator, the trace eigenbases */
@@ -426,7 +429,7 @@ function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, rate: numbe
 function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: readonly Float64Array[]): number[] {
   let basis = ctx.traceBases.get(s);
   if (!basis) {
-    const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod ?? eigenMethodFor(ctx.opts.grid.n, ctx.spectra.extra) });
+    const e = lowestEigenpairs(ctx.opts.grid, uS, ctx.spectra.extra, { method: ctx.opts.eigenMethod ?? eigenMethodFor(ctx.opts.grid.n, ctx.spectra.extra, ctx.spectra.densePoints) });
     basis = { es: e, gs: groupDegenerate(e.energies, ctx.degTol) };
     ctx.traceBases.set(s, basis);
     ctx.meter.add(ctx.meter.eigen, 'trace eigenstates');
@@ -453,7 +456,7 @@ function expectedLevels(opts: VerifyOptions, u0: Float64Array, u1: Float64Array)
 /** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
  *  accepted levels of the step control, from quantum/cost.ts; the end spectra count as done */
 function workMeter(opts: VerifyOptions, spectra: Spectra, expectedSteps: ExpectedSteps, drives: readonly DriveKind[], progress: (fraction: number, stage: string) => void): { meter: WorkMeter; expectedSteps: ExpectedSteps } {
-  const eigen = eigenSolveMatvecs(spectra.extra, opts.grid.n);
+  const eigen = eigenSolveMatvecs(spectra.extra, opts.grid.n, spectra.densePoints);
   // a painted drive costs about a corrected one; its gauge check propagates the bound states once more
   const gaugeStates = Math.min(spectra.m, Math.max(1, spectra.bound));
   const groupWork = (d: DriveKind | 'gauge', states: number) => workOfGroup(expectedSteps, d, states);
@@ -595,9 +598,12 @@ export async function verifySequenceThreaded(options: VerifyOptions, threads: nu
   const launch = (plans: DrivePlan[], levels: number) => {
     if (pool === null) return;
     const ramp = makeRamp(options.ramp, options.duration, options.lambdaEnd);
-    const method = options.eigenMethod ?? eigenMethodFor(grid.n, levels);
+    const u0 = new Float64Array(grid.n);
+    options.potential(0, u0);
+    const densePoints = densePointsFor(u0, levels);
+    const method = options.eigenMethod ?? eigenMethodFor(grid.n, levels, densePoints);
     basisTimes = (plans[0]?.traceTimes ?? []).filter((t) => t > 0 && t < options.duration);
-    const eigenWork = eigenSolveMatvecs(levels, grid.n);
+    const eigenWork = eigenSolveMatvecs(levels, grid.n, densePoints);
     // the eigen solves are the longest tasks: first, so that the groups fill the threads' ends
     const bases = basisTimes.map((t) => ({ task: { kind: 'basis' as const, lambda: ramp.value(t), levels, method }, stage: 'trace eigenstates', work: eigenWork }));
     const groups = plans.filter((plan) => !isPainted(plan.drive)).flatMap((plan) => plan.tasks.map((group) => ({
