@@ -36,6 +36,24 @@ describe('verify with painted corrections (jobs/verify.ts, quantum/painted.ts, p
     expect(r.file.summary_rows.some((row) => /gauge check/.test(row.key))).toBe(true);
   }, 120_000);
 
+  it('one soliton carried along by the flow (a pure translation at 4κ²): the variational painted drive keeps its bound state to 1 − 1e-6, and verify.json records the fit behind it (common practice: the moving frame; Masuda & Nakamura 2010)', async () => {
+    const config = configOf({
+      name: 'translation', grid: { length: 30, points: 256 }, initial: { kind: 'sech2', depth: 2, width: 1, center: -3 },
+      flow: { lambda_end: 0.3, frames: 7 }, protocol: { duration: 1, ramp: 'sin2' }, verify: { states: 1, painted: ['variational'] },
+    });
+    const r = await runVerify(config, runDesign(config), { traceSamples: 0 });
+    const p = r.file.painted!;
+    const drive = p.drives.find((d) => d.kind === 'variational')!;
+    expect(1 - drive.fidelity[0]).toBeLessThan(1e-6);
+    // −2sech²ξ holds one bound state (Pöschl–Teller N = 1, E = −1; Landau & Lifshitz, QM §23): the fit's subspace
+    expect(r.file.bound_states).toBe(1);
+    expect(p.variational_fit!.states).toBe(1);
+    expect(p.variational_fit!.frames).toBe(7);
+    expect(p.variational_fit!.basis[0]).toBe('u');
+    expect(p.variational_fit!.max_residual).toBeLessThan(1e-6);
+    expect(p.gauge_check.find((g) => g.drive === 'painted')!.passed).toBe(true);
+  }, 60_000);
+
   it('a linear ramp is refused for a painted correction with an input error naming protocol.ramp and the reason (λ̇ ≠ 0 at the start; physics.md §7)', async () => {
     const config = configOf({
       name: 'linear', grid: { length: 24, points: 256 }, initial: { kind: 'sech2', depth: 6, width: 1, center: 0 },

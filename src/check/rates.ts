@@ -27,7 +27,7 @@ export interface FrameRates {
 }
 
 /** ∂_λu per frame from the flow fit (module doc); lambda strictly increasing, tau the fitted τ_k. */
-export function frameRates(grid: Grid, lambda: readonly number[], tau: readonly number[], frames: readonly Float64Array[], intervals: readonly SequenceIntervalFit[]): FrameRates {
+export function frameRates(grid: Grid, lambda: readonly number[], tau: readonly number[], frames: readonly Float64Array[], intervals: readonly Pick<SequenceIntervalFit, 'drift' | 'pass'>[]): FrameRates {
   const count = frames.length;
   if (intervals.length !== count - 1 || lambda.length !== count || tau.length !== count) throw new RangeError(`frameRates: ${count} frames with ${lambda.length} λ, ${tau.length} τ and ${intervals.length} intervals`);
   const tauRate = Array.from(monotoneTimeMap(lambda, tau).slopes);

@@ -25,7 +25,6 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, type VelocityField } from '../quantum/painted.ts';
 import { emptyTerms } from '../quantum/hamiltonian.ts';
 import { verifySequence } from '../quantum/verify.ts';
-import type { VerifyFile } from '../io/formats/verify.ts';
 import { variationalFieldOf } from './verify.ts';
 import { drivePieces } from '../quantum/drive-pieces.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
@@ -68,6 +67,14 @@ export interface ExportOptions {
   /** output folder (default: the design folder itself) */
   out?: string;
   force: boolean;
+}
+
+/** --psf-um: a number > 0, a source in lab units (µm) with painted drives (`source` names the file without them) */
+export function validatePsf(psfUm: number | undefined, lengthUnit: string, painted: boolean, source: string): void {
+  if (psfUm === undefined) return;
+  if (!(Number.isFinite(psfUm) && psfUm > 0)) throw new UserError(`option --psf-um = ${psfUm} is not allowed: must be a number > 0 (1/e² radius of the optics' point-spread function, µm)`);
+  if (lengthUnit !== 'µm') throw new UserError(`option --psf-um needs a source in lab units (lengths in µm); this one is in ${lengthUnit}`);
+  if (!painted) throw new UserError(`option --psf-um blurs the painted potentials, but ${source} has none: add verify.painted (e.g. [ground]) to the config and run isotrap run again`);
 }
 
 /** the sample times t_i in the config's time unit, and how they were chosen */
@@ -195,8 +202,8 @@ export interface ExportResult {
   /** where the outputs go and the config hash of the sources */
   dir: string;
   configHash: string;
-  /** the design folder and the SHA-256 of each source file as read */
-  sources: { dir: string; sha256: string[] };
+  /** the source folder, the source files and the SHA-256 of each as read */
+  sources: { dir: string; names: string[]; sha256: string[] };
 }
 
 /** the file names an export writes */
@@ -238,11 +245,7 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   if (stored.shape.length !== 2 || nF !== seq.lambda.length || n !== seq.x.length) throw new UserError(`${join(dir, 'potential.npy')}: shape [${stored.shape.join(', ')}] does not match sequence.json (${seq.lambda.length} frames × ${seq.x.length} points)`);
   assertExportAffordable(sampling.times.length, n, opts.csv, sampling.option);
   const paintedDrives = (verify.painted?.drives ?? []).map((d) => d.drive);
-  if (opts.psfUm !== undefined) {
-    if (!(Number.isFinite(opts.psfUm) && opts.psfUm > 0)) throw new UserError(`option --psf-um = ${opts.psfUm} is not allowed: must be a number > 0 (1/e² radius of the optics' point-spread function, µm)`);
-    if (L.length !== 'µm') throw new UserError(`option --psf-um needs a design in lab units (lengths in µm); this one is in ${L.length}`);
-    if (paintedDrives.length === 0) throw new UserError(`option --psf-um blurs the painted potentials, but ${join(dir, 'verify.json')} has none: add verify.painted (e.g. [ground]) to the config and run isotrap run again`);
-  }
+  validatePsf(opts.psfUm, L.length, paintedDrives.length > 0, join(dir, 'verify.json'));
   const outDir = opts.out ?? dir;
   checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, [...EXPORT_FIGURE_IDS, ...paintedDrives.map((d) => PAINTED_FIGURE_IDS[d])], paintedDrives) });
 
@@ -252,10 +255,21 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   const eq = naturalFlowEquation(settings.flow.dispersion, units.lengthToNatural(settings.flow.drift));
   const series = labSeries({ grid, eq, u0, tolerance: settings.flow.tolerance, frameLambdas: seq.lambda, ramp, t0: units.timeFromNatural(1), times: sampling.times });
   const agreement = framesAgreement(series.frames, stored.data, n, units);
-  const paintedOut = paintedDrives.length > 0
-    ? paintedPotentials({ grid, units, verify, seqConfig: seq.config, series, rampKind, duration, lambdaEnd, drift: eq.drift, times: sampling.times, psfUm: opts.psfUm, onProgress: opts.onProgress })
-    : null;
-  const result = toLabUnits(series, { units, grid, sampling, seq: { x: seq.x, kappas: seq.solitons.predicted.map((p) => p.kappa) } });
+  let paintedOut: ReturnType<typeof paintedPotentials> | null = null;
+  if (paintedDrives.length > 0) {
+    const potential = (l: number, out: Float64Array): Float64Array => series.dense.at(Math.min(Math.max(l, 0), lambdaEnd), out);
+    const occupied = verify.fermions?.count ?? Math.max(1, verify.bound_states);
+    const temperature = verify.thermal ? units.temperatureToNatural(verify.thermal.temperature) : undefined;
+    const verifyConfig = (seq.config.verify ?? {}) as { tolerance?: number };
+    paintedOut = paintedPotentials({
+      grid, units, potential, drives: paintedDrives, start: series.potential.subarray(0, n), rampKind, duration, lambdaEnd, drift: eq.drift, times: sampling.times,
+      fieldOf: (drive) => (drive === 'painted_ground' ? groundStateField(grid, potential, 0, lambdaEnd) : variationalFieldOf(grid, { lambdas: series.lambdas, frames: series.frames, dense: series.dense }, occupied, temperature)),
+      states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
+      unblurred: Object.fromEntries((verify.painted?.drives ?? []).map((d) => [d.drive, d.fidelity])),
+      psfUm: opts.psfUm, onProgress: opts.onProgress,
+    });
+  }
+  const result = toLabUnits(series, { units, grid, sampling, seq: { x: seq.x, kappas: seq.solitons.predicted.map((p) => p.kappa) }, form: CORRECTION_FORM });
   const file: ExportFile = {
     format: EXPORT_FORMAT,
     source: dir,
@@ -280,7 +294,7 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   if (paintedOut) Object.assign(file.arrays, paintedIndex(paintedDrives, sampling.times.length, n, L));
   file.seconds = (performance.now() - started) / 1000;
   const csv = opts.csv ? csvTables(result.arrays, seq.x, L) : [];
-  return { file, arrays: result.arrays, painted: paintedOut?.arrays ?? {}, csv, figures: exportFigures(file, result.arrays, paintedOut?.arrays), dir: outDir, configHash: entries[0].config_hash, sources: { dir, sha256: entries.map((e) => e.sha256) } };
+  return { file, arrays: result.arrays, painted: paintedOut?.arrays ?? {}, csv, figures: exportFigures(file, result.arrays, paintedOut?.arrays), dir: outDir, configHash: entries[0].config_hash, sources: { dir, names: [...SOURCES], sha256: entries.map((e) => e.sha256) } };
 }
 
 /** max over the stored frames of |re-integrated − stored|, relative to max|V(0)| */
@@ -298,8 +312,8 @@ const CORRECTION_FORM =
   'H_lab(t) = p²/2m + V(x, t) + λ̇(t)·A, A = a p³ + ½{g, p}: the drive term is C₃(t)·q³ + ½{w(x, t), p} with q = p/ħ the wavenumber, ' +
   'C₃ = λ̇·a·ħ³ (the cubic array, energy × length³) and w = λ̇·g (the velocity array); a = −4ℓ³/ħ² and g = ℓ·(c − 6V/E₀) in the natural units of physics.md §3';
 
-/** the natural-units series in the config's units, with the size summary of the correction */
-function toLabUnits(s: LabSeries, ctx: { units: UnitSystem; grid: Grid; sampling: Sampling; seq: { x: number[]; kappas: number[] } }): { arrays: ExportResult['arrays']; correction: ExportFile['correction'] } {
+/** the natural-units series in the config's units, with the size summary of the correction (`form`: what A is) */
+export function toLabUnits(s: Pick<LabSeries, 'lambda' | 'rate' | 'accel' | 'potential' | 'velocity' | 'cubic'>, ctx: { units: UnitSystem; grid: Grid; sampling: Sampling; seq: { x: number[]; kappas: number[] }; form: string }): { arrays: ExportResult['arrays']; correction: ExportFile['correction'] } {
   const { units, grid, sampling } = ctx;
   const n = grid.n;
   const m = sampling.times.length;
@@ -316,7 +330,7 @@ function toLabUnits(s: LabSeries, ctx: { units: UnitSystem; grid: Grid; sampling
   const pw = peak(maxW);
   const L = units.labels;
   const correction: ExportFile['correction'] = {
-    form: CORRECTION_FORM,
+    form: ctx.form,
     cubic_unit: `${L.energy}·${L.length}³`,
     velocity_unit: L.velocity,
     k_ref: units.lengthToNatural(kRefNatural),
@@ -346,7 +360,7 @@ function toLabUnits(s: LabSeries, ctx: { units: UnitSystem; grid: Grid; sampling
 }
 
 /** the sidecar's entry of every array */
-function arraysIndex(m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
+export function arraysIndex(m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
   const t = `time sample t_i (${m})`;
   const x = `position x_j (${n})`;
   const a = (key: keyof typeof EXPORT_NPY, shape: number[], axes: string[], unit: string, meaning: string): [string, ExportArray] => [key, { file: EXPORT_NPY[key], shape, axes, unit, meaning }];
@@ -362,14 +376,14 @@ function arraysIndex(m: number, n: number, L: UnitSystem['labels']): Record<stri
   ]);
 }
 
-function csvIndex(L: UnitSystem['labels']): ExportFile['tables'] {
+export function csvIndex(L: UnitSystem['labels']): ExportFile['tables'] {
   return [
     { file: EXPORT_CSV[0], columns: [`x (${L.length})`, `one column per sample, headed t=<t_i> (${L.time})`], meaning: `V(x, t_i) in ${L.energy} (the potential array as a table)` },
     { file: EXPORT_CSV[1], columns: [`t (${L.time})`, 'lambda', `lambda_rate (1/${L.time})`, `lambda_accel (1/${L.time}²)`, `cubic (${L.energy}·${L.length}³)`], meaning: 'the ramp and the p³ coefficient per sample' },
   ];
 }
 
-function csvTables(a: ExportResult['arrays'], x: number[], L: UnitSystem['labels']): { name: string; text: string }[] {
+export function csvTables(a: ExportResult['arrays'], x: number[], L: UnitSystem['labels']): { name: string; text: string }[] {
   const m = a.t.data.length;
   const n = x.length;
   const cols = Array.from({ length: m }, (_, i) => a.potential.data.subarray(i * n, (i + 1) * n));
@@ -386,8 +400,8 @@ export function writeExportOutputs(r: ExportResult, force: boolean): string[] {
   const identity = { run: `${new Date().toISOString()}-${randomBytes(4).toString('hex')}`, configHash: r.configHash };
   return writeRun(r.dir, { force, produces, job: 'export', identity }, (out) => {
     // under the lock: the sources must still be the files that were read (no run committed in between)
-    const now = verifiedEntries(r.sources.dir, SOURCES);
-    const changed = SOURCES.filter((_, i) => now[i].sha256 !== r.sources.sha256[i]);
+    const now = verifiedEntries(r.sources.dir, r.sources.names);
+    const changed = r.sources.names.filter((_, i) => now[i].sha256 !== r.sources.sha256[i]);
     if (changed.length > 0) throw new UserError(`${changed.map((n) => join(r.sources.dir, n)).join(', ')} changed while the export was computed (another run committed): run isotrap export again`);
     for (const [key, name] of Object.entries(EXPORT_NPY)) {
       const a = r.arrays[key as keyof typeof EXPORT_NPY];
@@ -404,38 +418,44 @@ export function writeExportOutputs(r: ExportResult, force: boolean): string[] {
 }
 
 /** what paintedPotentials needs */
-interface PaintedInput {
+export interface PaintedInput {
   grid: Grid;
   units: UnitSystem;
-  verify: VerifyFile;
-  seqConfig: Record<string, unknown>;
-  series: LabSeries;
+  /** u(ξ, λ) for λ in [0, lambdaEnd] (natural units) */
+  potential: (lambda: number, out: Float64Array) => Float64Array;
+  drives: readonly PaintedDriveKind[];
+  /** the velocity field of a painted drive (quantum/painted.ts) over the same λ */
+  fieldOf: (drive: PaintedDriveKind) => VelocityField;
+  /** u at λ = 0 (E₀): the starting trap the painted range is compared with */
+  start: Float64Array;
   rampKind: RampKind;
   duration: number;
   lambdaEnd: number;
   drift: number;
   times: Float64Array;
+  /** propagated states and infidelity budget of a simulation with the blurred potentials */
+  states: number;
+  tol: number;
+  /** the sharp painted drives' fidelities by drive (what the blur is compared with) */
+  unblurred: Partial<Record<PaintedDriveKind, number[]>>;
   psfUm?: number;
   onProgress?: (fraction: number, stage: string) => void;
 }
 
+export type PaintedDriveKind = keyof typeof PAINTED_NPY;
+
 /**
- * The painted potentials V + V_loc of verify.json's painted drives on the lab-time samples (quantum/painted.ts, the
- * same fields as verify: jobs/verify.ts variationalFieldOf, quantum/painted.ts groundStateField), their range
+ * The painted potentials V + V_loc of the painted drives on the lab-time samples (quantum/painted.ts), their range
  * against the starting trap, and with --psf-um the blurred potentials, the change the blur makes and the painted
- * drives simulated blurred (quantum/verify.ts) against verify.json's unblurred fidelities.
+ * drives simulated blurred (quantum/verify.ts) against the sharp fidelities.
  */
-function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; section: NonNullable<ExportFile['painted']>; warnings: string[] } {
-  const { grid, units, verify, series, times } = p;
+export function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; section: NonNullable<ExportFile['painted']>; warnings: string[]; fields: Map<string, VelocityField> } {
+  const { grid, units, times, potential, drives } = p;
   const n = grid.n, m = times.length;
   const E = (x: number) => units.energyFromNatural(x);
   const T = units.timeToNatural(p.duration);
   const ramp = makeRamp(p.rampKind, T, p.lambdaEnd);
-  const potential = (l: number, out: Float64Array): Float64Array => series.dense.at(Math.min(Math.max(l, 0), p.lambdaEnd), out);
-  const occupied = verify.fermions?.count ?? Math.max(1, verify.bound_states);
-  const temperature = verify.thermal ? units.temperatureToNatural(verify.thermal.temperature) : undefined;
   const blur = p.psfUm !== undefined ? new GaussianBlur(grid, units.lengthToNatural(p.psfUm)) : null;
-  const drives = (verify.painted?.drives ?? []).map((d) => d.drive);
   const fields = new Map<string, VelocityField>();
   const warnings: string[] = [];
   const arrays: ExportResult['painted'] = {};
@@ -443,7 +463,7 @@ function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; 
   const blurred = new Float64Array(n), terms = emptyTerms();
   drives.forEach((drive, k) => {
     p.onProgress?.(k / (drives.length + (blur ? 1 : 0)), `painted field ${drive}`);
-    const field = drive === 'painted_ground' ? groundStateField(grid, potential, 0, p.lambdaEnd) : variationalFieldOf(grid, { lambdas: series.lambdas, frames: series.frames, dense: series.dense }, occupied, temperature);
+    const field = p.fieldOf(drive);
     fields.set(drive, field);
     const H = paintedDrive(grid, potential, field, ramp, 0, blur);
     const raw = paintedDrive(grid, potential, field, ramp, 0, null);
@@ -475,11 +495,12 @@ function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; 
     }
   });
   let start = { deepest: Infinity, highest: -Infinity };
-  for (let j = 0; j < n; j++) start = { deepest: Math.min(start.deepest, E(series.potential[j])), highest: Math.max(start.highest, E(series.potential[j])) };
-  const psf = blur && p.psfUm !== undefined ? blurredFidelities(p, p.psfUm, potential, fields, drives) : null;
+  for (let j = 0; j < n; j++) start = { deepest: Math.min(start.deepest, E(p.start[j])), highest: Math.max(start.highest, E(p.start[j])) };
+  const psf = blur && p.psfUm !== undefined ? blurredFidelities(p, p.psfUm, fields) : null;
   return {
     arrays,
     warnings,
+    fields,
     section: {
       meaning: 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json; with --psf-um the blurred potential the optics would make',
       drives: entries,
@@ -491,27 +512,26 @@ function paintedPotentials(p: PaintedInput): { arrays: ExportResult['painted']; 
 
 /** the painted drives simulated with every painted potential blurred by the PSF (quantum/verify.ts), against
  *  verify.json's sharp fidelities */
-function blurredFidelities(p: PaintedInput, psfUm: number, potential: (l: number, out: Float64Array) => Float64Array, fields: Map<string, VelocityField>, drives: ('painted' | 'painted_ground')[]): NonNullable<NonNullable<ExportFile['painted']>['psf']> {
-  const { grid, units, verify } = p;
+function blurredFidelities(p: PaintedInput, psfUm: number, fields: Map<string, VelocityField>): NonNullable<NonNullable<ExportFile['painted']>['psf']> {
+  const { grid, units, drives } = p;
   p.onProgress?.(drives.length / (drives.length + 1), 'blurred painted drives');
-  const verifyConfig = (p.seqConfig.verify ?? {}) as { tolerance?: number };
   const res = verifySequence({
-    grid, potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: units.timeToNatural(p.duration), drift: p.drift, states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
-    drives, paintedField: fields.get('painted'), blur: units.lengthToNatural(psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
+    grid, potential: p.potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: units.timeToNatural(p.duration), drift: p.drift, states: p.states, tol: p.tol,
+    drives: [...drives], paintedField: fields.get('painted'), blur: units.lengthToNatural(psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
   });
   return {
     radius: psfUm,
     unit: 'µm',
     rule: 'Gaussian point-spread function of 1/e² intensity radius w, Fourier multiplier exp(−k²w²/8), applied to the whole painted potential V + V_loc at every time (spectral/blur.ts)',
     drives: res.drives.map((d) => {
-      const unblurred = verify.painted?.drives.find((x) => x.drive === d.drive)?.fidelity ?? [];
+      const unblurred = p.unblurred[d.drive as PaintedDriveKind] ?? [];
       return { drive: d.drive, fidelity: d.fidelity, fidelity_unblurred: unblurred, lost: Math.max(0, ...d.fidelity.map((f, i) => (unblurred[i] ?? f) - f)) };
     }),
   };
 }
 
 /** the sidecar's entries of the painted arrays */
-function paintedIndex(drives: readonly (keyof typeof PAINTED_NPY)[], m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
+export function paintedIndex(drives: readonly (keyof typeof PAINTED_NPY)[], m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
   const what = { painted: 'the best momentum-linear correction ½{g, p} painted as a potential', painted_ground: 'the one-state exact correction of the ground state painted as a potential' };
   return Object.fromEntries(drives.map((d) => [d, { file: PAINTED_NPY[d], shape: [m, n], axes: [`time sample t_i (${m})`, `position x_j (${n})`], unit: L.energy, meaning: `V(x_j, t_i) + V_loc(x_j, t_i) of ${what[d]}: the trap to program instead of V and the correction` }]));
 }

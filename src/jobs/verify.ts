@@ -15,7 +15,7 @@ import { toJson, type DesignResult } from './design.ts';
 import type { VerifyFile } from '../io/formats/verify.ts';
 import { configIdentity, writeRun } from '../io/run-folder.ts';
 import type { PaintedKind } from '../io/config.ts';
-import { paintedVariationalField } from '../check/painted.ts';
+import { paintedVariationalField, type PaintedVariationalField } from '../check/painted.ts';
 import { assertPaintableRamp, CLIP_FLOOR, RampNotPaintableError, type VelocityField } from '../quantum/painted.ts';
 import { makeRamp } from '../protocol/ramp.ts';
 import type { Grid } from '../spectral/grid.ts';
@@ -318,7 +318,7 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
   const traces = traceTable(natural, natural.drives, (s) => units.timeFromNatural(s));
   const file = verifyFile(design, input, natural, { classical, traces });
-  file.painted = paintedSection(natural, painted, input, units);
+  file.painted = paintedSection(natural, painted, input, units, paintedField);
   for (const g of file.painted?.gauge_check ?? []) {
     if (!g.passed) file.warnings.push(`gauge check of ${g.drive}: the painted potential and the ½{g, p} drive end ${g.max_difference.toExponential(2)} apart in fidelity, above the time-stepping budget ${g.budget.toExponential(2)}`);
   }
@@ -351,7 +351,7 @@ function paintableRamp(config: Config, input: VerifyInput): void {
   }
 }
 
-function variationalField(config: Config, design: DesignResult, input: VerifyInput): VelocityField {
+function variationalField(config: Config, design: DesignResult, input: VerifyInput): PaintedVariationalField {
   const occupied = input.verify.fermions ?? Math.max(1, design.bound.energies.length);
   return variationalFieldOf(design.ctx.grid, design.run, occupied, input.temperature);
 }
@@ -359,7 +359,7 @@ function variationalField(config: Config, design: DesignResult, input: VerifyInp
 /** the variational ½{g, p} of a designed flow (check/painted.ts) on PAINTED_FIT_FRAMES of its frames with the
  *  flow's exact rates ∂_λV, fitted on the lowest `occupied` states (verify.fermions, else the bound states), with
  *  Boltzmann weights at `temperature` (E₀) when given; the one rule verify and export share */
-export function variationalFieldOf(grid: Grid, run: Pick<FlowRun, 'lambdas' | 'frames' | 'dense'>, occupied: number, temperature: number | undefined): VelocityField {
+export function variationalFieldOf(grid: Grid, run: Pick<FlowRun, 'lambdas' | 'frames' | 'dense'>, occupied: number, temperature: number | undefined): PaintedVariationalField {
   const { lambdas, frames, dense } = run;
   const count = Math.min(PAINTED_FIT_FRAMES, lambdas.length);
   const picks = [...new Set(Array.from({ length: count }, (_, i) => Math.round((i * (lambdas.length - 1)) / (count - 1))))];
@@ -368,7 +368,7 @@ export function variationalFieldOf(grid: Grid, run: Pick<FlowRun, 'lambdas' | 'f
 }
 
 /** the painted section of verify.json in the config's units */
-function paintedSection(natural: VerifyResult, kinds: readonly PaintedKind[], input: VerifyInput, units: UnitSystem): PaintedSection | null {
+function paintedSection(natural: VerifyResult, kinds: readonly PaintedKind[], input: VerifyInput, units: UnitSystem, variational: PaintedVariationalField | undefined): PaintedSection | null {
   const info = natural.painted;
   if (!info || kinds.length === 0) return null;
   const E = (x: number) => units.energyFromNatural(x);
@@ -388,6 +388,13 @@ function paintedSection(natural: VerifyResult, kinds: readonly PaintedKind[], in
       ? {
           clip_density: units.lengthToNatural(info.ground.clipDensity), unit: `1/${units.labels.length}`, clipped_weight: info.ground.clippedWeight, chebyshev_degree: info.ground.degree,
           rule: `where the adiabatic density ρ falls below ρ_c = ${CLIP_FLOOR}·max ρ the velocity field −J/ρ is replaced by −Jρ/(ρ² + ρ_c²), which goes smoothly to zero (a flat painted correction there); clipped_weight is the ground state's weight where the clip acts, about the fidelity it costs`,
+        }
+      : null,
+    variational_fit: variational
+      ? {
+          states: variational.fit.states, temperature: variational.fit.temperature === null ? null : units.temperatureFromNatural(variational.fit.temperature), frames: variational.fit.frames.length,
+          basis: variational.fit.basis, max_residual: Math.max(...variational.fit.frames.map((f) => f.residual)),
+          rule: `the painted drive's ½{g, p} (a = 0) is fitted on the lowest ${variational.fit.states} states of each of ${variational.fit.frames.length} frames (verify.fermions, else the bound states), Boltzmann-weighted when verify.temperature is given, g over the basis listed (check/painted.ts); max_residual is the largest relative residual of the fit at a frame`,
         }
       : null,
     gauge_check: info.gauge.map((g) => {

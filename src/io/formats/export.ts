@@ -25,10 +25,13 @@ export interface ExportArray {
 
 export interface ExportFile {
   format: 'isotrap-export/1';
-  /** the design folder the export was computed from */
+  /** the folder the export was computed from */
   source: string;
+  /** what that folder holds: a design with its verification (default), or a check of a sequence from elsewhere */
+  source_kind?: 'design' | 'check';
   units: { length: string; energy: string; time: string; velocity: string };
-  protocol: { ramp: string; duration: number; lambda_end: number };
+  /** λ runs from lambda_start (default 0) to lambda_end over the duration */
+  protocol: { ramp: string; duration: number; lambda_end: number; lambda_start?: number };
   /** the sample times: t_i = i/rate (rate given) or i·T/(samples − 1) */
   sampling: { samples: number; rate: number; step: number; rule: string };
   /** the arrays by key: x, t, lambda, lambda_rate, lambda_accel, potential, cubic, velocity */
@@ -58,7 +61,11 @@ export interface ExportFile {
    *  optics' blur with --psf-um */
   painted: null | {
     meaning: string;
-    drives: { drive: 'painted' | 'painted_ground'; deepest: number; highest: number; psf_change: number | null; psf_change_at: number | null }[];
+    drives: {
+      drive: 'painted' | 'painted_ground'; deepest: number; highest: number; psf_change: number | null; psf_change_at: number | null;
+      /** the drive simulated by the export itself (a check source has no verify.json): per state fidelity and excess energy */
+      fidelity?: number[]; excess?: number[];
+    }[];
     start: { deepest: number; highest: number };
     psf: null | {
       radius: number;
@@ -80,8 +87,9 @@ const exportSchema: z.ZodType<ExportFile> = z
   .object({
     format: z.literal(EXPORT_FORMAT),
     source: str,
+    source_kind: z.enum(['design', 'check']).optional(),
     units: z.object({ length: str, energy: str, time: str, velocity: str }),
-    protocol: z.object({ ramp: z.enum(RAMP_KINDS), duration: num, lambda_end: num }),
+    protocol: z.object({ ramp: z.enum(RAMP_KINDS), duration: num, lambda_end: num, lambda_start: num.optional() }),
     sampling: z.object({ samples: z.number().int().min(2), rate: num, step: num, rule: str }),
     arrays: z.record(z.string(), arraySchema),
     tables: z.array(z.object({ file: str, columns: z.array(str), meaning: str })),
@@ -93,7 +101,7 @@ const exportSchema: z.ZodType<ExportFile> = z
     painted: z
       .object({
         meaning: str,
-        drives: z.array(z.object({ drive: z.enum(['painted', 'painted_ground']), deepest: num, highest: num, psf_change: num.nullable(), psf_change_at: num.nullable() })),
+        drives: z.array(z.object({ drive: z.enum(['painted', 'painted_ground']), deepest: num, highest: num, psf_change: num.nullable(), psf_change_at: num.nullable(), fidelity: nums.optional(), excess: nums.optional() })),
         start: z.object({ deepest: num, highest: num }),
         psf: z.object({ radius: num, unit: str, rule: str, drives: z.array(z.object({ drive: str, fidelity: nums, fidelity_unblurred: nums, lost: num })) }).nullable(),
       })

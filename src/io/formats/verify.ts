@@ -29,6 +29,9 @@ export interface PaintedSection {
   /** lowest and highest value of the starting trap V(x, 0) (energy unit): the reference of the power budget */
   start: { deepest: number; highest: number };
   ground_clip: null | { clip_density: number; unit: string; clipped_weight: number; chebyshev_degree: number; rule: string };
+  /** the variational a = 0 fit behind the `painted` drive: the states it was fitted on, their temperature, the frames,
+   *  the g basis and the largest relative residual of the fit (absent without that drive) */
+  variational_fit?: null | { states: number; temperature: number | null; frames: number; basis: string[]; max_residual: number; rule: string };
   gauge_check: { drive: string; states: number; painted: number[]; velocity: number[]; max_difference: number; budget: number; passed: boolean }[];
 }
 
@@ -131,6 +134,7 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
       ),
       start: z.object({ deepest: num, highest: num }),
       ground_clip: z.object({ clip_density: num, unit: str, clipped_weight: num, chebyshev_degree: num, rule: str }).nullable(),
+      variational_fit: z.object({ states: num, temperature: num.nullable(), frames: num, basis: z.array(str), max_residual: num, rule: str }).nullable().optional(),
       gauge_check: z.array(z.object({ drive: str, states: num, painted: nums, velocity: nums, max_difference: num, budget: num, passed: z.boolean() })),
     })
     .nullable()
