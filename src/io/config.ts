@@ -321,6 +321,10 @@ export const errorsSchema = strictSection(
     depth: numberWhere('must be a number from -0.5 to 0.5 (relative calibration error δ of the potential: V → (1 + δ)V)', (v) => v >= -0.5 && v <= 0.5).default(0),
     timing: numberWhere('must be a finite number (the correction runs late by this time, early when negative; t₀ natural, ms lab)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e6).default(0),
     psf: numberWhere('must be a number ≥ 0 (1/e² radius of the optics’ Gaussian point-spread function blurring the painted potential; ℓ natural, µm lab; 0: none)', (v) => Number.isFinite(v) && v >= 0 && v <= 1e6).default(0),
+    noise_rms: numberWhere('must be a number ≥ 0 (rms of the shot-to-shot potential noise the atoms see; E₀ natural, the energy unit lab; 0: none)', (v) => Number.isFinite(v) && v >= 0 && v <= 1e6).default(0),
+    noise_correlation: numberWhere('must be a number > 0 (correlation length of the noise, correlation σ²exp(−r²/2ℓ_c²); ℓ natural, µm lab)', (v) => Number.isFinite(v) && v > 0 && v <= 1e6).optional(),
+    noise_shots: intBetween(1, 1000).default(16),
+    noise_seed: intBetween(0, 2 ** 31 - 1).default(1),
   },
   'verify.errors',
 );

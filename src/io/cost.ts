@@ -147,6 +147,7 @@ function verifySize(config: Config, start: StartSize, durationNatural: number, t
     points: start.grid.n, length: start.grid.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
     ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples, u0: start.u0,
+    shots: (config.verify?.errors.noise_rms ?? 0) > 0 ? config.verify?.errors.noise_shots : 1,
   };
 }
 
@@ -188,7 +189,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   const estimate = {
     seconds: cost.seconds,
     text: `estimated ${approxDuration(cost.seconds)} ${ON_LAPTOP} (${cost.eigenSolves} eigen solves of ${levels} levels by ${method}; ` +
-      `${drives.corrected + drives.bare} drives of ${states} states, ${approxCount(cost.ladderSteps)} steps for the corrected ones; ${approxBytes(cost.bytes)})`,
+      `${drives.corrected + drives.bare} drives of ${states} states, ${approxCount(cost.ladderSteps)} steps for the corrected ones${(size.shots ?? 1) > 1 ? `; all of it once per shot, ${size.shots} shots (verify.errors.noise_shots)` : ''}; ${approxBytes(cost.bytes)})`,
   };
   if (limitsLifted() || (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES)) return estimate;
   const statesKey = given !== undefined ? `verify.states = ${given}` : `verify.states (not given: the bound states + 4 ≈ ${states})`;

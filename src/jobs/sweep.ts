@@ -254,6 +254,7 @@ function pointWork(config: Config, c: JobContext): number {
     points: c.grid.n, length: c.grid.length, maxAbsU, lambdaEnd: config.flow.lambda_end, ramp: config.protocol?.ramp ?? 'sin2',
     duration: c.units.timeToNatural(config.protocol?.duration ?? 1), states: config.verify?.states ?? 8, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: 1, bareDrives: 1, traceSamples: TRACE_SAMPLES, u0: c.u0,
+    shots: (config.verify?.errors.noise_rms ?? 0) > 0 ? config.verify?.errors.noise_shots : 1,
   }).seconds;
 }
 

@@ -5,7 +5,7 @@
  * Converts the natural-units results of quantum/verify.ts into the config's units.
  */
 import { UserError } from '../core/errors.ts';
-import type { Config } from '../io/config.ts';
+import { errorsSchema, type Config } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { driveClassicalSequence } from '../classical/corrected.ts';
 import type { UnitSystem } from '../units/scales.ts';
@@ -22,6 +22,7 @@ import type { Grid } from '../spectral/grid.ts';
 import type { FlowRun } from '../flow/kdv.ts';
 import { sequencePotential, type SequenceSource } from '../flow/dense.ts';
 import { coreCount } from '../core/worker-pool.ts';
+import { averageShots, shotNoise, type ShotNoise, type ShotSpread } from '../quantum/shots.ts';
 import type { PaintedSection } from '../io/formats/verify.ts';
 export type { VerifyFile };
 
@@ -80,7 +81,7 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
-  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0, psf: 0 } };
+  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: errorsSchema.parse({}) };
   return {
     protocol: config.protocol,
     verify: v,
@@ -276,9 +277,11 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
     { key: 'correction out of the occupied states, max |λ̇|‖(1 − P)AP‖ (p³ / potential part alone)', value: `${file.cd_strength.max_leakage.toPrecision(4)} (${file.cd_strength.max_leakage_cubic.toPrecision(4)} / ${file.cd_strength.max_leakage_potential.toPrecision(4)})`, unit: file.units.energy },
     { key: 'largest single transition element |λ̇⟨m|A|n⟩|', value: file.cd_strength.max_window.toPrecision(4), unit: file.units.energy },
     ...paintedRows(file),
-    ...(file.errors && (file.errors.correction_scale !== 0 || file.errors.depth !== 0 || file.errors.timing !== 0 || (file.errors.psf ?? 0) !== 0)
-      ? [{ key: 'errors simulated (verify.errors)', value: `correction scale ε = ${file.errors.correction_scale}, depth δ = ${file.errors.depth}, correction late by ${file.errors.timing} ${file.errors.time_unit}, point-spread radius ${file.errors.psf ?? 0} ${file.errors.length_unit ?? ''}` }]
+    ...(file.errors && (file.errors.correction_scale !== 0 || file.errors.depth !== 0 || file.errors.timing !== 0 || (file.errors.psf ?? 0) !== 0 || (file.errors.noise_rms ?? 0) !== 0)
+      ? [{ key: 'errors simulated (verify.errors)', value: `correction scale ε = ${file.errors.correction_scale}, depth δ = ${file.errors.depth}, correction late by ${file.errors.timing} ${file.errors.time_unit}, point-spread radius ${file.errors.psf ?? 0} ${file.errors.length_unit ?? ''}` +
+          ((file.errors.noise_rms ?? 0) !== 0 ? `, shot-to-shot noise ${file.errors.noise_rms} ${file.errors.energy_unit} rms over ${file.errors.noise_correlation} ${file.errors.length_unit}, mean of ${file.errors.noise_shots} shots` : '') }]
       : []),
+    ...(file.errors?.noise_spread ?? []).map((d) => ({ key: `${d.drive}: ground-state fidelity spread over shots (std / worst shot)`, value: `${d.fidelity_std[0].toExponential(2)} / ${d.worst_fidelity[0].toPrecision(8)}` })),
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
@@ -297,7 +300,10 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
   const paintedField = painted.includes('variational') ? variationalField(config, design, input) : undefined;
   if (painted.length > 0) paintableRamp(config, input);
   const source: SequenceSource = { dense: dense.data(), lo: 0, hi: input.lambdaEnd };
-  const natural = await withStateCountKeys(config, () => verifySequenceThreaded({
+  const errors = { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing), psf: units.lengthToNatural(input.verify.errors.psf) };
+  const noise = shotNoiseOf(config, input, units);
+  const shots = noise?.shots ?? 1;
+  const runShot = (shot: number) => withStateCountKeys(config, () => verifySequenceThreaded({
     grid,
     potential: sequencePotential(source),
     source,
@@ -311,13 +317,18 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     fermions: input.verify.fermions,
     drives: ['cd', 'bare', ...painted.map((k) => PAINTED_DRIVE[k])],
     paintedField,
-    errors: { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing), psf: units.lengthToNatural(input.verify.errors.psf) },
+    errors: { ...errors, noise: noise ? shotNoise(grid, noise, shot) : null },
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
-    onProgress: opts.onProgress,
+    onProgress: opts.onProgress ? (f, stage) => opts.onProgress?.((shot + f) / shots, shots > 1 ? `${stage} (shot ${shot + 1} of ${shots})` : stage) : undefined,
   }, opts.threads ?? coreCount()));
+  const results: VerifyResult[] = [];
+  for (let shot = 0; shot < shots; shot++) results.push(await runShot(shot));
+  const averaged = noise ? averageShots(results) : null;
+  const natural = averaged?.result ?? results[0];
   const classical = input.verify.compare_classical ? classicalSection(config, design, input, natural.states.length) : null;
   const traces = traceTable(natural, natural.drives, (s) => units.timeFromNatural(s));
   const file = verifyFile(design, input, natural, { classical, traces });
+  if (noise && averaged) file.errors = { ...file.errors, ...noiseSection(input, units, averaged.spread) } as VerifyFile['errors'];
   file.painted = paintedSection(natural, painted, input, units, paintedField);
   for (const g of file.painted?.gauge_check ?? []) {
     if (!g.passed) file.warnings.push(`gauge check of ${g.drive}: the painted potential and the ½{g, p} drive end ${g.max_difference.toExponential(2)} apart in fidelity, above the time-stepping budget ${g.budget.toExponential(2)}`);
@@ -337,6 +348,26 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     if (!Number.isFinite(x)) throw new Error('internal error: a non-finite verify result');
   }
   return { config, file, traces: { data: traces.data, shape: traces.shape }, natural };
+}
+
+/** the shot-to-shot noise of verify.errors in natural units, or null without it (noise_rms = 0) */
+function shotNoiseOf(config: Config, input: VerifyInput, units: UnitSystem): ShotNoise | null {
+  const e = input.verify.errors;
+  if (e.noise_rms === 0) return null;
+  if (e.noise_correlation === undefined) {
+    throw new UserError(`${config.meta.source}: verify.errors.noise_correlation is missing: shot-to-shot noise (noise_rms = ${e.noise_rms}) needs its correlation length, in ${units.labels.length}`);
+  }
+  return { rms: units.energyToNatural(e.noise_rms), correlation: units.lengthToNatural(e.noise_correlation), shots: e.noise_shots, seed: e.noise_seed };
+}
+
+/** verify.json's account of the noise: its parameters in the config's units and the spread over shots */
+function noiseSection(input: VerifyInput, units: UnitSystem, spread: ShotSpread[]) {
+  const e = input.verify.errors;
+  return {
+    noise_rms: e.noise_rms, noise_correlation: e.noise_correlation ?? null, noise_shots: e.noise_shots, noise_seed: e.noise_seed, energy_unit: units.labels.energy,
+    noise_rule: `each shot s adds its own static potential δV_s(x), a Gaussian random field with rms ${e.noise_rms} ${units.labels.energy} and correlation σ²exp(−r²/2ℓ_c²), ℓ_c = ${e.noise_correlation} ${units.labels.length}, seed noise_seed + s (spectral/random-field.ts), to the trap the atoms see; its states are prepared and judged in that trap; fidelities, excess energies, ensembles and traces are the means over the ${e.noise_shots} shots`,
+    noise_spread: spread.map((d) => ({ drive: d.drive, fidelity_std: d.fidelityStd, worst_fidelity: d.worstFidelity, min_fidelity_per_shot: d.minFidelityPerShot })),
+  };
 }
 
 /** the ramp must have λ̇ = λ̈ = 0 at both ends for a painted drive: refused naming protocol.ramp otherwise */

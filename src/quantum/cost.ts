@@ -68,6 +68,8 @@ export interface VerifySize {
   traceSamples: number;
   /** the start potential (for the grid of the dense eigen solves, eigen.ts densePointsFor); without it, all N points */
   u0?: ArrayLike<number>;
+  /** shots of a shot-to-shot noise study (verify.errors.noise_shots): the whole verify runs once per shot (default 1) */
+  shots?: number;
 }
 
 export interface VerifyCost {
@@ -167,8 +169,9 @@ export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const bytes = s.states * 2 * vector * STATE_COPIES + MAX_KRYLOV_DEFAULT * vector + eigenSolves * levels * vector;
   // the two end solves run in turn; the drives and the trace bases share the laptop's cores (quantum/verify.ts)
   const parallel = Math.max(0, eigenSolves - 2) * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
-  const seconds = (2 * eigenMatvecs + parallel / LAPTOP_CORES) * perMatvec;
-  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs, seconds, bytes };
+  const shots = s.shots ?? 1;
+  const seconds = shots * (2 * eigenMatvecs + parallel / LAPTOP_CORES) * perMatvec;
+  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs: shots * matvecs, seconds, bytes };
 }
 
 /** semiclassical count of the bound states of u on a grid of spacing dx: ⌈∫√(−u)₊ dξ / π⌉ (the quantisation

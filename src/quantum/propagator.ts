@@ -83,7 +83,7 @@ export type PotentialFn = (lambda: number, out: Float64Array) => void;
  */
 export function kdvDrive(grid: Grid, potential: PotentialFn, ramp: Ramp, sigma: number, drift = 0, errors: DriveErrors = NO_ERRORS): DrivenHamiltonian {
   const u = new Float64Array(grid.n);
-  if (errors.depth === 0 && errors.shift === 0 && errors.psf === 0) {
+  if (errors.depth === 0 && errors.shift === 0 && errors.psf === 0 && errors.noise === null) {
     return {
       grid,
       terms(s, out) {
@@ -118,12 +118,15 @@ export interface DriveErrors {
   depth: number;
   shift: number;
   psf: number;
+  /** one shot's static potential noise δV(ξ) (E₀) as the atoms see it (spectral/random-field.ts), or null */
+  noise: Float64Array | null;
 }
-export const NO_ERRORS: DriveErrors = { scale: 0, depth: 0, shift: 0, psf: 0 };
+export const NO_ERRORS: DriveErrors = { scale: 0, depth: 0, shift: 0, psf: 0, noise: null };
 
-/** the potential the lab paints for the design's u: blur_w((1 + δ)u) (DriveErrors depth and psf) */
+/** the potential the lab paints for the design's u: blur_w((1 + δ)u) + δV (DriveErrors depth, psf and noise) */
 export function labPotential(grid: Grid, design: PotentialFn, errors: DriveErrors): PotentialFn {
-  if (errors.depth === 0 && errors.psf === 0) return design;
+  const noise = errors.noise;
+  if (errors.depth === 0 && errors.psf === 0 && noise === null) return design;
   const blur = errors.psf > 0 ? new GaussianBlur(grid, errors.psf) : null;
   const raw = new Float64Array(grid.n);
   return (lambda, out) => {
@@ -131,6 +134,7 @@ export function labPotential(grid: Grid, design: PotentialFn, errors: DriveError
     const target = blur ? raw : out;
     for (let j = 0; j < target.length; j++) target[j] *= 1 + errors.depth;
     if (blur) blur.apply(raw, out);
+    if (noise) for (let j = 0; j < out.length; j++) out[j] += noise[j];
   };
 }
 

@@ -316,10 +316,25 @@ function localHamiltonian(ctx: DriveContext, plan: DrivePlan): DrivenHamiltonian
     // the lab paints V + V_loc as one image: the optics blur the whole frame (errors.psf, or the export's blur)
     const width = opts.blur ?? ctx.errors.psf;
     const blur = width > 0 ? new GaussianBlur(opts.grid, width) : null;
-    const unblurred = labPotential(opts.grid, ctx.design, { ...ctx.errors, psf: 0 });
-    return recordRange(paintedDrive(opts.grid, unblurred, fieldOf(ctx, drive), ramp, 0, blur), plan.range);
+    const unblurred = labPotential(opts.grid, ctx.design, { ...ctx.errors, psf: 0, noise: null });
+    return recordRange(withStaticNoise(paintedDrive(opts.grid, unblurred, fieldOf(ctx, drive), ramp, 0, blur), ctx.errors.noise), plan.range);
   }
   return kdvDrive(opts.grid, ctx.design, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors);
+}
+
+/** H with a shot's static noise δV added to its potential after the optics (propagator.ts labPotential) */
+function withStaticNoise(H: DrivenHamiltonian, noise: Float64Array | null): DrivenHamiltonian {
+  if (noise === null) return H;
+  const v = new Float64Array(H.grid.n);
+  return {
+    grid: H.grid,
+    terms(s, out) {
+      H.terms(s, out);
+      const u = out.v as Float64Array;
+      for (let j = 0; j < v.length; j++) v[j] = u[j] + noise[j];
+      out.v = v;
+    },
+  };
 }
 
 /** a drive's groups in this thread, in order */
@@ -374,7 +389,7 @@ function finishDrive(ctx: DriveContext, plan: DrivePlan, parts: readonly GroupRe
 /** the gauge check runs unless turned off or the painted frames are blurred (a blurred V_loc is no longer the gauge
  *  image of λ̇½{g, k}, so the two drives need not agree) */
 function gaugeWanted(opts: VerifyOptions): boolean {
-  return (opts.gaugeCheck ?? true) && !((opts.blur ?? 0) > 0 || (opts.errors?.psf ?? 0) > 0);
+  return (opts.gaugeCheck ?? true) && !((opts.blur ?? 0) > 0 || (opts.errors?.psf ?? 0) > 0 || (opts.errors?.noise ?? null) !== null);
 }
 
 function fieldOf(ctx: DriveContext, drive: 'painted' | 'painted_ground'): VelocityField {
@@ -482,7 +497,8 @@ interface Prepared {
  *  spectrum is solved) */
 function prepare(options: VerifyOptions, launch?: (plans: DrivePlan[], levels: number) => void): Prepared {
   const errors: DriveErrors = { ...NO_ERRORS, ...options.errors };
-  for (const [k, v] of Object.entries(errors)) if (!Number.isFinite(v)) throw new RangeError(`verify: errors.${k} = ${v} must be a finite number`);
+  for (const k of ['scale', 'depth', 'shift', 'psf'] as const) if (!Number.isFinite(errors[k])) throw new RangeError(`verify: errors.${k} = ${errors[k]} must be a finite number`);
+  if (errors.noise !== null && (errors.noise.length !== options.grid.n || errors.noise.some((v) => !Number.isFinite(v)))) throw new RangeError(`verify: errors.noise must hold ${options.grid.n} finite values`);
   const design = options.potential;
   const opts: VerifyOptions = { ...options, potential: labPotential(options.grid, design, errors) };
   const tStart = performance.now();

@@ -82,7 +82,12 @@ export interface VerifyFile {
   painted?: null | PaintedSection;
   /** the errors a lab makes that this run simulated (verify.errors; all zero for the design as built); files of
    *  earlier versions have neither key */
-  errors?: { correction_scale: number; depth: number; timing: number; time_unit: string; psf?: number; length_unit?: string };
+  errors?: {
+    correction_scale: number; depth: number; timing: number; time_unit: string; psf?: number; length_unit?: string;
+    /** shot-to-shot noise (verify.errors.noise_*): its parameters, the rule, and per drive the spread over shots */
+    noise_rms?: number; noise_correlation?: number | null; noise_shots?: number; noise_seed?: number; energy_unit?: string; noise_rule?: string;
+    noise_spread?: { drive: string; fidelity_std: number[]; worst_fidelity: number[]; min_fidelity_per_shot: number[] }[];
+  };
   accepted: boolean;
   acceptance: string;
   seconds: number;
@@ -122,7 +127,11 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
   classical: z.object({ lambda_break: num, lambda_reached: num, time_reached: num, fidelity: nums, note: str }).nullable(),
   propagation: z.record(z.string(), z.object({ steps: num, rejected: num, matvecs: num, scheme: str, norm_drift: num, seconds: num, estimated_amplitude_error: num })),
   traces: z.object({ file: str, times: nums, rows: z.array(z.object({ drive: str, state: num })) }),
-  errors: z.object({ correction_scale: num, depth: num, timing: num, time_unit: str, psf: num.optional(), length_unit: str.optional() }).optional(),
+  errors: z.object({
+    correction_scale: num, depth: num, timing: num, time_unit: str, psf: num.optional(), length_unit: str.optional(),
+    noise_rms: num.optional(), noise_correlation: num.nullable().optional(), noise_shots: num.optional(), noise_seed: num.optional(), energy_unit: str.optional(), noise_rule: str.optional(),
+    noise_spread: z.array(z.object({ drive: str, fidelity_std: nums, worst_fidelity: nums, min_fidelity_per_shot: nums })).optional(),
+  }).optional(),
   painted: z
     .object({
       definition: str,
