@@ -6,7 +6,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { parseConfig, parseYaml } from '../src/io/config.ts';
 import { runDesign } from '../src/jobs/design.ts';
 import { runVerify } from '../src/jobs/verify.ts';
-import { mergeSweeps, planSweep, runSweep, sweepAnswers, type SweepFile, type SweepInput } from '../src/jobs/sweep.ts';
+import { mergeSweeps, planSweep, runSweep, sweepAnswers, sweepTolerances, type SweepFile, type SweepInput } from '../src/jobs/sweep.ts';
 import type { SweepPoint } from '../src/io/formats/sweep.ts';
 import { readSweepFile } from '../src/io/formats/sweep.ts';
 import { userErrorOf } from './user-error.ts';
@@ -202,5 +202,35 @@ describe('sweep plan and answers (no computation)', () => {
     expect(b.duration_in_budget).toBeCloseTo(10, 12);
     const [c] = sweepAnswers(plan, t.values.map((T0, i) => painted(i, T0, 2)));
     expect(c.duration_in_budget).toBe(1);
+    // budget.correction limits the corrected drive's coupling out of the occupied states, which grows as λ̇ ∝ 1/T
+    // (the correction is λ̇A): 30/T is 30, 3, 0.3 at T = 1, 10, 100, so a limit of 5 is met from T = 10
+    const corrected = (index: number, T0: number): SweepPoint => ({
+      ...point(index, T0, 1e-9), limit_correction: 5,
+      drives: [{ drive: 'cd', min_fidelity: 1 - 1e-9, correction_size: 30 / T0, states: [{ index: 0, energy: -1, fidelity: 1 - 1e-9, excess: 0 }], thermal: null, fermions: null }],
+    });
+    const [d] = sweepAnswers(plan, t.values.map((T0, i) => corrected(i, T0)));
+    expect(d.duration).toBe(1);
+    expect(d.duration_in_budget).toBeCloseTo(10, 12);
+  });
+
+  it('reads the tolerance on an error key off the points: log–log crossings exact for an infidelity ∝ ε² (first-order perturbation theory)', () => {
+    const setup = planSweep(input(), { vary: ['verify.errors.correction_scale=-0.04,-0.02,-0.01,0,0.01,0.02,0.04'], target: 8e-3 });
+    const [e] = setup.plan.axes;
+    // 1 − F = c ε² with c = 19 for ε > 0 and 40 for ε < 0: ε* = √(target/c)
+    const f = (x: number) => (x >= 0 ? 19 : 40) * x * x;
+    const points = e.values.map((x, i): SweepPoint => ({
+      format: 'isotrap-sweep-point/1', plan: setup.plan.id, index: i, values: [x], error: null, deepest: 1, limit_depth: null, accepted: true, warnings: [], seconds: 0,
+      drives: [{ drive: 'cd', min_fidelity: 1 - f(x), states: [{ index: 0, energy: -1, fidelity: 1 - f(x), excess: 0 }], thermal: null, fermions: null }],
+    }));
+    const tol = sweepTolerances(setup.plan, points).filter((t) => t.subject === 'ground');
+    const pos = tol.find((t) => t.side === 'positive')!;
+    const neg = tol.find((t) => t.side === 'negative')!;
+    expect(pos.key).toBe('verify.errors.correction_scale');
+    expect(pos.tolerance).toBe(0.02);
+    expect(pos.interpolated).toBeCloseTo(Math.sqrt(8e-3 / 19), 12);
+    expect(neg.tolerance).toBe(0.01);
+    expect(neg.interpolated).toBeCloseTo(Math.sqrt(8e-3 / 40), 12);
+    // a duration sweep has no error key: no tolerances
+    expect(sweepTolerances(planSweep(input(), { vary: VARY }).plan, [])).toEqual([]);
   });
 });

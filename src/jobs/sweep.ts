@@ -22,7 +22,7 @@ import { publishOutput } from '../io/output-events.ts';
 import { RunFolder, configIdentity, requireOneConfig, writeRun } from '../io/run-folder.ts';
 import {
   readSweepFile, readSweepPlan, readSweepPoint, sweepCsv, SWEEP_FORMAT, SWEEP_PLAN_FORMAT, SWEEP_POINT_FORMAT,
-  type SweepAnswer, type SweepAxis, type SweepDrive, type SweepFile, type SweepPlan, type SweepPoint,
+  type SweepAnswer, type SweepAxis, type SweepDrive, type SweepFile, type SweepPlan, type SweepPoint, type SweepTolerance,
 } from '../io/formats/sweep.ts';
 import { estimateVerifyCost } from '../quantum/cost.ts';
 import type { FigureSize } from '../report/style.ts';
@@ -282,6 +282,7 @@ function driveRecords(design: DesignResult, verify: Awaited<ReturnType<typeof ru
     drive: d.drive,
     min_fidelity: d.minFidelity,
     ...(d.paintedRange ? { painted_depth: -E(d.paintedRange.min) } : {}),
+    ...(d.drive === 'cd' && file.cd_strength ? { correction_size: file.cd_strength.max_leakage } : {}),
     states: natural.states.map((s, i) => ({ index: s.index, energy: file.states[i].energy, fidelity: d.fidelity[i], excess: E(d.excessEnergy[i]) })),
     thermal: d.thermal ? { temperature: file.thermal?.temperature ?? NaN, fidelity: d.thermal.ensembleFidelity, uhlmann: d.thermal.uhlmannFidelity ?? NaN, mean_excess: E(d.thermal.meanExcessEnergy) } : null,
     fermions: d.fermions ? { count: d.fermions.particles, fidelity: d.fermions.manyBodyFidelity } : null,
@@ -306,6 +307,7 @@ export async function runPoint(task: PointTask, cache: DesignCache): Promise<Swe
     const design = cache.last.design;
     point.deepest = design.summary.budgets.deepest;
     point.limit_depth = design.summary.budgets.limit_depth;
+    point.limit_correction = config.budget?.correction ?? null;
     if (!design.summary.complete) throw new AcceptanceFailure(`the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}`);
     // points run in parallel already: each verify keeps to its thread
     const verify = await runVerify(config, design, { threads: 1 });
@@ -458,8 +460,9 @@ function missingPoint(dir: string, p: number): never {
 
 const DEFINITIONS: Record<string, string> = {
   subjects: 'ground: the ground state; worst: the worst tracked state (verify.states); thermal: the Boltzmann mean of the state fidelities; thermal_uhlmann: the Uhlmann fidelity of the evolved and the final Gibbs state; fermi_sea: the filled Fermi sea (verify.fermions)',
-  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s)',
+  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s) and, for the corrected drive, within budget.correction (its coupling out of the occupied states, verify.json cd_strength.max_leakage)',
   adiabatic_time: 'the answer (interpolated where possible) of the bare drive for the ground state: how slow the plain ramp must be',
+  tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms): per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
   drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them',
 };
 
@@ -468,7 +471,7 @@ export function sweepFile(base: Config, plan: SweepPlan, shard: SweepFile['shard
   const answers = sweepAnswers(plan, points);
   const adiabatic = answers.find((a) => a.drive === 'bare' && a.subject === 'ground' && a.other === null);
   return {
-    format: SWEEP_FORMAT, name: base.name, plan, shard, points, answers,
+    format: SWEEP_FORMAT, name: base.name, plan, shard, points, answers, tolerances: sweepTolerances(plan, points),
     adiabatic_time: adiabatic ? (adiabatic.interpolated ?? adiabatic.duration) : null,
     definitions: DEFINITIONS, config: { ...base, meta: undefined }, seconds,
   };
@@ -515,17 +518,58 @@ export function sweepAnswers(plan: SweepPlan, points: readonly SweepPoint[]): Sw
       for (const subject of ANSWER_SUBJECTS) {
         const rows = group.map((p) => {
           const d = p.drives.find((x) => x.drive === drive)!;
-          return { p, f: subjectInfidelity(d, subject), depth: d.painted_depth ?? p.deepest };
+          return { p, f: subjectInfidelity(d, subject), depth: d.painted_depth ?? p.deepest, correction: d.correction_size };
         }).filter((r) => !Number.isNaN(r.f));
         if (rows.length === 0) continue;
         const plain = shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity })), plan.target_infidelity);
         const limit = rows[0].p.limit_depth;
-        const inBudget = limit === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && r.depth <= limit })), plan.target_infidelity).duration;
+        const limitCorrection = rows[0].p.limit_correction ?? null;
+        const fits = (r: (typeof rows)[number]) => (limit === null || r.depth <= limit) && (limitCorrection === null || r.correction === undefined || r.correction <= limitCorrection);
+        const inBudget = limit === null && limitCorrection === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && fits(r) })), plan.target_infidelity).duration;
         answers.push({ drive, subject, other: o, ...plain, duration_in_budget: inBudget });
       }
     }
   }
   return answers;
+}
+
+/** the error keys of verify.errors whose tolerance a sweep answers (sweepTolerances) */
+export const ERROR_KEYS = ['verify.errors.correction_scale', 'verify.errors.depth', 'verify.errors.timing', 'verify.errors.psf', 'verify.errors.noise_rms'] as const;
+
+/** per drive, subject, side of zero and value of the other key: how large the swept error may be (DEFINITIONS.tolerances) */
+export function sweepTolerances(plan: SweepPlan, points: readonly SweepPoint[]): SweepTolerance[] {
+  const axis = plan.axes.findIndex((a) => (ERROR_KEYS as readonly string[]).includes(a.key));
+  if (axis < 0) return [];
+  const key = plan.axes[axis].key;
+  const other = plan.axes.length === 2 ? 1 - axis : -1;
+  const ran = points.filter((p) => p.error === null);
+  const drives = [...new Set(ran.flatMap((p) => p.drives.map((d) => d.drive)))];
+  const out: SweepTolerance[] = [];
+  for (const o of other < 0 ? [null] : plan.axes[other].values) {
+    const group = ran.filter((p) => o === null || p.values[other] === o);
+    for (const drive of drives) {
+      for (const subject of ANSWER_SUBJECTS) {
+        const rows = group.map((p) => ({ x: p.values[axis], f: subjectInfidelity(p.drives.find((d) => d.drive === drive)!, subject) })).filter((r) => !Number.isNaN(r.f));
+        for (const side of ['positive', 'negative'] as const) {
+          const sideRows = rows.filter((r) => (side === 'positive' ? r.x >= 0 : r.x <= 0)).map((r) => ({ a: Math.abs(r.x), f: r.f })).sort((p, q) => p.a - q.a);
+          if (!sideRows.some((r) => r.a > 0)) continue;
+          let k = 0;
+          while (k < sideRows.length && sideRows[k].f <= plan.target_infidelity) k++;
+          const tolerance = k === 0 ? null : sideRows[k - 1].a;
+          let interpolated: number | null = null;
+          if (k > 0 && k < sideRows.length && sideRows[k - 1].a > 0) {
+            const [lo, hi] = [sideRows[k - 1], sideRows[k]];
+            const [fl, fh] = [Math.max(lo.f, INFIDELITY_FLOOR), Math.max(hi.f, INFIDELITY_FLOOR)];
+            const s = fl === fh ? 1 : (Math.log(plan.target_infidelity) - Math.log(fl)) / (Math.log(fh) - Math.log(fl));
+            const x = Math.exp(Math.log(lo.a) + Math.min(1, Math.max(0, s)) * (Math.log(hi.a) - Math.log(lo.a)));
+            interpolated = Number.isFinite(x) ? x : null;
+          }
+          out.push({ key, drive, subject, other: o, side, tolerance, interpolated });
+        }
+      }
+    }
+  }
+  return out;
 }
 
 /** the figures and report.html of a sweep folder (committed as the job `report`); the report modules load only

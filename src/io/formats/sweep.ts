@@ -56,6 +56,9 @@ export interface SweepDrive {
   /** painted drives: the painted potential's depth −min(V + V_loc) over the protocol (energy unit), the quantity a
    *  laser-power budget limits; absent for the other drives, whose depth is the designed sequence's */
   painted_depth?: number;
+  /** corrected drives (cd): the correction's coupling out of the occupied states, max |λ̇|‖(1 − P)AP‖ (verify.json
+   *  cd_strength.max_leakage, energy unit), the quantity budget.correction limits */
+  correction_size?: number;
   states: SweepState[];
   thermal: null | { temperature: number; fidelity: number; uhlmann: number; mean_excess: number };
   fermions: null | { count: number; fidelity: number };
@@ -72,6 +75,8 @@ export interface SweepPoint {
   /** deepest potential of the designed sequence and the budget's limit (null: no budget.depth) */
   deepest: number;
   limit_depth: number | null;
+  /** budget.correction (energy unit; null or absent: none stated) */
+  limit_correction?: number | null;
   /** verify's acceptance of the corrected drive (jobs/verify.ts ACCEPT_INFIDELITY) */
   accepted: boolean;
   warnings: string[];
@@ -89,8 +94,22 @@ export interface SweepAnswer {
   duration: number | null;
   /** the crossing 1 − F = target, log–log interpolated between the neighbouring swept durations; null: none */
   interpolated: number | null;
-  /** the same with the budget's depth limit also met (null when no budget.depth is stated or none meets it) */
+  /** the same with the budget also met: budget.depth (the sequence's or painted depth) and budget.correction (the
+   *  corrected drive's correction_size); null when neither is stated or none meets it */
   duration_in_budget: number | null;
+}
+
+/** the tolerance on a swept error key (verify.errors.*) for the target infidelity, on one side of zero */
+export interface SweepTolerance {
+  key: string;
+  drive: string;
+  subject: string;
+  other: number | null;
+  side: 'positive' | 'negative';
+  /** the largest swept |value| up to which every swept value on this side meets the target; null: not even the smallest */
+  tolerance: number | null;
+  /** the crossing 1 − F = target, log–log interpolated between that value and the next larger one; null: none */
+  interpolated: number | null;
 }
 
 export interface SweepFile {
@@ -101,6 +120,8 @@ export interface SweepFile {
   shard: null | { index: number; count: number };
   points: SweepPoint[];
   answers: SweepAnswer[];
+  /** with an error key of verify.errors swept: how large the error may be for the target (absent in older files) */
+  tolerances?: SweepTolerance[];
   /** the duration at which the bare drive's ground state reaches the target (null: not in the swept range) */
   adiabatic_time: number | null;
   definitions: Record<string, string>;
@@ -125,6 +146,7 @@ const driveSchema = z.object({
   drive: str,
   min_fidelity: num,
   painted_depth: num.optional(),
+  correction_size: num.optional(),
   states: z.array(z.object({ index: num, energy: num, fidelity: num, excess: num })),
   thermal: z.object({ temperature: num, fidelity: num, uhlmann: num, mean_excess: num }).nullable(),
   fermions: z.object({ count: num, fidelity: num }).nullable(),
@@ -139,12 +161,14 @@ const pointSchema: z.ZodType<SweepPoint> = z.object({
   drives: z.array(driveSchema),
   deepest: num,
   limit_depth: numOrNull,
+  limit_correction: numOrNull.optional(),
   accepted: z.boolean(),
   warnings: z.array(str),
   seconds: num,
 });
 
 const answerSchema = z.object({ drive: str, subject: str, other: numOrNull, duration: numOrNull, interpolated: numOrNull, duration_in_budget: numOrNull });
+const toleranceSchema = z.object({ key: str, drive: str, subject: str, other: numOrNull, side: z.enum(['positive', 'negative']), tolerance: numOrNull, interpolated: numOrNull });
 
 const sweepSchema: z.ZodType<SweepFile> = z.object({
   format: z.literal(SWEEP_FORMAT),
@@ -153,6 +177,7 @@ const sweepSchema: z.ZodType<SweepFile> = z.object({
   shard: z.object({ index: z.number().int().positive(), count: z.number().int().positive() }).nullable(),
   points: z.array(pointSchema),
   answers: z.array(answerSchema),
+  tolerances: z.array(toleranceSchema).optional(),
   adiabatic_time: numOrNull,
   definitions: z.record(z.string(), z.string()),
   config: z.unknown(),

@@ -144,10 +144,19 @@ export function sweepSummaryRows(file: SweepFile): SummaryRow[] {
     if (plan.axes.length === 1) rows.push({ key: 'adiabatic time (bare drive, ground state)', value: file.adiabatic_time === null ? 'not reached in the swept range' : Number(file.adiabatic_time.toPrecision(4)), unit: file.adiabatic_time === null ? undefined : t });
     const otherKey = plan.axes.find((a) => a.key !== 'protocol.duration')?.key;
     for (const a of file.answers.filter((x) => x.subject === 'ground' || x.subject === 'worst')) {
-      const v = a.duration === null ? 'not reached in the swept range' : `${a.duration}${a.interpolated !== null ? ` (crossing ≈ ${Number(a.interpolated.toPrecision(4))})` : ''}${a.duration_in_budget !== null ? `; within budget.depth from ${a.duration_in_budget}` : ''}`;
+      const v = a.duration === null ? 'not reached in the swept range' : `${a.duration}${a.interpolated !== null ? ` (crossing ≈ ${Number(a.interpolated.toPrecision(4))})` : ''}${a.duration_in_budget !== null ? `; within the budget from ${a.duration_in_budget}` : ''}`;
       const at = a.other === null ? '' : ` at ${otherKey} = ${a.other}`;
       rows.push({ key: `shortest duration${at}, ${a.drive}, ${a.subject === 'ground' ? 'ground state' : 'worst state'}`, value: v, unit: a.duration === null ? undefined : t });
     }
+  }
+  for (const tol of (file.tolerances ?? []).filter((x) => x.subject === 'ground' || x.subject === 'worst')) {
+    const axis = plan.axes.find((a) => a.key === tol.key);
+    const otherKey = plan.axes.find((a) => a.key !== tol.key)?.key;
+    const at = tol.other === null ? '' : ` at ${otherKey} = ${tol.other}`;
+    const largest = Math.max(...(axis?.values ?? []).filter((x) => (tol.side === 'positive' ? x >= 0 : x <= 0)).map(Math.abs));
+    const note = tol.interpolated !== null ? ` (crossing ≈ ${Number(tol.interpolated.toPrecision(4))})` : tol.tolerance === largest ? ' (every swept value meets the target)' : '';
+    const v = tol.tolerance === null ? 'not met at the smallest swept value' : `${tol.tolerance}${note}`;
+    rows.push({ key: `tolerance on ${tol.key} (${tol.side} side)${at}, ${tol.drive}, ${tol.subject === 'ground' ? 'ground state' : 'worst state'}`, value: v, unit: tol.tolerance === null ? undefined : axis?.unit });
   }
   return rows;
 }
