@@ -57,7 +57,18 @@ function marks(file: SweepFile, series: LineSeries[]): LineSeries[] {
   const hi = Math.max(file.plan.target_infidelity, ...ys);
   const out: LineSeries[] = [{ name: `target 1 − F = ${file.plan.target_infidelity}`, x: [Math.min(...a.values), Math.max(...a.values)], y: [file.plan.target_infidelity, file.plan.target_infidelity], dashed: true }];
   if (file.adiabatic_time !== null && a.key === 'protocol.duration') out.push({ name: `adiabatic time ${Number(file.adiabatic_time.toPrecision(4))} ${a.unit}`, x: [file.adiabatic_time, file.adiabatic_time], y: [lo, hi], dashed: true });
+  // the tolerance on a swept error key: the corrected drive's ground-state crossings, one per side of zero
+  for (const t of toleranceMarks(file)) {
+    const x = t.side === 'positive' ? t.value : -t.value;
+    out.push({ name: `tolerance ${t.drive} ${t.side === 'positive' ? '' : '−'}${Number(t.value.toPrecision(4))} ${a.unit}`, x: [x, x], y: [lo, hi], dashed: true });
+  }
   return out;
+}
+
+/** the interpolated tolerances of the cd drive's ground state in a one-key error sweep (sweep.json tolerances) */
+function toleranceMarks(file: SweepFile): { drive: string; side: 'positive' | 'negative'; value: number }[] {
+  if (file.plan.axes.length !== 1) return [];
+  return (file.tolerances ?? []).filter((t) => t.drive === 'cd' && t.subject === 'ground' && t.interpolated !== null).map((t) => ({ drive: t.drive, side: t.side, value: t.interpolated as number }));
 }
 
 function fidelityFigure(file: SweepFile, size: FigureSize): ReportFigure {
@@ -65,7 +76,7 @@ function fidelityFigure(file: SweepFile, size: FigureSize): ReportFigure {
   const series = [...seriesOf(file, (d) => d.states[0]?.fidelity ?? null, 'ground state'), ...seriesOf(file, (d) => d.min_fidelity, 'worst state')];
   const adiabatic = a.key === 'protocol.duration'
     ? file.adiabatic_time === null ? ' The bare drive does not reach the target in the swept range (no adiabatic time marked).' : ` The vertical line marks the adiabatic time ${file.adiabatic_time.toPrecision(4)} ${a.unit}: where the bare drive's ground state reaches the target (log–log interpolated between swept points).`
-    : '';
+    : toleranceMarks(file).length > 0 ? ' The vertical lines mark the tolerance: where the corrected drive\'s ground state crosses the target (log–log interpolated between swept points).' : '';
   return {
     id: 'sweep-fidelity',
     caption: `Infidelity 1 − F after the ramp against ${a.key}, for each drive: the ground state and the worst tracked state (markers: swept points); the horizontal line is the target ${file.plan.target_infidelity}.${adiabatic} Values floored at ${SWEEP_INFIDELITY_FLOOR}.`,
