@@ -1,4 +1,4 @@
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -15,8 +15,10 @@ import { makeGrid } from '../src/spectral/grid.ts';
 // (m = ½, ħ = 1), 11 frames on 30 ℓ, 128 points; the check fits its variational correction on the lowest 4 states
 // and the export samples it over a sin² ramp of 3 t₀.
 const grid = makeGrid(30, 128);
-const omega = (l: number) => 1 + 1.5 * l;
-const LAMBDAS = Array.from({ length: 11 }, (_, i) => i / 10);
+// λ starts at 0.2 (a sequence from elsewhere need not start at 0): ω(λ) = 1 + 1.5(λ − 0.2)
+const LAMBDA0 = 0.2;
+const omega = (l: number) => 1 + 1.5 * (l - LAMBDA0);
+const LAMBDAS = Array.from({ length: 11 }, (_, i) => LAMBDA0 + i / 10);
 const DURATION = 3;
 const SAMPLES = 31;
 
@@ -49,7 +51,7 @@ describe('isotrap export of a check folder with its variational correction', () 
     for (let i = 0; i < SAMPLES; i++) {
       // sin2: λ = Δλ(r − sin 2πr/2π), λ̇ = (Δλ/T)(1 − cos 2πr), λ̈ = (Δλ/T²)·2π sin 2πr (protocol/ramp.ts, r = t/T)
       const r = e.arrays.t.data[i] / DURATION;
-      expect(e.arrays.lambda.data[i]).toBeCloseTo(r - Math.sin(2 * Math.PI * r) / (2 * Math.PI), 12);
+      expect(e.arrays.lambda.data[i]).toBeCloseTo(LAMBDA0 + r - Math.sin(2 * Math.PI * r) / (2 * Math.PI), 12);
       expect(e.arrays.lambda_rate.data[i]).toBeCloseTo((1 - Math.cos(2 * Math.PI * r)) / DURATION, 12);
       expect(e.arrays.lambda_accel.data[i]).toBeCloseTo((2 * Math.PI * Math.sin(2 * Math.PI * r)) / DURATION ** 2, 12);
     }
@@ -101,6 +103,31 @@ describe('isotrap export of a check folder with its variational correction', () 
     const ground = e.file.painted!.drives.find((d) => d.drive === 'painted_ground')!;
     expect(ground.fidelity![0]).toBeGreaterThan(1 - 1e-6); // one-state exact field (Masuda & Nakamura, Proc. R. Soc. A 466, 1135, 2010)
   });
+
+  it('a check run with a linear ramp exports V and the correction but no painted potential, and says why (λ̇ ≠ 0 at the ends; physics.md §7)', () => {
+    const small = makeGrid(30, 64);
+    const lam = [0, 0.5, 1];
+    const flat = new Float64Array(lam.length * small.n);
+    lam.forEach((l, k) => small.x.forEach((x, j) => (flat[k * small.n + j] = ((1 + 0.5 * l) ** 2 * x * x) / 4)));
+    const sub = join(dir, 'linear');
+    mkdirSync(sub);
+    writeFileSync(join(sub, 'q.npy'), encodeNpy(flat, [lam.length, small.n]));
+    writeFileSync(join(sub, 'q.json'), JSON.stringify({ x: Array.from(small.x), lambda: lam, length_unit: 'ℓ', energy_unit: 'E₀' }));
+    const folder = join(sub, 'check');
+    writeCheckOutputs(runCheck({ input: join(sub, 'q.npy'), variational: { states: 2, duration: 2, ramp: 'linear' } }), folder, false);
+    // the hardware clock at 1.6 per t₀: t = 0, 0.625, …, 2.5, the last sample past T = 2
+    const r = runCheckExport(folder, { rate: 1.6, csv: false, force: false });
+    expect(r.file.painted).toBeNull();
+    expect(Object.keys(r.painted)).toHaveLength(0);
+    expect(r.file.warnings.join(' ')).toMatch(/variational\.comparison\.ramp = linear\) has λ̇ = .* ≠ 0 at the start/);
+    // a linear ramp: λ̇ = Δλ/T = 0.5 up to T; past T the ramp holds λ_end, so λ̇ = 0 and no correction is driven
+    expect(r.arrays.t.data[4]).toBeCloseTo(2.5, 12);
+    expect(r.arrays.lambda_rate.data[3]).toBeCloseTo(0.5, 12);
+    expect(r.arrays.lambda_rate.data[4]).toBe(0);
+    expect(r.arrays.cubic.data[4]).toBe(0);
+    expect(Math.max(...r.arrays.velocity.data.subarray(4 * small.n).map(Math.abs))).toBe(0);
+    expect(() => runCheckExport(folder, { samples: 5, csv: false, force: true, psfUm: 1 })).toThrow(/--psf-um blurs the painted potentials/);
+  }, 60_000);
 
   it('a check folder without the variational step is refused, naming the option that adds it', () => {
     const plain = join(dir, 'plain');

@@ -147,8 +147,13 @@ function verifySize(config: Config, start: StartSize, durationNatural: number, t
     points: start.grid.n, length: start.grid.length, maxAbsU: maxAbs(start.u0), lambdaEnd: config.flow.lambda_end,
     ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples, u0: start.u0,
-    shots: (config.verify?.errors.noise_rms ?? 0) > 0 ? config.verify?.errors.noise_shots : 1,
+    shots: verifyShots(config),
   };
+}
+
+/** how many times a verify runs: once per shot of a shot-to-shot noise study (verify.errors.noise_*), else once */
+export function verifyShots(config: Config): number {
+  return (config.verify?.errors.noise_rms ?? 0) > 0 ? config.verify?.errors.noise_shots ?? 1 : 1;
 }
 
 /** the largest state count whose verify fits the limits (0 when none does) */

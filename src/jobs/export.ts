@@ -313,7 +313,7 @@ const CORRECTION_FORM =
   'C₃ = λ̇·a·ħ³ (the cubic array, energy × length³) and w = λ̇·g (the velocity array); a = −4ℓ³/ħ² and g = ℓ·(c − 6V/E₀) in the natural units of physics.md §3';
 
 /** the natural-units series in the config's units, with the size summary of the correction (`form`: what A is) */
-export function toLabUnits(s: Pick<LabSeries, 'lambda' | 'rate' | 'accel' | 'potential' | 'velocity' | 'cubic'>, ctx: { units: UnitSystem; grid: Grid; sampling: Sampling; seq: { x: number[]; kappas: number[] }; form: string }): { arrays: ExportResult['arrays']; correction: ExportFile['correction'] } {
+export function toLabUnits(s: Pick<LabSeries, 'lambda' | 'rate' | 'accel' | 'potential' | 'velocity' | 'cubic'>, ctx: { units: UnitSystem; grid: Grid; sampling: Sampling; seq: { x: number[]; kappas: number[] }; form: string; noBound?: string }): { arrays: ExportResult['arrays']; correction: ExportFile['correction'] } {
   const { units, grid, sampling } = ctx;
   const n = grid.n;
   const m = sampling.times.length;
@@ -340,7 +340,7 @@ export function toLabUnits(s: Pick<LabSeries, 'lambda' | 'rate' | 'accel' | 'pot
     at_time_cubic: sampling.times[pc.index],
     at_time_linear: sampling.times[pw.index],
     explanation:
-      `sizes of the two terms at the reference wavenumber k_ref (${ctx.seq.kappas.length > 0 ? 'κ of the deepest bound state of the start, the momentum scale of the trapped states' : '1/ℓ: the start has no bound state'}): ` +
+      `sizes of the two terms at the reference wavenumber k_ref (${ctx.seq.kappas.length > 0 ? 'κ of the deepest bound state of the start, the momentum scale of the trapped states' : (ctx.noBound ?? '1/ℓ: the start has no bound state')}): ` +
       `|C₃|·k_ref³ for the p³ term and ħ·k_ref·max_x|w| for the momentum-linear term, in ${L.energy}; the p³ coefficient is given as C₃ = λ̇aħ³ in ${L.energy}·${L.length}³ so that C₃q³ is an energy for q in 1/${L.length}, ` +
       `and the momentum-linear term by its velocity field w in ${L.velocity}, the form a moving frame or a painted potential needs (physics.md §7)`,
   };
@@ -360,12 +360,12 @@ export function toLabUnits(s: Pick<LabSeries, 'lambda' | 'rate' | 'accel' | 'pot
 }
 
 /** the sidecar's entry of every array */
-export function arraysIndex(m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
+export function arraysIndex(m: number, n: number, L: UnitSystem['labels'], xMeaning = 'grid positions x_j = −L/2 + jL/N of the periodic box'): Record<string, ExportArray> {
   const t = `time sample t_i (${m})`;
   const x = `position x_j (${n})`;
   const a = (key: keyof typeof EXPORT_NPY, shape: number[], axes: string[], unit: string, meaning: string): [string, ExportArray] => [key, { file: EXPORT_NPY[key], shape, axes, unit, meaning }];
   return Object.fromEntries([
-    a('x', [n], [x], L.length, 'grid positions x_j = −L/2 + jL/N of the periodic box'),
+    a('x', [n], [x], L.length, xMeaning),
     a('t', [m], [t], L.time, 'lab time of each sample, from the start of the ramp'),
     a('lambda', [m], [t], 'dimensionless', 'λ(t_i), the flow parameter (KdV time) the ramp has reached'),
     a('lambda_rate', [m], [t], `1/${L.time}`, 'λ̇(t_i) = dλ/dt'),
@@ -438,6 +438,8 @@ export interface PaintedInput {
   tol: number;
   /** the sharp painted drives' fidelities by drive (what the blur is compared with) */
   unblurred: Partial<Record<PaintedDriveKind, number[]>>;
+  /** what the painted arrays are (export.json painted.meaning); default: verify.json's painted drives */
+  meaning?: string;
   psfUm?: number;
   onProgress?: (fraction: number, stage: string) => void;
 }
@@ -502,7 +504,7 @@ export function paintedPotentials(p: PaintedInput): { arrays: ExportResult['pain
     warnings,
     fields,
     section: {
-      meaning: 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json; with --psf-um the blurred potential the optics would make',
+      meaning: p.meaning ?? 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json; with --psf-um the blurred potential the optics would make',
       drives: entries,
       start,
       psf,

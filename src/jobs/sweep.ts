@@ -16,7 +16,7 @@ import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts'
 import { coreCount, runPool } from '../core/worker-pool.ts';
 import { parseConfigWith, type Config } from '../io/config.ts';
 import { latticeConfigSchema } from '../io/config-lattice.ts';
-import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
+import { assertDesignAffordable, assertVerifyAffordable, verifyShots } from '../io/cost.ts';
 import { removeStaleTemporaries, writeFileAtomic } from '../io/files.ts';
 import { publishOutput } from '../io/output-events.ts';
 import { RunFolder, configIdentity, requireOneConfig, writeRun } from '../io/run-folder.ts';
@@ -254,7 +254,7 @@ function pointWork(config: Config, c: JobContext): number {
     points: c.grid.n, length: c.grid.length, maxAbsU, lambdaEnd: config.flow.lambda_end, ramp: config.protocol?.ramp ?? 'sin2',
     duration: c.units.timeToNatural(config.protocol?.duration ?? 1), states: config.verify?.states ?? 8, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: 1, bareDrives: 1, traceSamples: TRACE_SAMPLES, u0: c.u0,
-    shots: (config.verify?.errors.noise_rms ?? 0) > 0 ? config.verify?.errors.noise_shots : 1,
+    shots: verifyShots(config),
   }).seconds;
 }
 
@@ -462,7 +462,7 @@ const DEFINITIONS: Record<string, string> = {
   subjects: 'ground: the ground state; worst: the worst tracked state (verify.states); thermal: the Boltzmann mean of the state fidelities; thermal_uhlmann: the Uhlmann fidelity of the evolved and the final Gibbs state; fermi_sea: the filled Fermi sea (verify.fermions)',
   answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s) and, for the corrected drive, within budget.correction (its coupling out of the occupied states, verify.json cd_strength.max_leakage)',
   adiabatic_time: 'the answer (interpolated where possible) of the bare drive for the ground state: how slow the plain ramp must be',
-  tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms): per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
+  tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms): per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity (0: only the error-free point does, so refine the swept values towards 0; null: not even that); interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
   drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them',
 };
 
@@ -497,10 +497,16 @@ function shortest(rows: { t: number; f: number; ok: boolean }[], target: number)
   if (k === rows.length) return { duration: null, interpolated: null };
   if (k === 0) return { duration: rows[0].t, interpolated: null };
   const [a, b] = [rows[k - 1], rows[k]];
-  const [fa, fb] = [Math.max(a.f, INFIDELITY_FLOOR), Math.max(b.f, INFIDELITY_FLOOR)];
+  return { duration: b.t, interpolated: a.t > 0 ? logCrossing(a.t, a.f, b.t, b.f, target) : null };
+}
+
+/** where 1 − F crosses the target between (x₁, f₁) and (x₂, f₂), x > 0, log–log interpolated (infidelities floored
+ *  at INFIDELITY_FLOOR), or null when not finite */
+function logCrossing(x1: number, f1: number, x2: number, f2: number, target: number): number | null {
+  const [fa, fb] = [Math.max(f1, INFIDELITY_FLOOR), Math.max(f2, INFIDELITY_FLOOR)];
   const s = fa === fb ? 1 : (Math.log(target) - Math.log(fa)) / (Math.log(fb) - Math.log(fa));
-  const t = Math.exp(Math.log(a.t) + Math.min(1, Math.max(0, s)) * (Math.log(b.t) - Math.log(a.t)));
-  return { duration: b.t, interpolated: Number.isFinite(t) && a.t > 0 ? t : null };
+  const x = Math.exp(Math.log(x1) + Math.min(1, Math.max(0, s)) * (Math.log(x2) - Math.log(x1)));
+  return Number.isFinite(x) ? x : null;
 }
 
 /** per drive, subject and value of the other key: the shortest durations (see DEFINITIONS.answers) */
@@ -556,14 +562,9 @@ export function sweepTolerances(plan: SweepPlan, points: readonly SweepPoint[]):
           let k = 0;
           while (k < sideRows.length && sideRows[k].f <= plan.target_infidelity) k++;
           const tolerance = k === 0 ? null : sideRows[k - 1].a;
-          let interpolated: number | null = null;
-          if (k > 0 && k < sideRows.length && sideRows[k - 1].a > 0) {
-            const [lo, hi] = [sideRows[k - 1], sideRows[k]];
-            const [fl, fh] = [Math.max(lo.f, INFIDELITY_FLOOR), Math.max(hi.f, INFIDELITY_FLOOR)];
-            const s = fl === fh ? 1 : (Math.log(plan.target_infidelity) - Math.log(fl)) / (Math.log(fh) - Math.log(fl));
-            const x = Math.exp(Math.log(lo.a) + Math.min(1, Math.max(0, s)) * (Math.log(hi.a) - Math.log(lo.a)));
-            interpolated = Number.isFinite(x) ? x : null;
-          }
+          const interpolated = k > 0 && k < sideRows.length && sideRows[k - 1].a > 0
+            ? logCrossing(sideRows[k - 1].a, sideRows[k - 1].f, sideRows[k].a, sideRows[k].f, plan.target_infidelity)
+            : null;
           out.push({ key, drive, subject, other: o, side, tolerance, interpolated });
         }
       }

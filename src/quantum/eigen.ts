@@ -166,17 +166,18 @@ const COARSE_RESIDUAL_REL = 1e-12;
  * When u·v has no content beyond the coarse Nyquist mode, the M-point collocation is the restriction of the N-point
  * H to the lowest modes (no aliasing: Boyd, Chebyshev and Fourier Spectral Methods, 2nd ed. 2001, §11.4) and its
  * eigenvectors zero-padded in Fourier space (ops.ts resample) are N-point eigenvectors. What aliasing leaves out is
- * exactly the N-point residual of a lifted pair, so each must be resolved on the coarse grid (amplitudes at its
- * Nyquist mode ≤ COARSE_TAIL_REL) and pass ‖Hv − θv‖ ≤ COARSE_RESIDUAL_REL·‖H‖; energies are the N-point
- * Rayleigh quotients.
+ * exactly the N-point residual of a lifted pair, which decides: each must pass ‖Hv − θv‖ ≤ COARSE_RESIDUAL_REL·‖H‖
+ * (a cheap gate first: amplitudes in the coarse grid's two top modes ≤ COARSE_TAIL_REL); energies are the N-point
+ * Rayleigh quotients, in ascending order.
  */
-function coarseLowest(grid: Grid, u: Float64Array, count: number, points: number, uBand: number, h: RealHamiltonian, tol: number): { energies: number[]; vectors: Float64Array[]; residuals: number[] } | null {
+function coarseLowest(grid: Grid, u: Float64Array, count: number, points: number, h: RealHamiltonian, tol: number): { energies: number[]; vectors: Float64Array[]; residuals: number[] } | null {
   const stride = grid.n / points;
   const coarse = makeGrid(grid.length, points);
   const uc = new Float64Array(points);
   for (let j = 0; j < points; j++) uc[j] = u[j * stride];
   const { vectors: vc } = householderOn(coarse, uc, count);
-  if (vc.some((v) => bandLimit(v) >= points / 2)) return null;
+  // the two top modes (the Nyquist one alone can vanish by symmetry)
+  if (vc.some((v) => bandLimit(v) >= points / 2 - 1)) return null;
   const scale = Math.sqrt(points / grid.n);
   const hv = new Float64Array(grid.n);
   const energies: number[] = [];
@@ -194,7 +195,9 @@ function coarseLowest(grid: Grid, u: Float64Array, count: number, points: number
     vectors.push(w);
     residuals.push(Math.sqrt(r));
   }
-  return { energies, vectors, residuals };
+  // the N-point Rayleigh quotients can swap a pair closer than the residual: ascending order, as every solver returns
+  const order = energies.map((_, i) => i).sort((a, b) => energies[a] - energies[b]);
+  return { energies: order.map((i) => energies[i]), vectors: order.map((i) => vectors[i]), residuals: order.map((i) => residuals[i]) };
 }
 
 /** the first coarse grid householderLowest tries: the fewest points N/2^j with M/2 ≥ q_u + count/2 (room for u's band
@@ -222,7 +225,7 @@ function householderLowest(grid: Grid, u: Float64Array, count: number, residualT
   const tol = residualTol ?? RESIDUAL_REL * h.normH;
   const uBand = bandLimit(u);
   for (let points = coarsestPoints(n, uBand, count); points < n; points *= 2) {
-    const found = coarseLowest(grid, u, count, points, uBand, h, tol);
+    const found = coarseLowest(grid, u, count, points, h, tol);
     if (found !== null) {
       return {
         method: 'householder', detail: `Householder tridiagonalisation of the dense matrix on the ${points}-point grid that holds the levels exactly (u band-limited to mode ${uBand}), Sturm bisection and inverse iteration, back-transformation, Fourier interpolation to ${n} points`,

@@ -4,7 +4,8 @@
  * (propagator.ts labPotential adds δV_s after the optics). What a lab measures is the average over shots, so the
  * shots' verify results are combined into one: per drive and state the mean fidelity and excess energy, the
  * thermal and Fermi-sea figures and the fidelity traces averaged the same way, the energies averaged; beside it the
- * spread over shots (sample standard deviation, the worst shot).
+ * spread over shots (sample standard deviation, the worst shot). Diagnostics of one trap (isospectral drift, the
+ * correction's size, the thermal weights, warnings) are the first shot's, named as such.
  */
 import { gaussianRandomField } from '../spectral/random-field.ts';
 import type { Grid } from '../spectral/grid.ts';
@@ -81,6 +82,9 @@ export function averageShots(shots: readonly VerifyResult[]): { result: VerifyRe
     minFidelityPerShot: shots.map((r) => r.drives[k].minFidelity),
   }));
   const timings = { ...first.timings, eigenMs: shots.reduce((a, r) => a + r.timings.eigenMs, 0), propagationMs: shots.reduce((a, r) => a + r.timings.propagationMs, 0), totalMs: shots.reduce((a, r) => a + r.timings.totalMs, 0) };
-  const warnings = [...new Set(shots.flatMap((r) => r.warnings))];
-  return { result: { ...first, drives, states, isospectralDrift: Math.max(...shots.map((r) => r.isospectralDrift)), timings, warnings }, spread };
+  // one shot's diagnostics stand for all (each noisy trap has its own numbers): the first shot's drift, warnings and
+  // correction size; the eigen residual is the worst of any shot
+  const warnings = shots.length > 1 && first.warnings.length > 0 ? [...first.warnings.map((w) => `shot 1 of ${shots.length}: ${w}`)] : [...first.warnings];
+  const eigen = { ...first.eigen, maxResidual: Math.max(...shots.map((r) => r.eigen.maxResidual)) };
+  return { result: { ...first, drives, states, eigen, timings, warnings }, spread };
 }

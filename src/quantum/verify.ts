@@ -364,7 +364,7 @@ function finishDrive(ctx: DriveContext, plan: DrivePlan, parts: readonly GroupRe
     const sts = parts.flatMap((p) => p.samples[k]);
     opts.potential(ramp.value(s), uS);
     if (trace && plan.traceTimes.includes(s)) trace.fidelity.push(traceFidelities(ctx, s, uS, sts));
-    if (plan.strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, Math.abs(ramp.rate(s)), uS, sts);
+    if (plan.strengthTimes.includes(s)) recordCoupling(coupling, ctx, s, sts);
   });
   const states = parts.flatMap((p) => p.states);
   const stats = mergeStats(parts.map((p) => p.stats));
@@ -430,8 +430,13 @@ function gaugeOf(ctx: DriveContext, drive: 'painted' | 'painted_ground', painted
   return { drive, states: count, painted: mine, velocity, maxDifference: Math.max(...mine.map((f, i) => Math.abs(f - velocity[i]))) };
 }
 
-/** one sample of the correction's coupling out of the occupied subspace (CdStrength) */
-function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, rate: number, uS: Float64Array, sts: readonly Float64Array[]): void {
+/** one sample of the correction's coupling out of the occupied subspace (CdStrength): the correction the lab builds,
+ *  (1 + ε)λ̇A[u] of the design at s + δs (propagator.ts kdvDrive), on the states at s */
+function recordCoupling(c: CdStrength, ctx: DriveContext, s: number, sts: readonly Float64Array[]): void {
+  const sA = Math.min(Math.max(s + ctx.errors.shift, 0), ctx.ramp.duration);
+  const uS = new Float64Array(ctx.opts.grid.n);
+  ctx.design(ctx.ramp.value(sA), uS);
+  const rate = Math.abs(ctx.ramp.rate(sA) * (1 + ctx.errors.scale));
   const full = occupiedCoupling(ctx.op, laxTerms(uS, 'full', undefined, ctx.opts.drift ?? 0), sts, ctx.occupied, ctx.scratch);
   c.time.push(s);
   c.leakage.push(rate * full.leakage);
@@ -614,8 +619,9 @@ export async function verifySequenceThreaded(options: VerifyOptions, threads: nu
   const launch = (plans: DrivePlan[], levels: number) => {
     if (pool === null) return;
     const ramp = makeRamp(options.ramp, options.duration, options.lambdaEnd);
+    // the lab's trap, as the one-thread path solves it (prepare): the same method whatever the thread count
     const u0 = new Float64Array(grid.n);
-    options.potential(0, u0);
+    labPotential(grid, options.potential, { ...NO_ERRORS, ...options.errors })(0, u0);
     const densePoints = densePointsFor(u0, levels);
     const method = options.eigenMethod ?? eigenMethodFor(grid.n, levels, densePoints);
     basisTimes = (plans[0]?.traceTimes ?? []).filter((t) => t > 0 && t < options.duration);
