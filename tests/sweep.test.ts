@@ -4,6 +4,8 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { parseConfig, parseYaml } from '../src/io/config.ts';
+import { parseLatticeConfig } from '../src/io/config-lattice.ts';
+import { largestLatticeCoupling } from '../src/jobs/lattice.ts';
 import { runDesign } from '../src/jobs/design.ts';
 import { runVerify } from '../src/jobs/verify.ts';
 import { mergeSweeps, planSweep, runSweep, sweepAnswers, sweepTolerances, type SweepFile, type SweepInput } from '../src/jobs/sweep.ts';
@@ -211,7 +213,29 @@ describe('sweep plan and answers (no computation)', () => {
     const [d] = sweepAnswers(plan, t.values.map((T0, i) => corrected(i, T0)));
     expect(d.duration).toBe(1);
     expect(d.duration_in_budget).toBeCloseTo(10, 12);
+    // budget.coupling limits the lattice realisation's largest CD coupling, also ∝ λ̇ ∝ 1/T: 800/T is 800, 80, 8
+    const onLattice = (index: number, T0: number): SweepPoint => ({
+      ...point(index, T0, 1e-9), limit_coupling: 100,
+      drives: [{ drive: 'cd', min_fidelity: 1 - 1e-9, lattice_coupling: 800 / T0, states: [{ index: 0, energy: -1, fidelity: 1 - 1e-9, excess: 0 }], thermal: null, fermions: null }],
+    });
+    const [g] = sweepAnswers(plan, t.values.map((T0, i) => onLattice(i, T0)));
+    expect(g.duration_in_budget).toBeCloseTo(10, 12);
   });
+
+  it('the lattice coupling budget.coupling compares: 4 max|λ̇|/d³ where the potential vanishes, 8λ_end/(T d³) for a sin² ramp (physics.md §6: the Peierls part b = λ̇(4/d³ + 3ū/d) of the nearest-neighbour bond)', () => {
+    const text = `name: lattice-budget
+units: { system: natural }
+grid: { length: 24, points: 256 }
+initial: { kind: sech2, depth: 2, width: 1, center: 0 }
+flow: { lambda_end: 0.05, frames: 5 }
+protocol: { duration: 2, ramp: sin2 }
+lattice: { spacing: 0.25, sites_per_width: [] }
+`;
+    const config = parseLatticeConfig(text, 'lattice.yaml', tmpdir());
+    const h = 0.25;
+    // the sech² tail at the box edge (|ξ| = 12) is 2·4e^{−24} ≈ 3e-10: ū = 0 there to that accuracy
+    expect(Math.abs(largestLatticeCoupling(config) / ((8 * 0.05) / (2 * h ** 3)) - 1)).toBeLessThan(1e-8);
+  }, 60_000);
 
   it('reads the tolerance on an error key off the points: log–log crossings exact for an infidelity ∝ ε² (first-order perturbation theory)', () => {
     const setup = planSweep(input(), { vary: ['verify.errors.correction_scale=-0.04,-0.02,-0.01,0,0.01,0.02,0.04'], target: 8e-3 });

@@ -358,6 +358,7 @@ export const budgetSchema = strictSection(
     depth: positive('deepest potential the lab can paint, in the energy unit').optional(),
     feature: positive('narrowest well (full width at half depth) the optics resolve, in the length unit').optional(),
     correction: positive('largest correction the hardware can make: its coupling out of the occupied states |λ̇|‖(1 − P)AP‖, in the energy unit (verify.json cd_strength.max_leakage)').optional(),
+    coupling: positive('largest CD tunnelling coupling the lattice can realise (lattice.json couplings.largest_cd_coupling), h·Hz (lab) or E₀ (natural); needs a lattice section').optional(),
   },
   'budget',
 );

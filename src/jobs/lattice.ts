@@ -513,6 +513,18 @@ function verificationSection(setup: LatticeSetup, count: number, main: LatticeRu
  * the configured lattice → convergence study → summary. Throws UserError for configs it cannot serve (no lattice
  * or protocol section, a broken flow, a lattice that is too large).
  */
+/**
+ * The largest CD coupling of the configured lattice's realisation (lattice.json couplings.largest_cd_coupling: h·Hz
+ * lab, E₀ natural): the design with m*, the chain and the control tables, without the lattice propagation. A
+ * sweep's budget.coupling compares it (jobs/sweep.ts).
+ */
+export function largestLatticeCoupling(config: LatticeConfig): number {
+  const setup = latticeSetup(config, () => undefined);
+  const sites = chainFor(setup, setup.h);
+  const seq = LatticeSequence.fromDense(setup.design.ctx.grid, setup.design.run.dense, sites);
+  return tablesStep(setup, seq, sites, () => undefined).couplings.largest_cd_coupling;
+}
+
 export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): LatticeResult {
   const progress = opts.onProgress ?? (() => {});
   const setup = latticeSetup(config, progress);

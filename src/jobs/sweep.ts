@@ -15,7 +15,8 @@ import { join, resolve } from 'node:path';
 import { AcceptanceFailure, NumericalError, UserError } from '../core/errors.ts';
 import { coreCount, runPool } from '../core/worker-pool.ts';
 import { parseConfigWith, type Config } from '../io/config.ts';
-import { latticeConfigSchema } from '../io/config-lattice.ts';
+import { latticeConfigSchema, type LatticeConfig } from '../io/config-lattice.ts';
+import { largestLatticeCoupling } from './lattice.ts';
 import { assertDesignAffordable, assertVerifyAffordable, verifyShots } from '../io/cost.ts';
 import { removeStaleTemporaries, writeFileAtomic } from '../io/files.ts';
 import { publishOutput } from '../io/output-events.ts';
@@ -308,12 +309,23 @@ export async function runPoint(task: PointTask, cache: DesignCache): Promise<Swe
     point.deepest = design.summary.budgets.deepest;
     point.limit_depth = design.summary.budgets.limit_depth;
     point.limit_correction = config.budget?.correction ?? null;
+    point.limit_coupling = config.budget?.coupling ?? null;
     if (!design.summary.complete) throw new AcceptanceFailure(`the ${config.flow.dispersion} flow stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}`);
     // points run in parallel already: each verify keeps to its thread
     const verify = await runVerify(config, design, { threads: 1 });
     point.drives = driveRecords(design, verify);
     point.accepted = verify.file.accepted;
     point.warnings = [...design.summary.warnings, ...verify.file.warnings];
+    // with a lattice section, the corrected drive's largest coupling on that lattice (budget.coupling)
+    if ((config as LatticeConfig).lattice) {
+      try {
+        const coupling = largestLatticeCoupling(config as LatticeConfig);
+        for (const d of point.drives) if (d.drive === 'cd') d.lattice_coupling = coupling;
+      } catch (err) {
+        if (!(err instanceof UserError)) throw err;
+        point.warnings.push(`the lattice coupling (budget.coupling) was not evaluated: ${err.message}`);
+      }
+    }
   } catch (err) {
     if (!(err instanceof UserError || err instanceof NumericalError || err instanceof AcceptanceFailure)) throw err;
     point.error = err.message;
@@ -460,7 +472,7 @@ function missingPoint(dir: string, p: number): never {
 
 const DEFINITIONS: Record<string, string> = {
   subjects: 'ground: the ground state; worst: the worst tracked state (verify.states); thermal: the Boltzmann mean of the state fidelities; thermal_uhlmann: the Uhlmann fidelity of the evolved and the final Gibbs state; fermi_sea: the filled Fermi sea (verify.fermions)',
-  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s) and, for the corrected drive, within budget.correction (its coupling out of the occupied states, verify.json cd_strength.max_leakage)',
+  answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s) and, for the corrected drive, within budget.correction (its coupling out of the occupied states, verify.json cd_strength.max_leakage) and budget.coupling (the largest CD coupling of its realisation on the config\'s lattice section)',
   adiabatic_time: 'the answer (interpolated where possible) of the bare drive for the ground state: how slow the plain ramp must be',
   tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms): per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity (0: only the error-free point does, so refine the swept values towards 0; null: not even that); interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
   drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them',
@@ -524,14 +536,16 @@ export function sweepAnswers(plan: SweepPlan, points: readonly SweepPoint[]): Sw
       for (const subject of ANSWER_SUBJECTS) {
         const rows = group.map((p) => {
           const d = p.drives.find((x) => x.drive === drive)!;
-          return { p, f: subjectInfidelity(d, subject), depth: d.painted_depth ?? p.deepest, correction: d.correction_size };
+          return { p, f: subjectInfidelity(d, subject), depth: d.painted_depth ?? p.deepest, correction: d.correction_size, coupling: d.lattice_coupling };
         }).filter((r) => !Number.isNaN(r.f));
         if (rows.length === 0) continue;
         const plain = shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity })), plan.target_infidelity);
         const limit = rows[0].p.limit_depth;
         const limitCorrection = rows[0].p.limit_correction ?? null;
-        const fits = (r: (typeof rows)[number]) => (limit === null || r.depth <= limit) && (limitCorrection === null || r.correction === undefined || r.correction <= limitCorrection);
-        const inBudget = limit === null && limitCorrection === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && fits(r) })), plan.target_infidelity).duration;
+        const limitCoupling = rows[0].p.limit_coupling ?? null;
+        const fits = (r: (typeof rows)[number]) => (limit === null || r.depth <= limit) && (limitCorrection === null || r.correction === undefined || r.correction <= limitCorrection) &&
+          (limitCoupling === null || r.coupling === undefined || r.coupling <= limitCoupling);
+        const inBudget = limit === null && limitCorrection === null && limitCoupling === null ? null : shortest(rows.map((r) => ({ t: r.p.values[axis], f: r.f, ok: r.f <= plan.target_infidelity && fits(r) })), plan.target_infidelity).duration;
         answers.push({ drive, subject, other: o, ...plain, duration_in_budget: inBudget });
       }
     }

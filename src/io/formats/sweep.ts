@@ -59,6 +59,9 @@ export interface SweepDrive {
   /** corrected drives (cd): the correction's coupling out of the occupied states, max |λ̇|‖(1 − P)AP‖ (verify.json
    *  cd_strength.max_leakage, energy unit), the quantity budget.correction limits */
   correction_size?: number;
+  /** corrected drive of a config with a lattice section: the largest CD coupling of its lattice realisation
+   *  (lattice.json couplings.largest_cd_coupling, h·Hz lab), the quantity budget.coupling limits */
+  lattice_coupling?: number;
   states: SweepState[];
   thermal: null | { temperature: number; fidelity: number; uhlmann: number; mean_excess: number };
   fermions: null | { count: number; fidelity: number };
@@ -77,6 +80,8 @@ export interface SweepPoint {
   limit_depth: number | null;
   /** budget.correction (energy unit; null or absent: none stated) */
   limit_correction?: number | null;
+  /** budget.coupling (h·Hz lab, E₀ natural; null or absent: none stated) */
+  limit_coupling?: number | null;
   /** verify's acceptance of the corrected drive (jobs/verify.ts ACCEPT_INFIDELITY) */
   accepted: boolean;
   warnings: string[];
@@ -94,8 +99,9 @@ export interface SweepAnswer {
   duration: number | null;
   /** the crossing 1 − F = target, log–log interpolated between the neighbouring swept durations; null: none */
   interpolated: number | null;
-  /** the same with the budget also met: budget.depth (the sequence's or painted depth) and budget.correction (the
-   *  corrected drive's correction_size); null when neither is stated or none meets it */
+  /** the same with the budget also met: budget.depth (the sequence's or painted depth), budget.correction and
+   *  budget.coupling (the corrected drive's correction_size and lattice_coupling); null when none is stated or none
+   *  meets it */
   duration_in_budget: number | null;
 }
 
@@ -147,6 +153,7 @@ const driveSchema = z.object({
   min_fidelity: num,
   painted_depth: num.optional(),
   correction_size: num.optional(),
+  lattice_coupling: num.optional(),
   states: z.array(z.object({ index: num, energy: num, fidelity: num, excess: num })),
   thermal: z.object({ temperature: num, fidelity: num, uhlmann: num, mean_excess: num }).nullable(),
   fermions: z.object({ count: num, fidelity: num }).nullable(),
@@ -162,6 +169,7 @@ const pointSchema: z.ZodType<SweepPoint> = z.object({
   deepest: num,
   limit_depth: numOrNull,
   limit_correction: numOrNull.optional(),
+  limit_coupling: numOrNull.optional(),
   accepted: z.boolean(),
   warnings: z.array(str),
   seconds: num,
