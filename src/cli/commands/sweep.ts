@@ -46,12 +46,17 @@ function print(r: SweepResult, dir: string, opts: CommonOptions): number {
     if (!f.shard && f.plan.axes.some((a) => a.key === 'protocol.duration')) {
       if (f.plan.axes.length === 1) rows.push(['adiabatic time', f.adiabatic_time === null ? 'bare ground state not at the target in the swept range' : `${num(f.adiabatic_time)} ${t} (bare drive, ground state)`]);
       const otherKey = f.plan.axes.find((a) => a.key !== 'protocol.duration')?.key;
-      const budget = f.points.some((p) => p.limit_depth !== null);
+      const budget = f.points.some((p) => p.limit_depth !== null || (p.limit_correction ?? null) !== null || (p.limit_coupling ?? null) !== null);
       for (const a of f.answers.filter((x) => x.subject === 'ground')) {
         const at = a.other === null ? '' : ` at ${otherKey} = ${num(a.other)}`;
-        const inBudget = a.duration_in_budget !== null ? `; within budget.depth from ${num(a.duration_in_budget)} ${t}` : budget ? '; never within budget.depth in the swept range' : '';
+        const inBudget = a.duration_in_budget !== null ? `; within the budget from ${num(a.duration_in_budget)} ${t}` : budget ? '; never within the budget in the swept range' : '';
         rows.push([`shortest duration${at}, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.interpolated !== null ? ` (crossing ≈ ${num(a.interpolated)} ${t})` : ''}${inBudget}`]);
       }
+    }
+    for (const tol of (f.shard ? [] : f.tolerances ?? []).filter((x) => x.subject === 'ground' && x.drive === 'cd')) {
+      const axisUnit = f.plan.axes.find((a) => a.key === tol.key)?.unit ?? '';
+      const unit = axisUnit === 'as in the config' ? '' : axisUnit;
+      rows.push([`tolerance (${tol.side} side), cd`, tol.tolerance === null ? 'not met at the smallest swept value' : `${num(tol.tolerance)} ${unit}${tol.interpolated !== null ? ` (crossing ≈ ${num(tol.interpolated)} ${unit})` : ''}`]);
     }
     rows.push(['outputs', dir]);
     process.stdout.write(`isotrap sweep\n${table(rows)}\n`);
