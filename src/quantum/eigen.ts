@@ -95,14 +95,19 @@ function dot(a: Float64Array, b: Float64Array): number {
   return s;
 }
 
-function residual(h: RealHamiltonian, v: Float64Array, theta: number, scratch: Float64Array): number {
-  h.apply(v, scratch);
+/** ‖Hv − θv‖₂ from Hv already applied */
+function residualOf(hv: Float64Array, v: Float64Array, theta: number): number {
   let s = 0;
   for (let i = 0; i < v.length; i++) {
-    const r = scratch[i] - theta * v[i];
+    const r = hv[i] - theta * v[i];
     s += r * r;
   }
   return Math.sqrt(s);
+}
+
+function residual(h: RealHamiltonian, v: Float64Array, theta: number, scratch: Float64Array): number {
+  h.apply(v, scratch);
+  return residualOf(scratch, v, theta);
 }
 
 function checkArgs(grid: Grid, u: Float64Array, count: number): void {
@@ -188,12 +193,11 @@ function coarseLowest(grid: Grid, u: Float64Array, count: number, points: number
     for (let j = 0; j < w.length; j++) w[j] *= scale;
     h.apply(w, hv);
     const theta = dot(w, hv) / dot(w, w);
-    let r = 0;
-    for (let j = 0; j < w.length; j++) r += (hv[j] - theta * w[j]) ** 2;
-    if (!(Math.sqrt(r) <= Math.min(tol, COARSE_RESIDUAL_REL * h.normH))) return null;
+    const r = residualOf(hv, w, theta);
+    if (!(r <= Math.min(tol, COARSE_RESIDUAL_REL * h.normH))) return null;
     energies.push(theta);
     vectors.push(w);
-    residuals.push(Math.sqrt(r));
+    residuals.push(r);
   }
   // the N-point Rayleigh quotients can swap a pair closer than the residual: ascending order, as every solver returns
   const order = energies.map((_, i) => i).sort((a, b) => energies[a] - energies[b]);
