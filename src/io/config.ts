@@ -334,6 +334,28 @@ export const errorsSchema = strictSection(
 export const PAINTED_KINDS = ['variational', 'ground'] as const;
 export type PaintedKind = (typeof PAINTED_KINDS)[number];
 
+/** a condensate driven through the same sequence (quantum/condensate.ts; physics.md §10): N atoms with either a
+ *  scattering length and a transverse guide (g₁D = 2ħω⊥a_s, lab units only) or g₁D itself */
+export const interactionSchema = strictSection(
+  {
+    atoms: numberWhere('must be a number from 1 to 1e9 (atoms in the condensate; a mean number may be fractional)', (v) => Number.isFinite(v) && v >= 1 && v <= 1e9),
+    scattering_length_nm: numberWhere('must be a number from -1e4 to 1e4 (s-wave scattering length a_s in nm; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e4).optional(),
+    scattering_length_bohr: numberWhere('must be a number from -1e5 to 1e5 (s-wave scattering length a_s in Bohr radii; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e5).optional(),
+    transverse_hz: numberWhere('must be a number from 1 to 1e8 (transverse trap frequency ω⊥/2π in Hz)', (v) => Number.isFinite(v) && v >= 1 && v <= 1e8).optional(),
+    g1d: numberWhere('must be a finite number (1-D coupling per atom g₁D in the energy unit × the length unit; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e12).optional(),
+  },
+  'verify.interaction',
+).superRefine((v, ctx) => {
+  const lengths = ['scattering_length_nm', 'scattering_length_bohr'].filter((k) => v[k as keyof typeof v] !== undefined);
+  const say = (path: string, message: string) => ctx.addIssue({ code: 'custom', path: [path], message });
+  if (lengths.length > 1) say('scattering_length_bohr', 'give the scattering length once: scattering_length_nm or scattering_length_bohr, not both');
+  if (v.g1d !== undefined) {
+    if (lengths.length > 0) say(lengths[0], 'give either g1d or a scattering length with transverse_hz, not both');
+    if (v.transverse_hz !== undefined) say('transverse_hz', 'is used only with a scattering length (g₁D = 2ħω⊥a_s); with g1d leave it out');
+  } else if (lengths.length === 0) say('g1d', 'is missing: give g1d (energy unit × length unit per atom) or a scattering length (scattering_length_nm or scattering_length_bohr) with transverse_hz');
+  else if (v.transverse_hz === undefined) say('transverse_hz', 'is missing: a scattering length needs the transverse trap frequency ω⊥/2π in Hz (g₁D = 2ħω⊥a_s)');
+});
+
 export const verifySchema = strictSection(
   {
     states: intBetween(1, 1000).optional(),
@@ -349,6 +371,7 @@ export const verifySchema = strictSection(
     compare_classical: z.boolean({ error: 'must be true or false' }).default(false),
     painted: z.array(oneOf(PAINTED_KINDS), { error: `must be a list of ${PAINTED_KINDS.join(', ')}` }).default([]),
     errors: errorsSchema.prefault({}),
+    interaction: interactionSchema.optional(),
   },
   'verify',
 );

@@ -123,6 +123,11 @@ export function keyUnit(key: string, labels: { energy: string; time: string; len
   if (leaf === 'kappa') return `1/${labels.length}`;
   if (['points', 'states', 'fermions', 'frames', 'samples'].includes(leaf)) return 'count';
   if (leaf === 'lambda_end' || leaf === 'tolerance' || leaf === 'target_infidelity') return 'dimensionless';
+  if (leaf === 'atoms') return 'atoms';
+  if (leaf === 'scattering_length_nm') return 'nm';
+  if (leaf === 'scattering_length_bohr') return 'a₀';
+  if (leaf === 'transverse_hz') return 'Hz';
+  if (leaf === 'g1d') return `${labels.energy}·${labels.length} per atom`;
   return 'as in the config';
 }
 
@@ -279,7 +284,7 @@ export interface DesignCache {
 function driveRecords(design: DesignResult, verify: Awaited<ReturnType<typeof runVerify>>): SweepDrive[] {
   const E = design.ctx.units.energyFromNatural;
   const { file, natural } = verify;
-  return natural.drives.map((d) => ({
+  const single: SweepDrive[] = natural.drives.map((d) => ({
     drive: d.drive,
     min_fidelity: d.minFidelity,
     ...(d.paintedRange ? { painted_depth: -E(d.paintedRange.min) } : {}),
@@ -287,6 +292,23 @@ function driveRecords(design: DesignResult, verify: Awaited<ReturnType<typeof ru
     states: natural.states.map((s, i) => ({ index: s.index, energy: file.states[i].energy, fidelity: d.fidelity[i], excess: E(d.excessEnergy[i]) })),
     thermal: d.thermal ? { temperature: file.thermal?.temperature ?? NaN, fidelity: d.thermal.ensembleFidelity, uhlmann: d.thermal.uhlmannFidelity ?? NaN, mean_excess: E(d.thermal.meanExcessEnergy) } : null,
     fermions: d.fermions ? { count: d.fermions.particles, fidelity: d.fermions.manyBodyFidelity } : null,
+  }));
+  return [...single, ...condensateRecords(file)];
+}
+
+/** the condensate's drives (verify.interaction) as drives of one subject, the nonlinear ground state: names
+ *  condensate_cd, condensate_painted, condensate_bare; energies per atom */
+function condensateRecords(file: Awaited<ReturnType<typeof runVerify>>['file']): SweepDrive[] {
+  const c = file.interaction;
+  if (!c) return [];
+  const name = { cd: 'condensate_cd', painted_condensate: 'condensate_painted', bare: 'condensate_bare' } as const;
+  return c.drives.map((d) => ({
+    drive: name[d.drive],
+    min_fidelity: d.fidelity,
+    ...(d.drive === 'painted_condensate' && c.painted_range ? { painted_depth: -c.painted_range.deepest } : {}),
+    states: [{ index: 0, energy: c.end.energy, fidelity: d.fidelity, excess: d.excess }],
+    thermal: null,
+    fermions: null,
   }));
 }
 
@@ -474,8 +496,8 @@ const DEFINITIONS: Record<string, string> = {
   subjects: 'ground: the ground state; worst: the worst tracked state (verify.states); thermal: the Boltzmann mean of the state fidelities; thermal_uhlmann: the Uhlmann fidelity of the evolved and the final Gibbs state; fermi_sea: the filled Fermi sea (verify.fermions)',
   answers: 'duration: the shortest swept protocol.duration from which on every longer swept duration keeps 1 − F ≤ target_infidelity; interpolated: where 1 − F crosses the target, log–log interpolated between that duration and the next shorter swept one; duration_in_budget: the same with the drive within budget.depth (the designed sequence’s depth; for a painted drive the painted potential’s) and, for the corrected drive, within budget.correction (its coupling out of the occupied states, verify.json cd_strength.max_leakage) and budget.coupling (the largest CD coupling of its realisation on the config\'s lattice section)',
   adiabatic_time: 'the answer (interpolated where possible) of the bare drive for the ground state: how slow the plain ramp must be',
-  tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms): per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity (0: only the error-free point does, so refine the swept values towards 0; null: not even that); interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
-  drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them',
+  tolerances: 'with an error key of verify.errors swept (correction_scale, depth, timing, psf, noise_rms) or the atom number verify.interaction.atoms: per drive, subject and side of zero, tolerance is the largest swept |value| up to which every swept value on that side keeps 1 − F ≤ target_infidelity (0: only the error-free point does, so refine the swept values towards 0; null: not even that); interpolated: where 1 − F crosses the target, log–log interpolated between that value and the next larger swept one',
+  drives: 'cd: the cubic counterdiabatic correction; bare: the ramp alone; further drives as verify computes them; with verify.interaction, condensate_cd, condensate_painted and condensate_bare are the condensate under the cubic correction, its own painted protocol and the ramp alone (one state: its nonlinear ground state; energies per atom)',
 };
 
 /** the sweep.json content of `points` (answers from the duration axis, when one is swept) */
@@ -555,10 +577,13 @@ export function sweepAnswers(plan: SweepPlan, points: readonly SweepPoint[]): Sw
 
 /** the error keys of verify.errors whose tolerance a sweep answers (sweepTolerances) */
 export const ERROR_KEYS = ['verify.errors.correction_scale', 'verify.errors.depth', 'verify.errors.timing', 'verify.errors.psf', 'verify.errors.noise_rms'] as const;
+/** the keys whose largest value within the target a sweep answers: the error keys, and the condensate's atom number
+ *  (how many atoms a drive still carries; the degradation curve) */
+export const TOLERANCE_KEYS = [...ERROR_KEYS, 'verify.interaction.atoms'] as const;
 
 /** per drive, subject, side of zero and value of the other key: how large the swept error may be (DEFINITIONS.tolerances) */
 export function sweepTolerances(plan: SweepPlan, points: readonly SweepPoint[]): SweepTolerance[] {
-  const axis = plan.axes.findIndex((a) => (ERROR_KEYS as readonly string[]).includes(a.key));
+  const axis = plan.axes.findIndex((a) => (TOLERANCE_KEYS as readonly string[]).includes(a.key));
   if (axis < 0) return [];
   const key = plan.axes[axis].key;
   const other = plan.axes.length === 2 ? 1 - axis : -1;

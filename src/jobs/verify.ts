@@ -24,6 +24,7 @@ import { sequencePotential, type SequenceSource } from '../flow/dense.ts';
 import { coreCount } from '../core/worker-pool.ts';
 import { averageShots, shotNoise, type ShotNoise, type ShotSpread } from '../quantum/shots.ts';
 import type { PaintedSection } from '../io/formats/verify.ts';
+import { interactionRows, prepareInteraction } from './condensate.ts';
 export type { VerifyFile };
 
 export const VERIFY_FILES = ['verify.json', 'traces.npy'] as const;
@@ -236,6 +237,7 @@ function verifyFile(design: DesignResult, input: VerifyInput, natural: VerifyRes
     ),
     traces: { file: 'traces.npy', times: parts.traces.times, rows: parts.traces.rows },
     painted: null,
+    interaction: null,
     errors: { correction_scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, timing: input.verify.errors.timing, time_unit: Lt.time, psf: input.verify.errors.psf, length_unit: Lt.length },
     accepted,
     acceptance: acceptanceText(accepted, cd.minFidelity),
@@ -282,6 +284,7 @@ function summaryRows(file: VerifyFile, natural: VerifyResult): SummaryRow[] {
           ((file.errors.noise_rms ?? 0) !== 0 ? `, shot-to-shot noise ${file.errors.noise_rms} ${file.errors.energy_unit} rms over ${file.errors.noise_correlation} ${file.errors.length_unit}, mean of ${file.errors.noise_shots} shots` : '') }]
       : []),
     ...(file.errors?.noise_spread ?? []).map((d) => ({ key: `${d.drive}: ground-state fidelity spread over shots (std / worst shot)`, value: `${d.fidelity_std[0].toExponential(2)} / ${d.worst_fidelity[0].toPrecision(8)}` })),
+    ...(file.interaction ? interactionRows(file.interaction, file.units.energy) : []),
     { key: 'isospectrality drift', value: file.isospectral_drift, unit: file.units.energy },
     { key: 'verdict', value: file.acceptance },
   ];
@@ -303,6 +306,10 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
   const errors = { scale: input.verify.errors.correction_scale, depth: input.verify.errors.depth, shift: units.timeToNatural(input.verify.errors.timing), psf: units.lengthToNatural(input.verify.errors.psf) };
   const noise = shotNoiseOf(config, input, units);
   const shots = noise?.shots ?? 1;
+  const interaction = input.verify.interaction;
+  const condensate = interaction ? prepareInteraction(config, design, { duration: input.duration, lambdaEnd: input.lambdaEnd, ramp: input.protocol.ramp, tolerance: input.verify.tolerance, interaction }) : null;
+  // progress: the condensate's three one-state drives against the single-particle drives of every shot
+  const share = interaction ? (2 * shots * (input.verify.states ?? 8)) / (2 * shots * (input.verify.states ?? 8) + 4) : 1;
   const runShot = (shot: number) => withStateCountKeys(config, () => verifySequenceThreaded({
     grid,
     potential: sequencePotential(source),
@@ -319,7 +326,7 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     paintedField,
     errors: { ...errors, noise: noise ? shotNoise(grid, noise, shot) : null },
     traceSamples: opts.traceSamples ?? TRACE_SAMPLES,
-    onProgress: opts.onProgress ? (f, stage) => opts.onProgress?.((shot + f) / shots, shots > 1 ? `${stage} (shot ${shot + 1} of ${shots})` : stage) : undefined,
+    onProgress: opts.onProgress ? (f, stage) => opts.onProgress?.(share * ((shot + f) / shots), shots > 1 ? `${stage} (shot ${shot + 1} of ${shots})` : stage) : undefined,
   }, opts.threads ?? coreCount()));
   const results: VerifyResult[] = [];
   for (let shot = 0; shot < shots; shot++) results.push(await runShot(shot));
@@ -341,6 +348,12 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     for (const d of file.painted.drives) {
       if (-d.deepest > config.budget.depth) file.warnings.push(`${d.drive}: the painted potential reaches ${d.deepest.toPrecision(4)} ${units.labels.energy}, deeper than budget.depth = ${config.budget.depth} ${units.labels.energy}`);
     }
+  }
+  if (condensate) {
+    const onProgress = opts.onProgress ? (f: number, stage: string) => opts.onProgress?.(share + (1 - share) * f, stage) : undefined;
+    const out = condensate.finish(file.states[0], onProgress);
+    file.interaction = out.section;
+    file.warnings.push(...out.warnings);
   }
   file.seconds = (performance.now() - started) / 1000;
   file.summary_rows = summaryRows(file, natural);

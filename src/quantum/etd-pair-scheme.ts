@@ -147,6 +147,7 @@ export function etdPairAttempt(c: EtdPairCache, H: DrivenHamiltonian, s: number,
   c.ensure(count);
   const carried = c.fsalS === s && c.fsalStates === states && c.fsalH === H;
   loadStep(c, H, s, h, carried);
+  c.frhs.meanField = H.meanField ?? 0;
   const co = c.coefficients as EtdPairCoefficients;
   let worst = 0;
   for (let i = 0; i < count; i++) {
@@ -167,7 +168,8 @@ export function etdPairAttempt(c: EtdPairCache, H: DrivenHamiltonian, s: number,
   return worst;
 }
 
-/** states ← the last trial, each projected back to its norm; N(y₁) becomes the next first stage */
+/** states ← the last trial, each projected back to its norm; N(y₁) becomes the next first stage when N is linear
+ *  (a mean-field N(f·y) ≠ f·N(y): the next step evaluates its first stage afresh) */
 export function etdPairAccept(c: EtdPairCache, states: Float64Array[]): void {
   const len = 2 * c.grid.n;
   for (let i = 0; i < states.length; i++) {
@@ -182,5 +184,5 @@ export function etdPairAccept(c: EtdPairCache, states: Float64Array[]): void {
   const last = c.nodes.length - 1;
   c.terms[0].copyFrom(c.terms[last]);
   c.carriedRef.r1 = c.midRef.r1; c.carriedRef.r2 = c.midRef.r2; c.carriedRef.r3 = c.midRef.r3;
-  c.fsalS = c.lastS + c.lastH;
+  c.fsalS = c.frhs.meanField === 0 ? c.lastS + c.lastH : Number.NaN;
 }

@@ -86,6 +86,7 @@ export function etd4Step(params: Etd4Parameters, c: Etd4Cache, H: DrivenHamilton
   if (c.normBefore.length < states.length) c.normBefore = new Float64Array(states.length);
   for (let i = 0; i < states.length; i++) c.normBefore[i] = norm2(states[i]);
   loadStages(c, H, s, h);
+  c.frhs.meanField = H.meanField ?? 0;
   etdrk4ImaginaryCoefficients(h, c.lim, c.coefficients, c.phi);
   for (const psi of states) {
     c.fft.forward(psi, c.u0);

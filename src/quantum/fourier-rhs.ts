@@ -5,8 +5,9 @@
  *
  *     out = −i[(D_O − D_ref) ŷ + (v y + b{w, k} y)^],      y = F⁻¹ŷ,
  *
- * with odd powers of k on grid.kOdd (physics.md §5). Four FFTs when w ∝ v (the KdV drive), five otherwise. The
- * buffers are allocated once (`FourierRhs`); `apply` allocates nothing.
+ * with odd powers of k on grid.kOdd (physics.md §5). With a mean field γ (`meanField`, scheme.ts) v becomes
+ * v + γ|y|², the Gross–Pitaevskii term evaluated on the stage state (physics.md §10). Four FFTs when w ∝ v (the
+ * KdV drive) and γ = 0, five otherwise. The buffers are allocated once (`FourierRhs`); `apply` allocates nothing.
  */
 import type { ComplexFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
@@ -32,6 +33,8 @@ export class FourierRhs {
   private readonly p: Float64Array;
   private readonly r: Float64Array;
   private readonly qHat: Float64Array;
+  /** γ of the mean-field term γ|y|²y; a scheme sets it from its Hamiltonian before the stages */
+  meanField = 0;
 
   constructor(grid: Grid, op: SpectralOperator) {
     const n = grid.n;
@@ -49,7 +52,7 @@ export class FourierRhs {
     const tt = t.t;
     const v = tt.v;
     const w = tt.w;
-    const prop = t.wOverV !== null && v !== null ? t.wOverV : null;
+    const prop = t.wOverV !== null && v !== null && this.meanField === 0 ? t.wOverV : null;
     if (v !== null && w !== null && prop !== null) this.applyProportional(v, w, tt.b, prop, tt, ref, yHat, out);
     else this.applyGeneral(tt, prop, ref, yHat, out);
     this.op.applications++;
@@ -76,14 +79,17 @@ export class FourierRhs {
     const v = tt.v;
     const w = tt.w;
     const bw = tt.b;
+    const gamma = this.meanField;
+    const hasV = v !== null || gamma !== 0;
     this.toPosition(yHat, w !== null);
-    // x-space products: p = v·y, r = w·(k y), and (only if w is not ∝ v) q = w·y into kx after use
+    // x-space products: p = (v + γ|y|²)·y, r = w·(k y), and (only if w is not ∝ v) q = w·y into kx after use
     for (let j = 0; j < n; j++) {
       const yr = x[2 * j];
       const yi = x[2 * j + 1];
-      if (v) {
-        p[2 * j] = v[j] * yr;
-        p[2 * j + 1] = v[j] * yi;
+      if (hasV) {
+        const vj = (v ? v[j] : 0) + gamma * (yr * yr + yi * yi);
+        p[2 * j] = vj * yr;
+        p[2 * j + 1] = vj * yi;
       }
       if (w) {
         r[2 * j] = w[j] * kx[2 * j];
@@ -95,7 +101,7 @@ export class FourierRhs {
       }
     }
     // transforms: P̂ → x, R̂ → p, Q̂ → qHat
-    if (v) fft.forward(p, x);
+    if (hasV) fft.forward(p, x);
     if (w) {
       fft.forward(r, p);
       if (prop === null) fft.forward(kx, qHat);
@@ -108,7 +114,7 @@ export class FourierRhs {
       const m = dc1 * kk + dc2 * k2[j] + dc3 * k3[j];
       let re = m * yHat[2 * j];
       let im = m * yHat[2 * j + 1];
-      if (v) {
+      if (hasV) {
         re += x[2 * j];
         im += x[2 * j + 1];
       }

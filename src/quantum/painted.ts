@@ -27,6 +27,10 @@
  *    (N = 256, L = 30, τ ∈ [0, 0.25] in T = 0.5 t₀, smooth ramp), the final infidelity of the painted drive was
  *    3.4e-6, 3.4e-9, 7e-12 at ρ_c/max ρ = 1e-6, 1e-9, 1e-12 (clipped weights 8.7e-7, 7.9e-10, 7.8e-13; bare ramp
  *    0.99996).
+ *  - the same field of a condensate's nonlinear ground state (`groundStateField` with `coupling` g): φ solves
+ *    (k² + u + g φ²)φ = μφ (quantum/gpe.ts), and since g|ψ|² sees only the density, the continuity field of ρ = φ²
+ *    carries φ exactly under i∂_sψ = [k² + u + λ̇½{g, k} + g|ψ|²]ψ and its painted gauge partner (fast-forward of a
+ *    Bose–Einstein condensate: Masuda, PRA 86, 063624, 2012; physics.md §7, §10).
  */
 import { NumericalError } from '../core/errors.ts';
 import type { Grid } from '../spectral/grid.ts';
@@ -38,6 +42,7 @@ import type { Ramp } from '../protocol/ramp.ts';
 import { groundStateNear, groupDegenerate, lowestEigenpairs, type EigenMethod } from './eigen.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import { eigenspaceFidelity, groupOf } from './observables.ts';
+import { gpeGroundState } from './gpe.ts';
 import { propagate, type DrivenHamiltonian, type PotentialFn, type PropagateOptions } from './propagator.ts';
 
 /** offset from the ramp's ends (fraction of T) at which λ̇ and λ̈ are probed as one-sided limits: sin2 has
@@ -227,11 +232,29 @@ export function velocityDrive(grid: Grid, potential: PotentialFn, raw: VelocityF
   };
 }
 
+/** the drive with every potential it hands out folded into range (the painted potential's extremes) */
+export function recordRange(H: DrivenHamiltonian, range: { min: number; max: number }): DrivenHamiltonian {
+  return {
+    grid: H.grid,
+    terms(s: number, out: OperatorTerms): void {
+      H.terms(s, out);
+      const v = out.v;
+      if (v) for (let j = 0; j < v.length; j++) { if (v[j] < range.min) range.min = v[j]; if (v[j] > range.max) range.max = v[j]; }
+    },
+  };
+}
+
 export interface GroundStateFieldOptions {
   /** ρ_c / max ρ (default CLIP_FLOOR) */
   clipFloor?: number;
   eigenMethod?: EigenMethod;
+  /** mean-field coupling g (natural units, ∫|ψ|² dξ = 1): the density is that of the nonlinear ground state */
+  coupling?: number;
 }
+
+/** residual budget of the nonlinear ground states behind a condensate's density series: the density then carries
+ *  an error ≈ residual/gap ≈ 1e-12 of max ρ, below CHEBYSHEV_TAIL (common practice) */
+export const GPE_FIELD_RESIDUAL = 1e-11;
 
 export interface GroundStateField extends VelocityField {
   lambdaStart: number;
@@ -244,26 +267,25 @@ export interface GroundStateField extends VelocityField {
   clippedWeight: number;
 }
 
-/** ρ = ψ²/dx of a unit ground-state vector ψ (a density per unit length) */
-function densityOf(grid: Grid, psi: Float64Array): Float64Array {
-  return Float64Array.from(psi, (v) => (v * v) / grid.dx);
-}
-
 /**
  * Chebyshev interpolant in λ of the ground-state density, doubled until its tail meets CHEBYSHEV_TAIL. The points
  * run monotonically in λ and each new one lies beside a solved one, so every state after the first is found from
- * its neighbour's (eigen.ts groundStateNear).
+ * its neighbour's (eigen.ts groundStateNear; gpe.ts gpeGroundState with the neighbour as guess when `coupling` is
+ * given). States are kept as ψ with density ψ²·scale: unit vectors (scale 1/dξ) or ∫ψ² dξ = 1 (scale 1).
  */
-function densitySeries(grid: Grid, potential: PotentialFn, a: number, b: number, method?: EigenMethod): { series: ChebyshevSeries; samples: Float64Array[] } {
+function densitySeries(grid: Grid, potential: PotentialFn, a: number, b: number, method?: EigenMethod, coupling?: number): { series: ChebyshevSeries; samples: Float64Array[] } {
   const u = new Float64Array(grid.n);
+  const nonlinear = coupling !== undefined;
+  const scale = nonlinear ? 1 : 1 / grid.dx;
   const solve = (lambda: number, guess: Float64Array | null): Float64Array => {
     potential(lambda, u);
+    if (nonlinear) return gpeGroundState(grid, u, coupling, { guess: guess ?? undefined, residualTol: GPE_FIELD_RESIDUAL }).psi;
     return guess ? groundStateNear(grid, u, guess).vector : lowestEigenpairs(grid, u, 1, { method }).vectors[0];
   };
   let states: Float64Array[] = [];
   for (const l of chebyshevPoints(a, b, CHEBYSHEV_START)) states.push(solve(l, states[states.length - 1] ?? null));
   for (let n = CHEBYSHEV_START; ; n *= 2) {
-    const samples = states.map((psi) => densityOf(grid, psi));
+    const samples = states.map((psi) => Float64Array.from(psi, (v) => v * v * scale));
     const series = ChebyshevSeries.fromSamples(a, b, samples);
     let maxRho = 0;
     for (const r of samples) for (const v of r) maxRho = Math.max(maxRho, v);
@@ -283,7 +305,7 @@ export function groundStateField(grid: Grid, potential: PotentialFn, lambdaStart
   const floor = opts.clipFloor ?? CLIP_FLOOR;
   if (!(floor > 0 && floor < 1)) throw new RangeError(`painted ground state: clipFloor = ${floor} must be in (0, 1)`);
   const a = Math.min(lambdaStart, lambdaEnd), b = Math.max(lambdaStart, lambdaEnd);
-  const { series, samples } = densitySeries(grid, potential, a, b, opts.eigenMethod);
+  const { series, samples } = densitySeries(grid, potential, a, b, opts.eigenMethod, opts.coupling);
   const d1 = series.derivative(), d2 = d1.derivative();
   let maxRho = 0;
   for (const r of samples) for (const v of r) maxRho = Math.max(maxRho, v);

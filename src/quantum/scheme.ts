@@ -10,10 +10,16 @@ import type { Grid } from '../spectral/grid.ts';
 import type { KrylovExp } from '../integrate/krylov.ts';
 import type { OperatorTerms, SpectralOperator } from './hamiltonian.ts';
 
-/** the time-dependent Hamiltonian; `terms` may point out.v / out.w at arrays it reuses on the next call */
+/**
+ * The time-dependent Hamiltonian; `terms` may point out.v / out.w at arrays it reuses on the next call. With
+ * `meanField` = γ ≠ 0 the equation is the Gross–Pitaevskii one, H(s)ψ + γ|ψ_j|²ψ_j on the propagated vector ψ_j
+ * (γ = g/dξ for a unit vector whose density is |ψ_j|²/dξ; quantum/gpe.ts, physics.md §10); each state is then its
+ * own condensate.
+ */
 export interface DrivenHamiltonian {
   readonly grid: Grid;
   terms(s: number, out: OperatorTerms): void;
+  readonly meanField?: number;
 }
 
 /** what a scheme instance may use: the grid, the matrix-free operator and a Krylov exponential */

@@ -15,7 +15,7 @@ import { kdvDrive, labPotential, NO_ERRORS, Propagator, type DriveErrors, type P
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
 import { GaussianBlur } from '../spectral/blur.ts';
-import { groundStateField, paintedDrive, velocityDrive, type VelocityField } from './painted.ts';
+import { groundStateField, paintedDrive, recordRange, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
 import { boundStateEstimate, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
@@ -396,18 +396,6 @@ function fieldOf(ctx: DriveContext, drive: 'painted' | 'painted_ground'): Veloci
   const f = ctx.fields[drive];
   if (!f) throw new RangeError(`verify: drive "${drive}" needs ${drive === 'painted' ? 'the option paintedField' : 'its ground-state field'}`);
   return f;
-}
-
-/** the drive with every potential it hands out folded into range (the painted potential's extremes) */
-function recordRange(H: DrivenHamiltonian, range: { min: number; max: number }): DrivenHamiltonian {
-  return {
-    grid: H.grid,
-    terms(s: number, out: OperatorTerms): void {
-      H.terms(s, out);
-      const v = out.v;
-      if (v) for (let j = 0; j < v.length; j++) { if (v[j] < range.min) range.min = v[j]; if (v[j] > range.max) range.max = v[j]; }
-    },
-  };
 }
 
 /**

@@ -53,10 +53,11 @@ function print(r: SweepResult, dir: string, opts: CommonOptions): number {
         rows.push([`shortest duration${at}, ${a.drive}`, a.duration === null ? 'not reached' : `${num(a.duration)} ${t}${a.interpolated !== null ? ` (crossing ≈ ${num(a.interpolated)} ${t})` : ''}${inBudget}`]);
       }
     }
-    for (const tol of (f.shard ? [] : f.tolerances ?? []).filter((x) => x.subject === 'ground' && x.drive === 'cd')) {
+    const atomsKey = (k: string) => k === 'verify.interaction.atoms';
+    for (const tol of (f.shard ? [] : f.tolerances ?? []).filter((x) => x.subject === 'ground' && (atomsKey(x.key) ? x.drive.startsWith('condensate_') : x.drive === 'cd'))) {
       const axisUnit = f.plan.axes.find((a) => a.key === tol.key)?.unit ?? '';
       const unit = axisUnit === 'as in the config' ? '' : axisUnit;
-      rows.push([`tolerance (${tol.side} side), cd`, tol.tolerance === null ? 'not met at the smallest swept value' : `${num(tol.tolerance)} ${unit}${tol.interpolated !== null ? ` (crossing ≈ ${num(tol.interpolated)} ${unit})` : ''}`]);
+      rows.push([atomsKey(tol.key) ? `most atoms within the target, ${tol.drive}` : `tolerance (${tol.side} side), cd`, tol.tolerance === null ? 'not met at the smallest swept value' : `${num(tol.tolerance)} ${unit}${tol.interpolated !== null ? ` (crossing ≈ ${num(tol.interpolated)} ${unit})` : ''}`]);
     }
     rows.push(['outputs', dir]);
     process.stdout.write(`isotrap sweep\n${table(rows)}\n`);

@@ -35,6 +35,35 @@ export interface PaintedSection {
   gauge_check: { drive: string; states: number; painted: number[]; velocity: number[]; max_difference: number; budget: number; passed: boolean }[];
 }
 
+/** a condensate driven through the same sequence (verify.interaction; quantum/condensate.ts): per drive the overlap
+ *  with the final nonlinear ground state and the excess mean-field energy per atom (energy unit) */
+export interface InteractionSection {
+  definition: string;
+  atoms: number;
+  /** g₁D per atom (energy unit × length unit) and the dimensionless g = g₁D N/(E₀ℓ) */
+  g1d: number;
+  g1d_unit: string;
+  coupling_natural: number;
+  scattering_length_nm: number | null;
+  transverse_hz: number | null;
+  /** a⊥ = √(ħ/mω⊥) (length unit) and C a_s/a⊥, the omitted confinement-induced term (Olshanii 1998) */
+  transverse_length: number | null;
+  olshanii_correction: number | null;
+  /** chemical potential and mean-field energy per atom of the nonlinear ground states (energy unit) */
+  start: { chemical_potential: number; energy: number };
+  end: { chemical_potential: number; energy: number };
+  /** largest mean-field energy g₁D N|ψ|² of the two ground states (energy unit) */
+  peak_interaction: number;
+  drives: { drive: 'cd' | 'painted_condensate' | 'bare'; meaning: string; fidelity: number; excess: number; steps: number }[];
+  /** lowest and highest value of the condensate's painted potential (energy unit); null without that drive */
+  painted_range: null | { deepest: number; highest: number };
+  /** the single-particle ground state under the same drives (this file's states[0]) */
+  single_particle: { fidelity_cd: number; fidelity_bare: number; excess_cd: number; excess_bare: number };
+  /** the cubic correction ends closer to the condensate's ground state than the bare drive */
+  correction_helps: boolean;
+  verdict: string;
+}
+
 export const VERIFY_FORMAT = 'isotrap-verify/1';
 
 export interface VerifyFile {
@@ -88,6 +117,8 @@ export interface VerifyFile {
     noise_rms?: number; noise_correlation?: number | null; noise_shots?: number; noise_seed?: number; energy_unit?: string; noise_rule?: string;
     noise_spread?: { drive: string; fidelity_std: number[]; worst_fidelity: number[]; min_fidelity_per_shot: number[] }[];
   };
+  /** the condensate (verify.interaction); files of earlier versions have no key */
+  interaction?: null | InteractionSection;
   accepted: boolean;
   acceptance: string;
   seconds: number;
@@ -145,6 +176,18 @@ const verifySchema: z.ZodType<VerifyFile> = z.object({
       ground_clip: z.object({ clip_density: num, unit: str, clipped_weight: num, chebyshev_degree: num, rule: str }).nullable(),
       variational_fit: z.object({ states: num, temperature: num.nullable(), frames: num, basis: z.array(str), max_residual: num, rule: str }).nullable().optional(),
       gauge_check: z.array(z.object({ drive: str, states: num, painted: nums, velocity: nums, max_difference: num, budget: num, passed: z.boolean() })),
+    })
+    .nullable()
+    .optional(),
+  interaction: z
+    .object({
+      definition: str, atoms: num, g1d: num, g1d_unit: str, coupling_natural: num, scattering_length_nm: num.nullable(), transverse_hz: num.nullable(),
+      transverse_length: num.nullable(), olshanii_correction: num.nullable(),
+      start: z.object({ chemical_potential: num, energy: num }), end: z.object({ chemical_potential: num, energy: num }), peak_interaction: num,
+      drives: z.array(z.object({ drive: z.enum(['cd', 'painted_condensate', 'bare']), meaning: str, fidelity: num, excess: num, steps: num })),
+      painted_range: z.object({ deepest: num, highest: num }).nullable(),
+      single_particle: z.object({ fidelity_cd: num, fidelity_bare: num, excess_cd: num, excess_bare: num }),
+      correction_helps: z.boolean(), verdict: str,
     })
     .nullable()
     .optional(),

@@ -65,10 +65,12 @@ function marks(file: SweepFile, series: LineSeries[]): LineSeries[] {
   return out;
 }
 
-/** the interpolated tolerances of the cd drive's ground state in a one-key error sweep (sweep.json tolerances) */
+/** the interpolated tolerances of the cd drive's ground state in a one-key error sweep, of the condensate's in an
+ *  atom-number sweep (sweep.json tolerances) */
 function toleranceMarks(file: SweepFile): { drive: string; side: 'positive' | 'negative'; value: number }[] {
   if (file.plan.axes.length !== 1) return [];
-  return (file.tolerances ?? []).filter((t) => t.drive === 'cd' && t.subject === 'ground' && t.interpolated !== null).map((t) => ({ drive: t.drive, side: t.side, value: t.interpolated as number }));
+  const drive = file.plan.axes[0].key === 'verify.interaction.atoms' ? 'condensate_cd' : 'cd';
+  return (file.tolerances ?? []).filter((t) => t.drive === drive && t.subject === 'ground' && t.interpolated !== null).map((t) => ({ drive: t.drive, side: t.side, value: t.interpolated as number }));
 }
 
 function fidelityFigure(file: SweepFile, size: FigureSize): ReportFigure {
