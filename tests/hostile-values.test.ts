@@ -20,6 +20,10 @@ protocol: { duration: 1, ramp: sin2 }
 verify: { states: 2, temperature: 0.5, fermions: 1, tolerance: 1e-8 }
 `;
 
+/** the scenario with a condensate of one ⁸⁷Rb-like atom (verify.interaction), for the interaction's keys only (the
+ *  condensate adds three drives to every run) */
+const SCENARIO_INTERACTION = SCENARIO.replace('tolerance: 1e-8 }', 'tolerance: 1e-8, interaction: { atoms: 1, scattering_length_bohr: 100, transverse_hz: 1000 } }');
+
 /** every numeric key of the scenario with its value, as [section, key, value] */
 const KEYS: [string, string, number][] = [
   ['units', 'mass_u', 87],
@@ -37,12 +41,15 @@ const KEYS: [string, string, number][] = [
   ['verify', 'temperature', 0.5],
   ['verify', 'fermions', 1],
   ['verify', 'tolerance', 1e-8],
+  ['interaction', 'atoms', 1],
+  ['interaction', 'scattering_length_bohr', 100],
+  ['interaction', 'transverse_hz', 1000],
 ];
 
 /** the scenario with one key's value replaced */
 function withValue(section: string, key: string, value: number): string {
-  const text = SCENARIO;
-  const line = new RegExp(`^(${section}: \\{.*?\\b${key}: )[^,}]+`, 'm');
+  const text = section === 'interaction' ? SCENARIO_INTERACTION : SCENARIO;
+  const line = new RegExp(`\\b(${section}: \\{.*?\\b${key}: )[^,}]+`, 'm');
   expect(text).toMatch(line);
   return text.replace(line, `$1${value}`);
 }

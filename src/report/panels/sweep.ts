@@ -75,7 +75,8 @@ function toleranceMarks(file: SweepFile): { drive: string; side: 'positive' | 'n
 
 function fidelityFigure(file: SweepFile, size: FigureSize): ReportFigure {
   const a = file.plan.axes[0];
-  const series = [...seriesOf(file, (d) => d.states[0]?.fidelity ?? null, 'ground state'), ...seriesOf(file, (d) => d.min_fidelity, 'worst state')];
+  // a condensate drive has one state, its nonlinear ground state: no separate worst-state series
+  const series = [...seriesOf(file, (d) => d.states[0]?.fidelity ?? null, 'ground state'), ...seriesOf(file, (d) => (d.drive.startsWith('condensate_') ? null : d.min_fidelity), 'worst state')];
   const adiabatic = a.key === 'protocol.duration'
     ? file.adiabatic_time === null ? ' The bare drive does not reach the target in the swept range (no adiabatic time marked).' : ` The vertical line marks the adiabatic time ${file.adiabatic_time.toPrecision(4)} ${a.unit}: where the bare drive's ground state reaches the target (log–log interpolated between swept points).`
     : toleranceMarks(file).length > 0 ? ' The vertical lines mark the tolerance: where the corrected drive\'s ground state crosses the target (log–log interpolated between swept points).' : '';
