@@ -99,13 +99,13 @@ describe('the condensate drives through a designed split', () => {
 
   it('the painted protocol of the condensate keeps its nonlinear ground state to 1 − 1e-6 at every coupling, where the cubic correction degrades (fast-forward: Masuda, PRA 86, 063624, 2012)', () => {
     const losses: number[] = [];
-    for (const g of [0.5, 2, 8]) {
+    for (const g of [-1, 0.5, 2, 8]) {
       const r = driveCondensate({ grid, potential, ramp, coupling: g, tol: 1e-10, drives: ['cd', 'painted_condensate'] });
       const painted = r.drives.find((d) => d.drive === 'painted_condensate')!;
       const cd = r.drives.find((d) => d.drive === 'cd')!;
       expect(1 - painted.fidelity).toBeLessThan(1e-6);
       expect(painted.excess).toBeLessThan(1e-5);
-      losses.push(1 - cd.fidelity);
+      if (g > 0) losses.push(1 - cd.fidelity);
     }
     // the cubic correction is exact only at g = 0: its loss grows with the coupling
     expect(losses[0]).toBeGreaterThan(1e-5);
@@ -127,10 +127,13 @@ const NATURAL = (interaction: Record<string, number>, duration = 0.5) => ({
 describe('verify.interaction', () => {
   it('g → 0 reproduces the single-particle verify to the time-stepping budget, with μ = E = −4 (Pöschl–Teller, physics.md §4)', async () => {
     // a ramp slow enough that the bare drive keeps part of the ground state: both fidelities are informative
-    const config = parseConfig(stringify(NATURAL({ atoms: 1000, g1d: 0 }, 2)), 'zero.yaml', tmpdir());
+    // g = g₁D N = 1e-3 E₀ℓ: the mean-field path of the propagator runs, and its effect (≈ 4e-9 in 1 − F, second
+    // order in g) lies inside the budget
+    const config = parseConfig(stringify(NATURAL({ atoms: 1000, g1d: 1e-6 }, 2)), 'zero.yaml', tmpdir());
     const v = (await runVerify(config, runDesign(config), { traceSamples: 0 })).file;
     const c = v.interaction!;
     const by = (d: string) => c.drives.find((x) => x.drive === d)!;
+    expect(c.coupling_natural).toBeCloseTo(1e-3, 12);
     expect(v.states[0].fidelity_bare).toBeGreaterThan(0.1);
     expect(v.states[0].fidelity_bare).toBeLessThan(0.9);
     // the budget verify.tolerance = 1e-8 bounds each infidelity; a fidelity moves by at most 2√tol (common practice)
@@ -138,8 +141,9 @@ describe('verify.interaction', () => {
     expect(Math.abs(by('bare').fidelity - v.states[0].fidelity_bare)).toBeLessThan(2e-4);
     expect(Math.abs(by('bare').excess - v.states[0].excess_bare)).toBeLessThan(1e-3 * Math.abs(v.states[0].excess_bare));
     // the sequence starts from the flow of −6 sech²: its ground level −4 E₀ (Landau & Lifshitz, QM §23)
-    expect(Math.abs(c.start.chemical_potential + 4)).toBeLessThan(1e-6);
-    expect(Math.abs(c.start.energy + 4)).toBeLessThan(1e-6);
+    // (first-order shifts g∫ψ⁴ ≈ 1e-3 × 0.75 in μ and half that in E)
+    expect(Math.abs(c.start.chemical_potential + 4)).toBeLessThan(2e-3);
+    expect(Math.abs(c.start.energy + 4)).toBeLessThan(1e-3);
     expect(1 - by('painted_condensate').fidelity).toBeLessThan(1e-6);
     // the report's figure shows the summary's numbers
     const fig = condensateFigure(v)!;
@@ -148,7 +152,7 @@ describe('verify.interaction', () => {
 
   it('lab units: g₁D = 2ħω⊥a_s of ⁸⁷Rb in a 2π × 1 kHz guide, reported in h·kHz·µm (Olshanii, PRL 81, 938, 1998)', async () => {
     // a_s = 100.4 a₀ for ⁸⁷Rb |F = 1, m = −1⟩ (van Kempen et al., PRL 88, 093201, 2002; from memory); a₀ = 5.29177210903e-11 m
-    // (CODATA 2018). a⊥ = √(ħ/mω⊥) = 0.3406 µm for m = 86.909180531 u.
+    // (CODATA 2018). a⊥ = √(ħ/mω⊥) = 0.34103 µm for m = 86.909180531 u.
     const aS = 100.4 * 5.29177210903e-11;
     const m = 86.909180531 * 1.66053906660e-27;
     const omega = 2 * Math.PI * 1000;
@@ -156,7 +160,7 @@ describe('verify.interaction', () => {
     const c = guideCoupling(m, 1000, aS);
     expect(Math.abs(c.g1dJm / g1dJm - 1)).toBeLessThan(1e-9);
     expect(Math.abs(c.aPerpM - Math.sqrt(HBAR / (m * omega)))).toBeLessThan(1e-15);
-    expect(Math.abs(c.aPerpM * 1e6 - 0.3406)).toBeLessThan(5e-4);
+    expect(Math.abs(c.aPerpM * 1e6 - 0.34103)).toBeLessThan(1e-5);
     // the same through a lab config: g₁D per atom in h·kHz·µm = g1dJm / (h·1e3 · 1e-6)
     const doc = {
       name: 'rb-condensate',
@@ -172,8 +176,10 @@ describe('verify.interaction', () => {
     const it = v.interaction!;
     expect(it.g1d_unit).toBe('h·kHz·µm');
     expect(Math.abs(it.g1d / (g1dJm / (6.62607015e-34 * 1e3 * 1e-6)) - 1)).toBeLessThan(1e-9);
-    expect(Math.abs(it.transverse_length! - 0.3406)).toBeLessThan(5e-4);
-    expect(it.olshanii_correction).toBeCloseTo((1.0326 * aS) / (it.transverse_length! * 1e-6), 3);
+    expect(Math.abs(it.transverse_length! - 0.34103)).toBeLessThan(1e-5);
+    // Olshanii's C = 1.0326 with the relative-motion length √(2ħ/mω⊥) = √2 a⊥ (Bergeman, Moore & Olshanii, PRL 91,
+    // 163201, 2003; from memory): x = 1.0326 × 5.313 nm / 482.3 nm = 0.01138
+    expect(Math.abs(it.olshanii_correction! - 0.01138)).toBeLessThan(2e-5);
     expect(1 - it.drives.find((d) => d.drive === 'painted_condensate')!.fidelity).toBeLessThan(1e-6);
   }, 60_000);
 

@@ -78,6 +78,17 @@ describe('GPE ground state: the linear limit', () => {
   });
 });
 
+describe('GPE ground state on a fine grid', () => {
+  it('N = 2048 on L = 30: the residual budget follows the round-off floor (floorFactor) and E = ω/2 at g = 0 (Landau & Lifshitz, QM §23)', () => {
+    // k_max² = (π·2048/30)² ≈ 4.6e4: the floor 8ε k_max² ≈ 8e-11 lies above the default 1e-10 budget's reach
+    const omega = 1.5;
+    const grid = makeGrid(30, 2048);
+    expect(() => gpeGroundState(grid, trap(grid, omega), 0, { residualTol: 1e-11 })).toThrow(NumericalError);
+    const r = gpeGroundState(grid, trap(grid, omega), 0, { residualTol: 1e-11, floorFactor: 4 });
+    expect(Math.abs(r.energy - omega / 2)).toBeLessThan(1e-9);
+  });
+});
+
 describe('GPE ground state: Thomas–Fermi limit', () => {
   it('μ = (3gω/8)^{2/3} and the inverted-parabola density at μ ≈ 50ω, to 1 % (Pitaevskii & Stringari, Bose–Einstein Condensation, 2003; physics.md §10)', () => {
     // physics.md §10: μ = (3 g₁D N ω √m / (4√2))^{2/3}, n(x) = (μ − ½mω²x²)/g₁D with n = N|ψ|².

@@ -342,7 +342,7 @@ export const interactionSchema = strictSection(
     scattering_length_nm: numberWhere('must be a number from -1e4 to 1e4 (s-wave scattering length a_s in nm; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e4).optional(),
     scattering_length_bohr: numberWhere('must be a number from -1e5 to 1e5 (s-wave scattering length a_s in Bohr radii; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e5).optional(),
     transverse_hz: numberWhere('must be a number from 1 to 1e8 (transverse trap frequency ω⊥/2π in Hz)', (v) => Number.isFinite(v) && v >= 1 && v <= 1e8).optional(),
-    g1d: numberWhere('must be a finite number (1-D coupling per atom g₁D in the energy unit × the length unit; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e12).optional(),
+    g1d: numberWhere('must be a number from -1e12 to 1e12 (1-D coupling per atom g₁D in the energy unit × the length unit; negative: attractive)', (v) => Number.isFinite(v) && Math.abs(v) <= 1e12).optional(),
   },
   'verify.interaction',
 ).superRefine((v, ctx) => {

@@ -11,7 +11,7 @@ import { makeRamp } from '../protocol/ramp.ts';
 import { sequencePotential } from '../flow/dense.ts';
 import { CONDENSATE_DRIVES, CondensateNotHeldError, condensateGrounds, driveCondensate, type CondensateDrive, type CondensateGrounds } from '../quantum/condensate.ts';
 import { assertPaintableRamp, RampNotPaintableError } from '../quantum/painted.ts';
-import { BOHR_RADIUS_M, guideCoupling, OLSHANII_WARN } from '../units/interaction.ts';
+import { BOHR_RADIUS_M, COLLAPSE_RATIO, guideCoupling, LIEB_LINIGER_MAX, OLSHANII_WARN, TRANSVERSE_FRACTION } from '../units/interaction.ts';
 import type { UnitSystem } from '../units/scales.ts';
 import type { DesignResult } from './design.ts';
 
@@ -41,11 +41,13 @@ interface Coupling {
   olshanii: number | null;
   /** ħω⊥/E₀ */
   transverseEnergy: number | null;
+  /** |a_s|/a⊥ per atom (N|a_s|/a⊥ is the collapse parameter of an attractive condensate) */
+  collapsePerAtom: number | null;
 }
 
 /** g₁D per atom in natural units from the config (units/interaction.ts); UserError naming the key otherwise */
 function couplingOf(config: Config, units: UnitSystem, it: InteractionInput['interaction']): Coupling {
-  if (it.g1d !== undefined) return { perAtom: units.energyToNatural(it.g1d) * units.lengthToNatural(1), scatteringNm: null, transverseHz: null, aPerp: null, olshanii: null, transverseEnergy: null };
+  if (it.g1d !== undefined) return { perAtom: units.energyToNatural(it.g1d) * units.lengthToNatural(1), scatteringNm: null, transverseHz: null, aPerp: null, olshanii: null, transverseEnergy: null, collapsePerAtom: null };
   const key = it.scattering_length_nm !== undefined ? 'scattering_length_nm' : 'scattering_length_bohr';
   if (units.system !== 'lab' || units.massKg === null) {
     throw new UserError(`${config.meta.source}: verify.interaction.${key} needs lab units (units.system: lab, with a species): natural units carry no mass or metre; give verify.interaction.g1d (E₀·ℓ per atom) instead`);
@@ -53,6 +55,9 @@ function couplingOf(config: Config, units: UnitSystem, it: InteractionInput['int
   const aS = it.scattering_length_nm !== undefined ? it.scattering_length_nm * 1e-9 : (it.scattering_length_bohr as number) * BOHR_RADIUS_M;
   const hz = it.transverse_hz as number;
   const c = guideCoupling(units.massKg, hz, aS);
+  if (c.olshaniiCorrection >= 1) {
+    throw new UserError(`${config.meta.source}: verify.interaction.${key} = ${it[key]} is not allowed with transverse_hz = ${hz}: C·a_s/a_rel = ${c.olshaniiCorrection.toPrecision(3)} ≥ 1 puts the atoms at or beyond the confinement-induced resonance, where g₁D = 2ħω⊥a_s does not hold (Olshanii, PRL 81, 938, 1998); allowed: C·a_s/a_rel < 1, i.e. a smaller scattering length or a weaker guide`);
+  }
   return {
     perAtom: c.g1dJm / (units.E0 * units.ell),
     scatteringNm: aS * 1e9,
@@ -60,6 +65,7 @@ function couplingOf(config: Config, units: UnitSystem, it: InteractionInput['int
     aPerp: units.lengthFromNatural(c.aPerpM / units.ell),
     olshanii: c.olshaniiCorrection,
     transverseEnergy: c.transverseEnergyJ / units.E0,
+    collapsePerAtom: Math.abs(aS) / c.aPerpM,
   };
 }
 
@@ -111,12 +117,14 @@ function interactionSection(config: Config, design: DesignResult, input: Interac
   }
   const potential = sequencePotential({ dense: design.run.dense.data(), lo: 0, hi: input.lambdaEnd });
   const r = driveCondensate({ grid, potential, ramp, coupling: g, tol: input.tolerance, drift: units.lengthToNatural(config.flow.drift), drives, onProgress, grounds });
-  const peak = Math.max(...[r.start, r.end].map((s) => g * s.psi.reduce((m, v) => Math.max(m, v * v), 0)));
+  const peakDensity = Math.max(...[r.start, r.end].map((s) => s.psi.reduce((m, v) => Math.max(m, v * v), 0)));
+  const peak = g * peakDensity;
   const cd = r.drives.find((d) => d.drive === 'cd');
   const bare = r.drives.find((d) => d.drive === 'bare');
   const painted = r.drives.find((d) => d.drive === 'painted_condensate');
   if (!cd || !bare) throw new Error('internal error: condensate drives missing');
-  const lossCd = 1 - cd.fidelity, lossBare = 1 - bare.fidelity;
+  // round-off can put F a few ulps above 1
+  const lossCd = Math.max(0, 1 - cd.fidelity), lossBare = Math.max(0, 1 - bare.fidelity);
   const helps = lossCd < lossBare;
   const fmt = (x: number) => x.toExponential(2);
   const paintedNote = painted ? `; the painted condensate protocol reaches 1 − F = ${fmt(1 - painted.fidelity)}` : '';
@@ -128,10 +136,22 @@ function interactionSection(config: Config, design: DesignResult, input: Interac
   if (lossCd > CONDENSATE_ACCEPT_INFIDELITY) warnings.push(`condensate: ${verdict}`);
   if (painted && 1 - painted.fidelity > CONDENSATE_ACCEPT_INFIDELITY) warnings.push(`condensate: the painted condensate protocol ends at 1 − F = ${fmt(1 - painted.fidelity)}, above ${CONDENSATE_ACCEPT_INFIDELITY.toExponential(0)} (clipped density weight ${fmt(r.field?.clippedWeight ?? 0)}; a finer grid or a longer duration may help)`);
   if (c.olshanii !== null && Math.abs(c.olshanii) > OLSHANII_WARN) {
-    warnings.push(`condensate: a_s is not small against the transverse oscillator length a⊥ = ${c.aPerp?.toPrecision(3)} ${units.labels.length}: C·a_s/a⊥ = ${c.olshanii.toPrecision(3)}, so g₁D = 2ħω⊥a_s is off by about ${(100 * Math.abs(c.olshanii)).toPrecision(2)} % (Olshanii, PRL 81, 938, 1998)`);
+    warnings.push(`condensate: a_s is not small against the transverse oscillator length a⊥ = ${c.aPerp?.toPrecision(3)} ${units.labels.length}: C·a_s/a_rel = ${c.olshanii.toPrecision(3)} (a_rel = √2 a⊥), so g₁D = 2ħω⊥a_s is off by about ${(100 * Math.abs(c.olshanii / (1 - c.olshanii))).toPrecision(2)} % (Olshanii, PRL 81, 938, 1998)`);
   }
-  if (c.transverseEnergy !== null && peak > c.transverseEnergy) {
-    warnings.push(`condensate: the mean-field energy g₁D·n reaches ${units.energyFromNatural(peak).toPrecision(3)} ${E}, above ħω⊥ = ${units.energyFromNatural(c.transverseEnergy).toPrecision(3)} ${E}: the transverse motion is not frozen and the 1-D equation is outside its range`);
+  if (c.transverseEnergy !== null && Math.abs(peak) > TRANSVERSE_FRACTION * c.transverseEnergy) {
+    warnings.push(`condensate: the mean-field energy |g₁D|·n reaches ${units.energyFromNatural(Math.abs(peak)).toPrecision(3)} ${E}, more than ${TRANSVERSE_FRACTION} of ħω⊥ = ${units.energyFromNatural(c.transverseEnergy).toPrecision(3)} ${E}: the transverse motion is not frozen and the 1-D equation (which needs g₁D·n ≪ ħω⊥) loses accuracy; the transverse breathing is not modelled`);
+  }
+  if (g < 0 && c.collapsePerAtom !== null && it.atoms * c.collapsePerAtom > 0.5 * COLLAPSE_RATIO) {
+    warnings.push(`condensate: an attractive condensate with N|a_s|/a⊥ = ${(it.atoms * c.collapsePerAtom).toPrecision(3)} is near or beyond the 3-D collapse at ≈ ${COLLAPSE_RATIO} (Gammal, Frederico & Tomio, PRA 64, 055602, 2001), which the 1-D equation cannot show`);
+  }
+  // Lieb–Liniger γ = m|g₁D|/(ħ²n), natural units (ħ = 1, m = ½): |g₁D per atom|/(2n), n = N ψ² atoms per ℓ
+  const lieb = peakDensity > 0 ? Math.abs(c.perAtom) / (2 * it.atoms * peakDensity) : Infinity;
+  if (g !== 0 && lieb > LIEB_LINIGER_MAX) {
+    warnings.push(`condensate: ${it.atoms} atoms are too few for the mean-field (Gross–Pitaevskii) equation: the Lieb–Liniger parameter m g₁D/(ħ²n) = ${lieb.toPrecision(3)} at the peak density exceeds ${LIEB_LINIGER_MAX} (it must be ≪ 1: Lieb & Liniger 1963; Petrov, Shlyapnikov & Walraven, PRL 85, 3745, 2000); read the condensate results as indicative`);
+  }
+  const errs = config.verify?.errors;
+  if (errs && (errs.correction_scale !== 0 || errs.depth !== 0 || errs.timing !== 0 || errs.psf !== 0 || errs.noise_rms !== 0)) {
+    warnings.push('condensate: verify.errors apply to the single-particle drives only; the condensate drives run the design as built, so the single-particle column beside them includes the errors and the condensate columns do not');
   }
   const range = painted?.range ? { deepest: units.energyFromNatural(painted.range.min), highest: units.energyFromNatural(painted.range.max) } : null;
   const startDepth = -Math.min(...design.ctx.u0);

@@ -588,7 +588,8 @@ export function sweepTolerances(plan: SweepPlan, points: readonly SweepPoint[]):
   const key = plan.axes[axis].key;
   const other = plan.axes.length === 2 ? 1 - axis : -1;
   const ran = points.filter((p) => p.error === null);
-  const drives = [...new Set(ran.flatMap((p) => p.drives.map((d) => d.drive)))];
+  // the atom number changes only the condensate's drives
+  const drives = [...new Set(ran.flatMap((p) => p.drives.map((d) => d.drive)))].filter((d) => key !== 'verify.interaction.atoms' || d.startsWith('condensate_'));
   const out: SweepTolerance[] = [];
   for (const o of other < 0 ? [null] : plan.axes[other].values) {
     const group = ran.filter((p) => o === null || p.values[other] === o);

@@ -357,7 +357,9 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
   }
   file.seconds = (performance.now() - started) / 1000;
   file.summary_rows = summaryRows(file, natural);
-  for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare])]) {
+  const ia = file.interaction;
+  const condensateNumbers = ia ? [ia.g1d, ia.start.chemical_potential, ia.start.energy, ia.end.chemical_potential, ia.end.energy, ia.peak_interaction, ...ia.drives.flatMap((d) => [d.fidelity, d.excess])] : [];
+  for (const x of [...file.states.flatMap((s) => [s.fidelity_cd, s.fidelity_bare, s.excess_cd, s.excess_bare]), ...condensateNumbers]) {
     if (!Number.isFinite(x)) throw new Error('internal error: a non-finite verify result');
   }
   return { config, file, traces: { data: traces.data, shape: traces.shape }, natural };

@@ -20,7 +20,7 @@ import type { Grid } from '../spectral/grid.ts';
 import type { Ramp } from '../protocol/ramp.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { gpeEnergy, gpeGroundState, type GpeGroundState } from './gpe.ts';
-import { groundStateField, paintedDrive, recordRange, SEAM_START, type GroundStateField } from './painted.ts';
+import { GPE_FLOOR_FACTOR, groundStateField, paintedDrive, recordRange, SEAM_START, type GroundStateField } from './painted.ts';
 import { kdvDrive, Propagator, type PotentialFn } from './propagator.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
 import { overlapReal } from './observables.ts';
@@ -103,7 +103,7 @@ function assertHeld(grid: Grid, u: Float64Array, s: CondensateGround, where: 'st
 
 /** the nonlinear ground state of u, started from the linear one (gpe.ts) */
 export function condensateGround(grid: Grid, u: Float64Array, g: number): CondensateGround {
-  const r: GpeGroundState = gpeGroundState(grid, u, g);
+  const r: GpeGroundState = gpeGroundState(grid, u, g, { floorFactor: GPE_FLOOR_FACTOR });
   return { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual };
 }
 
@@ -151,7 +151,7 @@ export function driveCondensate(opts: CondensateOptions): CondensateResult {
     const range = { min: Infinity, max: -Infinity };
     let H: DrivenHamiltonian;
     if (drive === 'painted_condensate') {
-      report((i + 0.5) * share, 'condensate: painted field');
+      report((i + 1) * share, 'condensate: painted field');
       field = field ?? groundStateField(grid, potential, 0, ramp.lambdaEnd, { coupling: g });
       H = recordRange(paintedDrive(grid, potential, field, ramp, 0), range);
     } else H = kdvDrive(grid, potential, ramp, drive === 'cd' ? 1 : 0, opts.drift ?? 0);

@@ -69,6 +69,9 @@ export interface GpeGroundOptions {
   residualTol?: number;
   /** iteration cap (default 200 000) */
   maxIterations?: number;
+  /** when given, the budget is max(residualTol, floorFactor × the round-off floor of Hψ on this grid) instead of a
+   *  NumericalError when the floor lies above residualTol (fine grids: the floor grows as k_max²) */
+  floorFactor?: number;
 }
 
 export interface GpeGroundState {
@@ -149,8 +152,9 @@ export function gpeGroundState(grid: Grid, u: Float64Array, g: number, opts: Gpe
     res = Math.sqrt(s2 * dx);
     if (!Number.isFinite(res)) throw new NumericalError(`gpe ground state: the gradient flow diverged at iteration ${it} (g = ${g}, N = ${n}, L = ${grid.length})`);
     const floor = ROUNDOFF_FACTOR * Number.EPSILON * (grid.kMax * grid.kMax + umax + Math.abs(g) * dmax);
-    if (res <= tol) return { psi, mu, energy: gpeEnergy(grid, u, g, complexFromReal(psi)), residual: res, iterations: it };
-    if (floor > tol) throw new NumericalError(`gpe ground state: residual budget ${tol} is below the round-off floor ≈ ${floor.toExponential(2)} of Hψ on this grid (N = ${n}, L = ${grid.length}); allowed: residualTol > ${floor.toExponential(2)}`);
+    const budget = opts.floorFactor !== undefined ? Math.max(tol, opts.floorFactor * floor) : tol;
+    if (res <= budget) return { psi, mu, energy: gpeEnergy(grid, u, g, complexFromReal(psi)), residual: res, iterations: it };
+    if (floor > budget) throw new NumericalError(`gpe ground state: residual budget ${tol} is below the round-off floor ≈ ${floor.toExponential(2)} of Hψ on this grid (N = ${n}, L = ${grid.length}); allowed: residualTol > ${floor.toExponential(2)}`);
     if (it === maxIt) break;
     const sigma = Math.max(SIGMA_MIN, SIGMA_FRACTION * (bmax - mu));
     fft.forward(r, spec);

@@ -255,6 +255,9 @@ export interface GroundStateFieldOptions {
 /** residual budget of the nonlinear ground states behind a condensate's density series: the density then carries
  *  an error ≈ residual/gap ≈ 1e-12 of max ρ, below CHEBYSHEV_TAIL (common practice) */
 export const GPE_FIELD_RESIDUAL = 1e-11;
+/** on fine grids the round-off floor of Hψ (gpe.ts, ∝ k_max²) exceeds GPE_FIELD_RESIDUAL: the budget is then this
+ *  multiple of the floor (common practice) */
+export const GPE_FLOOR_FACTOR = 4;
 
 export interface GroundStateField extends VelocityField {
   lambdaStart: number;
@@ -279,7 +282,7 @@ function densitySeries(grid: Grid, potential: PotentialFn, a: number, b: number,
   const scale = nonlinear ? 1 : 1 / grid.dx;
   const solve = (lambda: number, guess: Float64Array | null): Float64Array => {
     potential(lambda, u);
-    if (nonlinear) return gpeGroundState(grid, u, coupling, { guess: guess ?? undefined, residualTol: GPE_FIELD_RESIDUAL }).psi;
+    if (nonlinear) return gpeGroundState(grid, u, coupling, { guess: guess ?? undefined, residualTol: GPE_FIELD_RESIDUAL, floorFactor: GPE_FLOOR_FACTOR }).psi;
     return guess ? groundStateNear(grid, u, guess).vector : lowestEigenpairs(grid, u, 1, { method }).vectors[0];
   };
   let states: Float64Array[] = [];

@@ -46,7 +46,8 @@ export interface InteractionSection {
   coupling_natural: number;
   scattering_length_nm: number | null;
   transverse_hz: number | null;
-  /** a⊥ = √(ħ/mω⊥) (length unit) and C a_s/a⊥, the omitted confinement-induced term (Olshanii 1998) */
+  /** a⊥ = √(ħ/mω⊥) (length unit) and x = C a_s/(√2 a⊥), the omitted confinement-induced term (relative error
+   *  x/(1 − x); Olshanii 1998) */
   transverse_length: number | null;
   olshanii_correction: number | null;
   /** chemical potential and mean-field energy per atom of the nonlinear ground states (energy unit) */
