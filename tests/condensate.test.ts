@@ -11,7 +11,7 @@ import { runVerify } from '../src/jobs/verify.ts';
 import { planSweep, runSweep } from '../src/jobs/sweep.ts';
 import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
-import { driveCondensate, withMeanField } from '../src/quantum/condensate.ts';
+import { CondensateNotHeldError, condensateGrounds, driveCondensate, withMeanField } from '../src/quantum/condensate.ts';
 import { gpeEnergy, gpeEvolve, gpeGroundState } from '../src/quantum/gpe.ts';
 import { bareTerms } from '../src/quantum/hamiltonian.ts';
 import { paintedDrive, groundStateField } from '../src/quantum/painted.ts';
@@ -89,6 +89,21 @@ describe('the production propagator with the mean-field term', () => {
     for (let j = 0; j < 2 * grid.n; j++) worst = Math.max(worst, Math.abs(a[j] / Math.sqrt(grid.dx) - b[j]));
     expect(worst).toBeLessThan(1e-8);
   }, 30_000);
+});
+
+describe('the trap must hold the condensate along the whole sequence', () => {
+  it('a well that nearly closes half-way is refused there, though it holds the condensate at both ends', () => {
+    // u = −6(1 − 0.99 sin πλ) sech²ξ: bound state −4 E₀ at the ends (Pöschl–Teller), a well only 0.06 E₀ deep half-way,
+    // where μ of a condensate with g = 3 lies above the rim u = 0 (invented test potential)
+    const grid = makeGrid(30, 256);
+    const potential = (l: number, out: Float64Array) => { for (let j = 0; j < grid.n; j++) out[j] = (-6 * (1 - 0.99 * Math.sin(Math.PI * l))) / Math.cosh(grid.x[j]) ** 2; };
+    const err = (() => { try { condensateGrounds(grid, potential, 1, 3); return null; } catch (e) { return e; } })();
+    expect(err).toBeInstanceOf(CondensateNotHeldError);
+    expect((err as CondensateNotHeldError).where).toMatch(/^λ = /);
+    // the same condensate is held by the fixed well at both ends
+    const fixed = (_l: number, out: Float64Array) => potential(0, out);
+    expect(() => condensateGrounds(grid, fixed, 1, 3)).not.toThrow();
+  });
 });
 
 describe('the condensate drives through a designed split', () => {

@@ -95,7 +95,7 @@ export function prepareInteraction(config: Config, design: DesignResult, input: 
   } catch (err) {
     if (!(err instanceof CondensateNotHeldError)) throw err;
     const mu = `μ = ${units.energyFromNatural(err.mu).toPrecision(4)} ${E}, potential at the box edge ${units.energyFromNatural(err.rim).toPrecision(4)} ${E}`;
-    throw new UserError(`${config.meta.source}: verify.interaction.atoms = ${it.atoms} is not allowed with this coupling and trap: the condensate at the ${err.where} of the sequence is not held by the trap (${mu}; weight ${err.edgeWeight.toExponential(2)} near the box edge); allowed: fewer atoms or a weaker coupling (verify.interaction), a deeper trap, or a longer box (grid.length)`);
+    throw new UserError(`${config.meta.source}: verify.interaction.atoms = ${it.atoms} is not allowed with this coupling and trap: the condensate at ${err.where} of the sequence is not held by the trap (${mu}; weight ${err.edgeWeight.toExponential(2)} near the box edge); allowed: fewer atoms or a weaker coupling (verify.interaction), a deeper trap, or a longer box (grid.length)`);
   }
   return { finish: (single, onProgress) => interactionSection(config, design, input, c, grounds, single, onProgress) };
 }
@@ -185,12 +185,12 @@ function interactionSection(config: Config, design: DesignResult, input: Interac
 /** the summary rows of the condensate, beside the single-particle ones */
 export function interactionRows(s: InteractionSection, energy: string): SummaryRow[] {
   const by = (d: string) => s.drives.find((x) => x.drive === d);
-  const fid = (d: string) => { const x = by(d); return x ? (1 - x.fidelity).toExponential(2) : '—'; };
+  const fid = (d: string) => { const x = by(d); return x ? Math.max(0, 1 - x.fidelity).toExponential(3) : '—'; };
   const exc = (d: string) => { const x = by(d); return x ? x.excess.toExponential(3) : '—'; };
   return [
     { key: `condensate: ${s.atoms} atoms, g₁D = ${s.g1d.toPrecision(4)} ${s.g1d_unit} per atom; chemical potential start / end`, value: `${s.start.chemical_potential.toPrecision(5)} / ${s.end.chemical_potential.toPrecision(5)}`, unit: energy },
     { key: 'condensate infidelity 1 − F: cubic / painted (condensate) / bare', value: `${fid('cd')} / ${fid('painted_condensate')} / ${fid('bare')}` },
-    { key: 'single particle, same drives: ground-state infidelity cubic / bare', value: `${(1 - s.single_particle.fidelity_cd).toExponential(2)} / ${(1 - s.single_particle.fidelity_bare).toExponential(2)}` },
+    { key: 'single particle, same drives: ground-state infidelity cubic / bare', value: `${Math.max(0, 1 - s.single_particle.fidelity_cd).toExponential(3)} / ${Math.max(0, 1 - s.single_particle.fidelity_bare).toExponential(3)}` },
     { key: 'condensate excess energy per atom: cubic / painted / bare', value: `${exc('cd')} / ${exc('painted_condensate')} / ${exc('bare')}`, unit: energy },
     ...(s.painted_range ? [{ key: 'condensate painted potential lowest … highest', value: `${s.painted_range.deepest.toPrecision(4)} … ${s.painted_range.highest.toPrecision(4)}`, unit: energy }] : []),
     { key: 'condensate verdict', value: s.verdict },

@@ -306,6 +306,8 @@ function condensateRecords(file: Awaited<ReturnType<typeof runVerify>>['file']):
     drive: name[d.drive],
     min_fidelity: d.fidelity,
     ...(d.drive === 'painted_condensate' && c.painted_range ? { painted_depth: -c.painted_range.deepest } : {}),
+    // the condensate's cubic drive is the single-particle correction: the same size against budget.correction
+    ...(d.drive === 'cd' ? { correction_size: file.cd_strength.max_leakage } : {}),
     states: [{ index: 0, energy: c.end.energy, fidelity: d.fidelity, excess: d.excess }],
     thermal: null,
     fermions: null,
@@ -342,7 +344,8 @@ export async function runPoint(task: PointTask, cache: DesignCache): Promise<Swe
     if ((config as LatticeConfig).lattice) {
       try {
         const coupling = largestLatticeCoupling(config as LatticeConfig);
-        for (const d of point.drives) if (d.drive === 'cd') d.lattice_coupling = coupling;
+        // the condensate's cubic drive is the same correction
+        for (const d of point.drives) if (d.drive === 'cd' || d.drive === 'condensate_cd') d.lattice_coupling = coupling;
       } catch (err) {
         if (!(err instanceof UserError)) throw err;
         point.warnings.push(`the lattice coupling (budget.coupling) was not evaluated: ${err.message}`);

@@ -85,14 +85,14 @@ export const EDGE_WEIGHT_MAX = 1e-6;
 /** the condensate is not held by the trap: its chemical potential reaches the potential at the box edge, or its
  *  density reaches the edge band of the box */
 export class CondensateNotHeldError extends RangeError {
-  constructor(readonly where: 'start' | 'end', readonly mu: number, readonly rim: number, readonly edgeWeight: number) {
-    super(`the condensate's nonlinear ground state at the ${where} is not held by the trap: chemical potential μ = ${mu.toPrecision(4)} against the potential ${rim.toPrecision(4)} at the box edge, weight ${edgeWeight.toExponential(2)} within ${(100 * (1 - SEAM_START)).toFixed(0)} % of the box edge (at most ${EDGE_WEIGHT_MAX})`);
+  constructor(readonly where: string, readonly mu: number, readonly rim: number, readonly edgeWeight: number) {
+    super(`the condensate's nonlinear ground state at ${where} is not held by the trap: chemical potential μ = ${mu.toPrecision(4)} against the potential ${rim.toPrecision(4)} at the box edge, weight ${edgeWeight.toExponential(2)} within ${(100 * (1 - SEAM_START)).toFixed(0)} % of the box edge (at most ${EDGE_WEIGHT_MAX})`);
     this.name = 'CondensateNotHeldError';
   }
 }
 
 /** CondensateNotHeldError unless μ lies below the potential at the box edge and the edge band holds no weight */
-function assertHeld(grid: Grid, u: Float64Array, s: CondensateGround, where: 'start' | 'end'): void {
+function assertHeld(grid: Grid, u: Float64Array, s: CondensateGround, where: string): void {
   const half = grid.length / 2;
   let w = 0;
   for (let j = 0; j < grid.n; j++) if (Math.abs(grid.x[j]) > SEAM_START * half) w += s.psi[j] * s.psi[j];
@@ -114,15 +114,30 @@ export interface CondensateGrounds {
   u1: Float64Array;
 }
 
-/** the nonlinear ground states at λ = 0 and λ_end, each checked to be held by the trap (CondensateNotHeldError) */
+/** interior λ at which the trap must hold the condensate too (evenly spaced; a well that opens on the way would
+ *  spill it; common practice) */
+export const HOLD_SAMPLES = 7;
+
+/**
+ * The nonlinear ground states at λ = 0 and λ_end, and the trap's hold on the condensate checked there and at
+ * HOLD_SAMPLES interior λ (each ground state started from its neighbour's; CondensateNotHeldError).
+ */
 export function condensateGrounds(grid: Grid, potential: PotentialFn, lambdaEnd: number, g: number): CondensateGrounds {
-  const u0 = new Float64Array(grid.n), u1 = new Float64Array(grid.n);
+  const u0 = new Float64Array(grid.n), u1 = new Float64Array(grid.n), u = new Float64Array(grid.n);
   potential(0, u0);
   const start = condensateGround(grid, u0, g);
-  assertHeld(grid, u0, start, 'start');
+  assertHeld(grid, u0, start, 'the start');
+  let guess = start.psi;
+  for (let i = 1; i <= HOLD_SAMPLES; i++) {
+    const lambda = (lambdaEnd * i) / (HOLD_SAMPLES + 1);
+    potential(lambda, u);
+    const r = gpeGroundState(grid, u, g, { guess, floorFactor: GPE_FLOOR_FACTOR });
+    assertHeld(grid, u, { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual }, `λ = ${lambda.toPrecision(4)}`);
+    guess = r.psi;
+  }
   potential(lambdaEnd, u1);
   const end = condensateGround(grid, u1, g);
-  assertHeld(grid, u1, end, 'end');
+  assertHeld(grid, u1, end, 'the end');
   return { start, end, u1 };
 }
 

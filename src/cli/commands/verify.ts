@@ -33,12 +33,12 @@ function verifyRows(v: VerifyFile): [string, string][] {
   if (v.classical) rows.push(['classical sequence + correction', `to λ = ${num(v.classical.lambda_reached)} (t = ${num(v.classical.time_reached)} ${v.units.time}): worst fidelity ${num(Math.min(...v.classical.fidelity), 6)}`]);
   const ia = v.interaction;
   if (ia) {
-    const loss = (d: string) => { const x = ia.drives.find((e) => e.drive === d); return x ? `${num(1 - x.fidelity, 3)} (excess ${num(x.excess, 3)} ${E}/atom)` : '—'; };
+    const loss = (d: string) => { const x = ia.drives.find((e) => e.drive === d); return x ? `${Math.max(0, 1 - x.fidelity).toExponential(3)} (excess ${x.excess.toExponential(3)} ${E}/atom)` : '—'; };
     rows.push([`condensate (${ia.atoms} atoms)`, `g₁D = ${num(ia.g1d, 4)} ${ia.g1d_unit}/atom; μ = ${num(ia.start.chemical_potential, 5)} → ${num(ia.end.chemical_potential, 5)} ${E}`]);
     rows.push(['condensate 1 − F: cubic', loss('cd')]);
     rows.push(['condensate 1 − F: painted (condensate)', loss('painted_condensate')]);
     rows.push(['condensate 1 − F: bare', loss('bare')]);
-    rows.push(['single particle 1 − F: cubic / bare', `${num(1 - ia.single_particle.fidelity_cd, 3)} / ${num(1 - ia.single_particle.fidelity_bare, 3)}`]);
+    rows.push(['single particle 1 − F: cubic / bare', `${Math.max(0, 1 - ia.single_particle.fidelity_cd).toExponential(3)} / ${Math.max(0, 1 - ia.single_particle.fidelity_bare).toExponential(3)}`]);
     rows.push(['condensate verdict', ia.verdict]);
   }
   rows.push(['isospectrality drift', `${num(v.isospectral_drift, 3)} ${E}`]);
