@@ -1,5 +1,5 @@
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -8,6 +8,12 @@ import { complexFromReal } from '../src/linalg/complex.ts';
 import { parseConfig, parseYaml } from '../src/io/config.ts';
 import { runDesign } from '../src/jobs/design.ts';
 import { runVerify } from '../src/jobs/verify.ts';
+import { runPipeline } from '../src/jobs/run.ts';
+import { EXPORT_JSON, runExport, writeExportOutputs } from '../src/jobs/export.ts';
+import { readExportFile } from '../src/io/formats/export.ts';
+import { decodeNpy } from '../src/io/npy.ts';
+import { makeContext } from '../src/jobs/context.ts';
+import { assertVerifyAffordable } from '../src/io/cost.ts';
 import { planSweep, runSweep } from '../src/jobs/sweep.ts';
 import { twoSolitonFromSech2 } from '../src/flow/solitons.ts';
 import { makeRamp } from '../src/protocol/ramp.ts';
@@ -139,6 +145,17 @@ const NATURAL = (interaction: Record<string, number>, duration = 0.5) => ({
   verify: { states: 2, interaction },
 });
 
+/** an illustrative ⁸⁷Rb condensate (invented): 20 atoms, a_s = 100.4 a₀, a 2π × 1 kHz guide, a 0.35 h·kHz well split */
+const RB_DOC = {
+  name: 'rb-condensate',
+  units: { system: 'lab', species: 'Rb87', length_unit_um: 1, energy: 'h*kHz' },
+  grid: { length: 30, points: 256 },
+  initial: { kind: 'sech2', depth: 0.3489, width: 1, center: 0 },
+  flow: { lambda_end: 0.25, frames: 11 },
+  protocol: { duration: 1.37, ramp: 'sin2' },
+  verify: { states: 2, interaction: { atoms: 20, scattering_length_bohr: 100.4, transverse_hz: 1000 } },
+};
+
 describe('verify.interaction', () => {
   it('g → 0 reproduces the single-particle verify to the time-stepping budget, with μ = E = −4 (Pöschl–Teller, physics.md §4)', async () => {
     // a ramp slow enough that the bare drive keeps part of the ground state: both fidelities are informative
@@ -165,6 +182,20 @@ describe('verify.interaction', () => {
     expect(fig.caption).toContain(c.verdict);
   }, 60_000);
 
+  it('states the condensate in its cost estimate, and its progress never goes back and reaches 1 through the condensate stages', async () => {
+    const config = parseConfig(stringify(NATURAL({ atoms: 100, g1d: 0.02 })), 'progress.yaml', tmpdir());
+    const context = makeContext(config);
+    const withIt = assertVerifyAffordable(config, context, 0.5, 0)!;
+    const without = assertVerifyAffordable(parseConfig(stringify({ ...NATURAL({}), verify: { states: 2 } }), 'plain.yaml', tmpdir()), context, 0.5, 0)!;
+    expect(withIt.text).toContain('a condensate: 3 one-state drives');
+    expect(withIt.seconds).toBeGreaterThan(without.seconds);
+    const seen: { f: number; stage: string }[] = [];
+    await runVerify(config, runDesign(config), { traceSamples: 0, onProgress: (f, stage) => seen.push({ f, stage }) });
+    for (let i = 1; i < seen.length; i++) expect(seen[i].f, `${seen[i - 1].stage} → ${seen[i].stage}`).toBeGreaterThanOrEqual(seen[i - 1].f);
+    expect(seen[seen.length - 1].f).toBe(1);
+    for (const st of ['condensate: cd drive', 'condensate: painted field', 'condensate: bare drive']) expect(seen.some((x) => x.stage === st)).toBe(true);
+  }, 60_000);
+
   it('lab units: g₁D = 2ħω⊥a_s of ⁸⁷Rb in a 2π × 1 kHz guide, reported in h·kHz·µm (Olshanii, PRL 81, 938, 1998)', async () => {
     // a_s = 100.4 a₀ for ⁸⁷Rb |F = 1, m = −1⟩ (van Kempen et al., PRL 88, 093201, 2002; from memory); a₀ = 5.29177210903e-11 m
     // (CODATA 2018). a⊥ = √(ħ/mω⊥) = 0.34103 µm for m = 86.909180531 u.
@@ -177,16 +208,7 @@ describe('verify.interaction', () => {
     expect(Math.abs(c.aPerpM - Math.sqrt(HBAR / (m * omega)))).toBeLessThan(1e-15);
     expect(Math.abs(c.aPerpM * 1e6 - 0.34103)).toBeLessThan(1e-5);
     // the same through a lab config: g₁D per atom in h·kHz·µm = g1dJm / (h·1e3 · 1e-6)
-    const doc = {
-      name: 'rb-condensate',
-      units: { system: 'lab', species: 'Rb87', length_unit_um: 1, energy: 'h*kHz' },
-      grid: { length: 30, points: 256 },
-      initial: { kind: 'sech2', depth: 0.3489, width: 1, center: 0 },
-      flow: { lambda_end: 0.25, frames: 11 },
-      protocol: { duration: 1.37, ramp: 'sin2' },
-      verify: { states: 2, interaction: { atoms: 20, scattering_length_bohr: 100.4, transverse_hz: 1000 } },
-    };
-    const config = parseConfig(stringify(doc), 'rb.yaml', tmpdir());
+    const config = parseConfig(stringify(RB_DOC), 'rb.yaml', tmpdir());
     const v = (await runVerify(config, runDesign(config), { traceSamples: 0 })).file;
     const it = v.interaction!;
     expect(it.g1d_unit).toBe('h·kHz·µm');
@@ -197,6 +219,35 @@ describe('verify.interaction', () => {
     expect(Math.abs(it.olshanii_correction! - 0.01138)).toBeLessThan(2e-5);
     expect(1 - it.drives.find((d) => d.drive === 'painted_condensate')!.fidelity).toBeLessThan(1e-6);
   }, 60_000);
+
+  it('isotrap export writes the condensate\'s painted protocol: V at both ends (λ̇ = λ̈ = 0 there), V + V_loc between, within verify\'s range; --psf-um simulates it blurred', async () => {
+    const root = mkdtempSync(join(tmpdir(), 'isotrap-condensate-export-'));
+    const dir = join(root, 'run');
+    await runPipeline(parseConfig(stringify(RB_DOC), 'rb.yaml', root), { dir, force: false, report: false, toolVersion: 'test' });
+    const verify = JSON.parse(readFileSync(join(dir, 'verify.json'), 'utf8'));
+    const r = runExport(dir, { samples: 9, csv: false, out: join(root, 'out'), force: false });
+    writeExportOutputs(r, false);
+    const side = readExportFile(join(root, 'out', EXPORT_JSON));
+    const a = side.arrays.painted_condensate;
+    expect(a.file).toBe('export-painted-condensate.npy');
+    const painted = decodeNpy(readFileSync(join(root, 'out', a.file)), a.file);
+    const v = r.arrays.potential.data;
+    const n = 256;
+    const depth = Math.abs(side.painted!.start.deepest);
+    const diff = (i: number) => { let d = 0; for (let j = 0; j < n; j++) d = Math.max(d, Math.abs(painted.data[i * n + j] - v[i * n + j])); return d; };
+    expect(diff(0)).toBeLessThan(1e-12 * depth);
+    expect(diff(8)).toBeLessThan(1e-12 * depth);
+    expect(diff(4)).toBeGreaterThan(1e-3 * depth);
+    // the exported samples lie inside the range verify recorded at every stage of its propagation
+    const entry = side.painted!.drives.find((d) => d.drive === 'painted_condensate')!;
+    expect(entry.deepest).toBeGreaterThanOrEqual(verify.interaction.painted_range.deepest - 1e-9 * depth);
+    expect(entry.highest).toBeLessThanOrEqual(verify.interaction.painted_range.highest + 1e-9 * depth);
+    const blurred = runExport(dir, { samples: 5, csv: false, out: join(root, 'psf'), force: false, psfUm: 0.05 });
+    const b = blurred.file.painted!.psf!.drives.find((d) => d.drive === 'painted_condensate')!;
+    expect(b.fidelity_unblurred[0]).toBeCloseTo(verify.interaction.drives.find((d: { drive: string }) => d.drive === 'painted_condensate').fidelity, 12);
+    expect(b.lost).toBeGreaterThanOrEqual(0);
+    expect(b.lost).toBeLessThan(1e-2);
+  }, 120_000);
 
   it('refuses bad interaction sections with exit 2, naming the key, writing nothing', () => {
     const dir = mkdtempSync(join(tmpdir(), 'isotrap-condensate-'));

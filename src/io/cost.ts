@@ -148,6 +148,7 @@ function verifySize(config: Config, start: StartSize, durationNatural: number, t
     ramp: config.protocol?.ramp ?? 'sin2', duration: durationNatural, states, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples, u0: start.u0,
     shots: verifyShots(config),
+    condensate: config.verify?.interaction !== undefined,
   };
 }
 
@@ -194,7 +195,7 @@ export function assertVerifyAffordable(config: Config, start: StartSize, duratio
   const estimate = {
     seconds: cost.seconds,
     text: `estimated ${approxDuration(cost.seconds)} ${ON_LAPTOP} (${cost.eigenSolves} eigen solves of ${levels} levels by ${method}; ` +
-      `${drives.corrected + drives.bare} drives of ${states} states, ${approxCount(cost.ladderSteps)} steps for the corrected ones${(size.shots ?? 1) > 1 ? `; all of it once per shot, ${size.shots} shots (verify.errors.noise_shots)` : ''}; ${approxBytes(cost.bytes)})`,
+      `${drives.corrected + drives.bare} drives of ${states} states, ${approxCount(cost.ladderSteps)} steps for the corrected ones${(size.shots ?? 1) > 1 ? `; all of it once per shot, ${size.shots} shots (verify.errors.noise_shots)` : ''}${size.condensate ? '; a condensate: 3 one-state drives and its painted field' : ''}; ${approxBytes(cost.bytes)})`,
   };
   if (limitsLifted() || (cost.seconds <= TIME_LIMIT_SECONDS && cost.bytes <= MEMORY_LIMIT_BYTES)) return estimate;
   const statesKey = given !== undefined ? `verify.states = ${given}` : `verify.states (not given: the bound states + 4 ≈ ${states})`;

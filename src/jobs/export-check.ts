@@ -37,7 +37,7 @@ import {
 /** the check files an export reads */
 export const CHECK_SOURCES = ['check.json', 'input.npy'] as const;
 /** the painted drives of a check export: the variational a = 0 field and the ground state's exact field */
-const CHECK_PAINTED: readonly PaintedDriveKind[] = ['painted', 'painted_ground'];
+const CHECK_PAINTED: readonly ('painted' | 'painted_ground')[] = ['painted', 'painted_ground'];
 /** infidelity budget of the painted drives' simulation (verify's default) */
 const CHECK_PAINTED_TOL = 1e-8;
 

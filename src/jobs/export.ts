@@ -15,7 +15,7 @@ import { checkOutputDir } from '../io/files.ts';
 import { readNpyFile } from '../io/formats/read.ts';
 import { readSequenceFile } from '../io/formats/sequence.ts';
 import { readVerifyFile } from '../io/formats/verify.ts';
-import { EXPORT_FORMAT, recordedSettings, type ExportArray, type ExportFile } from '../io/formats/export.ts';
+import { EXPORT_FORMAT, PAINTED_WHAT, recordedSettings, type ExportArray, type ExportFile } from '../io/formats/export.ts';
 import { unitSystemOf } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { requireOneConfig, verifiedEntries, writeRun } from '../io/run-folder.ts';
@@ -23,6 +23,7 @@ import { integrateFlow, naturalFlowEquation, type FlowEquation, type FlowRun } f
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, type VelocityField } from '../quantum/painted.ts';
+import { driveCondensate } from '../quantum/condensate.ts';
 import { emptyTerms } from '../quantum/hamiltonian.ts';
 import { verifySequence } from '../quantum/verify.ts';
 import { variationalFieldOf } from './verify.ts';
@@ -48,7 +49,7 @@ export const EXPORT_NPY = {
 } as const;
 export const EXPORT_CSV = ['export-potential.csv', 'export-ramp.csv'] as const;
 /** the painted potentials' .npy files by drive (written when verify.json holds painted drives) */
-export const PAINTED_NPY = { painted: 'export-painted.npy', painted_ground: 'export-painted-ground.npy' } as const;
+export const PAINTED_NPY = { painted: 'export-painted.npy', painted_ground: 'export-painted-ground.npy', painted_condensate: 'export-painted-condensate.npy' } as const;
 /** blurring that changes a painted frame by more than this fraction of its range means features narrower than the
  *  optics resolve (common practice: 1 % of the painted range) */
 export const PSF_CHANGE_WARN = 0.01;
@@ -244,7 +245,9 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
   const [nF, n] = stored.shape;
   if (stored.shape.length !== 2 || nF !== seq.lambda.length || n !== seq.x.length) throw new UserError(`${join(dir, 'potential.npy')}: shape [${stored.shape.join(', ')}] does not match sequence.json (${seq.lambda.length} frames × ${seq.x.length} points)`);
   assertExportAffordable(sampling.times.length, n, opts.csv, sampling.option);
-  const paintedDrives = (verify.painted?.drives ?? []).map((d) => d.drive);
+  // the condensate's painted protocol (verify.interaction) is the potential a lab with a condensate would program
+  const condensate = verify.interaction?.drives.find((d) => d.drive === 'painted_condensate') ? verify.interaction : null;
+  const paintedDrives: PaintedDriveKind[] = [...(verify.painted?.drives ?? []).map((d) => d.drive), ...(condensate ? ['painted_condensate' as const] : [])];
   validatePsf(opts.psfUm, L.length, paintedDrives.length > 0, join(dir, 'verify.json'));
   const outDir = opts.out ?? dir;
   checkOutputDir(outDir, { force: opts.force, produces: exportProduces(opts.csv, [...EXPORT_FIGURE_IDS, ...paintedDrives.map((d) => PAINTED_FIGURE_IDS[d])], paintedDrives) });
@@ -263,9 +266,15 @@ export function runExport(dir: string, opts: ExportOptions): ExportResult {
     const verifyConfig = (seq.config.verify ?? {}) as { tolerance?: number };
     paintedOut = paintedPotentials({
       grid, units, potential, drives: paintedDrives, start: series.potential.subarray(0, n), rampKind, duration, lambdaEnd, drift: eq.drift, times: sampling.times,
-      fieldOf: (drive) => (drive === 'painted_ground' ? groundStateField(grid, potential, 0, lambdaEnd) : variationalFieldOf(grid, { lambdas: series.lambdas, frames: series.frames, dense: series.dense }, occupied, temperature)),
+      fieldOf: (drive) => drive === 'painted_ground' ? groundStateField(grid, potential, 0, lambdaEnd)
+        : drive === 'painted_condensate' ? groundStateField(grid, potential, 0, lambdaEnd, { coupling: condensate?.coupling_natural })
+          : variationalFieldOf(grid, { lambdas: series.lambdas, frames: series.frames, dense: series.dense }, occupied, temperature),
       states: verify.states.length, tol: verifyConfig.tolerance ?? 1e-8,
-      unblurred: Object.fromEntries((verify.painted?.drives ?? []).map((d) => [d.drive, d.fidelity])),
+      unblurred: {
+        ...Object.fromEntries((verify.painted?.drives ?? []).map((d) => [d.drive, d.fidelity])),
+        ...(condensate ? { painted_condensate: [condensate.drives.find((d) => d.drive === 'painted_condensate')?.fidelity ?? NaN] } : {}),
+      },
+      coupling: condensate?.coupling_natural,
       psfUm: opts.psfUm, onProgress: opts.onProgress,
     });
   }
@@ -440,6 +449,8 @@ export interface PaintedInput {
   unblurred: Partial<Record<PaintedDriveKind, number[]>>;
   /** what the painted arrays are (export.json painted.meaning); default: verify.json's painted drives */
   meaning?: string;
+  /** g = g₁D N/(E₀ℓ) of the condensate whose painted protocol is among the drives (verify.interaction) */
+  coupling?: number;
   psfUm?: number;
   onProgress?: (fraction: number, stage: string) => void;
 }
@@ -504,7 +515,7 @@ export function paintedPotentials(p: PaintedInput): { arrays: ExportResult['pain
     warnings,
     fields,
     section: {
-      meaning: p.meaning ?? 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json; with --psf-um the blurred potential the optics would make',
+      meaning: p.meaning ?? 'V(x, t_i) + V_loc(x, t_i): the pure potential that replaces the correction (physics.md §7), one array per painted drive of verify.json (painted_condensate: the condensate’s own painted protocol of verify.interaction); with --psf-um the blurred potential the optics would make',
       drives: entries,
       start,
       psf,
@@ -517,15 +528,24 @@ export function paintedPotentials(p: PaintedInput): { arrays: ExportResult['pain
 function blurredFidelities(p: PaintedInput, psfUm: number, fields: Map<string, VelocityField>): NonNullable<NonNullable<ExportFile['painted']>['psf']> {
   const { grid, units, drives } = p;
   p.onProgress?.(drives.length / (drives.length + 1), 'blurred painted drives');
-  const res = verifySequence({
-    grid, potential: p.potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: units.timeToNatural(p.duration), drift: p.drift, states: p.states, tol: p.tol,
-    drives: [...drives], paintedField: fields.get('painted'), blur: units.lengthToNatural(psfUm), gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
-  });
+  const T = units.timeToNatural(p.duration);
+  const width = units.lengthToNatural(psfUm);
+  const single = drives.filter((d): d is 'painted' | 'painted_ground' => d !== 'painted_condensate');
+  const runs: { drive: string; fidelity: number[] }[] = single.length === 0 ? [] : verifySequence({
+    grid, potential: p.potential, lambdaEnd: p.lambdaEnd, ramp: p.rampKind, duration: T, drift: p.drift, states: p.states, tol: p.tol,
+    drives: single, paintedField: fields.get('painted'), blur: width, gaugeCheck: false, traceSamples: 0, strengthSamples: 0,
+  }).drives;
+  const field = fields.get('painted_condensate');
+  if (field && p.coupling !== undefined) {
+    // the condensate's painted protocol blurred as one image, from its nonlinear ground state (quantum/condensate.ts)
+    const c = driveCondensate({ grid, potential: p.potential, ramp: makeRamp(p.rampKind, T, p.lambdaEnd), coupling: p.coupling, tol: p.tol, drives: ['painted_condensate'], field, blur: new GaussianBlur(grid, width) });
+    runs.push({ drive: 'painted_condensate', fidelity: [c.drives[0].fidelity] });
+  }
   return {
     radius: psfUm,
     unit: 'µm',
     rule: 'Gaussian point-spread function of 1/e² intensity radius w, Fourier multiplier exp(−k²w²/8), applied to the whole painted potential V + V_loc at every time (spectral/blur.ts)',
-    drives: res.drives.map((d) => {
+    drives: runs.map((d) => {
       const unblurred = p.unblurred[d.drive as PaintedDriveKind] ?? [];
       return { drive: d.drive, fidelity: d.fidelity, fidelity_unblurred: unblurred, lost: Math.max(0, ...d.fidelity.map((f, i) => (unblurred[i] ?? f) - f)) };
     }),
@@ -534,6 +554,5 @@ function blurredFidelities(p: PaintedInput, psfUm: number, fields: Map<string, V
 
 /** the sidecar's entries of the painted arrays */
 export function paintedIndex(drives: readonly (keyof typeof PAINTED_NPY)[], m: number, n: number, L: UnitSystem['labels']): Record<string, ExportArray> {
-  const what = { painted: 'the best momentum-linear correction ½{g, p} painted as a potential', painted_ground: 'the one-state exact correction of the ground state painted as a potential' };
-  return Object.fromEntries(drives.map((d) => [d, { file: PAINTED_NPY[d], shape: [m, n], axes: [`time sample t_i (${m})`, `position x_j (${n})`], unit: L.energy, meaning: `V(x_j, t_i) + V_loc(x_j, t_i) of ${what[d]}: the trap to program instead of V and the correction` }]));
+  return Object.fromEntries(drives.map((d) => [d, { file: PAINTED_NPY[d], shape: [m, n], axes: [`time sample t_i (${m})`, `position x_j (${n})`], unit: L.energy, meaning: `V(x_j, t_i) + V_loc(x_j, t_i) of ${PAINTED_WHAT[d]} painted as a potential: the trap to program instead of V and the correction` }]));
 }

@@ -24,7 +24,7 @@ import { readLatticeFile } from '../io/formats/lattice.ts';
 import { checkFigures, checkSummaryRows } from '../report/panels/check.ts';
 import { verifyFigures } from '../report/panels/verify.ts';
 import { exportFigures, exportSummaryRows, type ExportSeries } from '../report/panels/export.ts';
-import { readExportFile, type ExportFile } from '../io/formats/export.ts';
+import { PAINTED_EXPORT_DRIVES, readExportFile, type ExportFile, type PaintedExportDrive } from '../io/formats/export.ts';
 import { EXPORT_FIGURE_IDS, EXPORT_JSON, EXPORT_NPY, PAINTED_FIGURE_IDS, PAINTED_NPY } from './export.ts';
 
 export { compareFigures } from '../report/panels/compare.ts';
@@ -57,7 +57,7 @@ export interface ReportOptions {
 
 /** the files of a finished output folder that the report reads */
 interface OutputFolder {
-  exported: { file: ExportFile; series: ExportSeries; painted: Partial<Record<'painted' | 'painted_ground', FrameArray>> } | null;
+  exported: { file: ExportFile; series: ExportSeries; painted: Partial<Record<PaintedExportDrive, FrameArray>> } | null;
   seq: SequenceFile;
   potential: FrameArray;
   verify: VerifyFile | null;
@@ -98,10 +98,10 @@ function readFolder(dir: string): OutputFolder {
 const EXPORT_FIGURE_ARRAYS = ['x', 't', 'lambda', 'lambda_rate', 'cubic', 'velocity'] as const;
 
 /** export.json and the arrays its figures read, by the names the sidecar gives */
-function readExport(dir: string): { file: ExportFile; series: ExportSeries; painted: Partial<Record<'painted' | 'painted_ground', FrameArray>> } {
+function readExport(dir: string): { file: ExportFile; series: ExportSeries; painted: Partial<Record<PaintedExportDrive, FrameArray>> } {
   const file = readExportFile(join(dir, EXPORT_JSON));
   const read = (k: (typeof EXPORT_FIGURE_ARRAYS)[number]) => readNpyFile(join(dir, EXPORT_NPY[k]));
-  const painted = Object.fromEntries((['painted', 'painted_ground'] as const).filter((d) => file.arrays[d]).map((d) => [d, readNpyFile(join(dir, PAINTED_NPY[d]))]));
+  const painted = Object.fromEntries(PAINTED_EXPORT_DRIVES.filter((d) => file.arrays[d]).map((d) => [d, readNpyFile(join(dir, PAINTED_NPY[d]))]));
   return { file, series: { x: read('x'), t: read('t'), lambda: read('lambda'), lambda_rate: read('lambda_rate'), cubic: read('cubic'), velocity: read('velocity') }, painted };
 }
 

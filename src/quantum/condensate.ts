@@ -20,7 +20,8 @@ import type { Grid } from '../spectral/grid.ts';
 import type { Ramp } from '../protocol/ramp.ts';
 import { complexFromReal } from '../linalg/complex.ts';
 import { gpeEnergy, gpeGroundState, type GpeGroundState } from './gpe.ts';
-import { GPE_FLOOR_FACTOR, groundStateField, paintedDrive, recordRange, SEAM_START, type GroundStateField } from './painted.ts';
+import { GPE_FLOOR_FACTOR, groundStateField, paintedDrive, recordRange, SEAM_START, type GroundStateField, type VelocityField } from './painted.ts';
+import type { GaussianBlur } from '../spectral/blur.ts';
 import { kdvDrive, Propagator, type PotentialFn } from './propagator.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
 import { overlapReal } from './observables.ts';
@@ -44,6 +45,10 @@ export interface CondensateOptions {
   onProgress?: (fraction: number, stage: string) => void;
   /** the ground states when already solved (condensateGrounds with the same potential, ramp and coupling) */
   grounds?: CondensateGrounds;
+  /** the condensate's painted field when already built (groundStateField with this coupling) */
+  field?: VelocityField;
+  /** the optics' point-spread function applied to the whole painted potential (spectral/blur.ts; default none) */
+  blur?: GaussianBlur | null;
 }
 
 export interface CondensateGround {
@@ -159,7 +164,7 @@ export function driveCondensate(opts: CondensateOptions): CondensateResult {
   const root = Math.sqrt(grid.dx);
   const init = complexFromReal(start.psi.map((v) => v * root));
   const target = end.psi.map((v) => v * root);
-  let field: GroundStateField | null = null;
+  let field: VelocityField | null = null;
   const prop = new Propagator(grid);
   const results: CondensateDriveResult[] = [];
   drives.forEach((drive, i) => {
@@ -167,8 +172,8 @@ export function driveCondensate(opts: CondensateOptions): CondensateResult {
     let H: DrivenHamiltonian;
     if (drive === 'painted_condensate') {
       report((i + 1) * share, 'condensate: painted field');
-      field = field ?? groundStateField(grid, potential, 0, ramp.lambdaEnd, { coupling: g });
-      H = recordRange(paintedDrive(grid, potential, field, ramp, 0), range);
+      field = field ?? opts.field ?? groundStateField(grid, potential, 0, ramp.lambdaEnd, { coupling: g });
+      H = recordRange(paintedDrive(grid, potential, field, ramp, 0, opts.blur ?? null), range);
     } else H = kdvDrive(grid, potential, ramp, drive === 'cd' ? 1 : 0, opts.drift ?? 0);
     const stage = `condensate: ${drive} drive`;
     const res = prop.propagate(withMeanField(H, g), [init], 0, ramp.duration, {
@@ -189,6 +194,6 @@ export function driveCondensate(opts: CondensateOptions): CondensateResult {
     });
   });
   report(1, 'condensate done');
-  const f = field as GroundStateField | null;
-  return { coupling: g, start, end, drives: results, field: f ? { degree: f.degree, clippedWeight: f.clippedWeight } : null };
+  const f = field as VelocityField | null;
+  return { coupling: g, start, end, drives: results, field: f && 'degree' in f ? { degree: (f as GroundStateField).degree, clippedWeight: (f as GroundStateField).clippedWeight } : null };
 }

@@ -70,9 +70,17 @@ export interface VerifySize {
   u0?: ArrayLike<number>;
   /** shots of a shot-to-shot noise study (verify.errors.noise_shots): the whole verify runs once per shot (default 1) */
   shots?: number;
+  /** a condensate (verify.interaction): three one-state drives and its painted field, in the calling thread, once */
+  condensate?: boolean;
 }
 
+/** the condensate's painted field (quantum/painted.ts: 64–128 nonlinear ground states of its density series, each
+ *  warm-started) in products with H: measured 1.9 s ≈ 6000 products at N = 1024 on configs/rb87-condensate.yaml */
+export const CONDENSATE_FIELD_MATVECS = 6000;
+
 export interface VerifyCost {
+  /** products of the condensate's drives and field (0 without verify.interaction) */
+  condensateMatvecs: number;
   /** products of one eigen solve */
   eigenMatvecs: number;
   /** eigen solves (ends and interior trace samples) */
@@ -163,6 +171,8 @@ export function estimateVerifyCost(s: VerifySize): VerifyCost {
   const ladder = ladderSteps(acceptedSteps);
   const correctedMatvecs = ladder * SCHRODINGER_MATVECS_PER_STEP * s.states;
   const bareMatvecs = ladderSteps(estimateSchrodingerSteps(s, false)) * SCHRODINGER_MATVECS_PER_STEP * s.states;
+  // the condensate: cubic and painted drives of one state at the corrected ladder, the bare one at the bare ladder
+  const condensateMatvecs = s.condensate ? (2 * correctedMatvecs + bareMatvecs) / s.states + CONDENSATE_FIELD_MATVECS : 0;
   const matvecs = eigenSolves * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
   const perMatvec = matvecSeconds(s.points);
   const vector = s.points * Float64Array.BYTES_PER_ELEMENT;
@@ -170,8 +180,8 @@ export function estimateVerifyCost(s: VerifySize): VerifyCost {
   // the two end solves run in turn; the drives and the trace bases share the laptop's cores (quantum/verify.ts)
   const parallel = Math.max(0, eigenSolves - 2) * eigenMatvecs + s.correctedDrives * correctedMatvecs + s.bareDrives * bareMatvecs;
   const shots = s.shots ?? 1;
-  const seconds = shots * (2 * eigenMatvecs + parallel / LAPTOP_CORES) * perMatvec;
-  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, matvecs: shots * matvecs, seconds, bytes };
+  const seconds = (shots * (2 * eigenMatvecs + parallel / LAPTOP_CORES) + condensateMatvecs) * perMatvec;
+  return { eigenMatvecs, eigenSolves, acceptedSteps, ladderSteps: ladder, correctedMatvecs, bareMatvecs, condensateMatvecs, matvecs: shots * matvecs + condensateMatvecs, seconds, bytes };
 }
 
 /** semiclassical count of the bound states of u on a grid of spacing dx: ⌈∫√(−u)₊ dξ / π⌉ (the quantisation

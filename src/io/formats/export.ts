@@ -10,6 +10,16 @@ import { DISPERSIONS, ENERGY_UNITS, type UnitsConfig } from '../config.ts';
 import { SPECIES_CHOICES } from '../../units/species.ts';
 import { num, nums, readFormat, str } from './read.ts';
 
+
+/** the painted potentials an export can hold: verify's painted drives and the condensate's painted protocol */
+export const PAINTED_EXPORT_DRIVES = ['painted', 'painted_ground', 'painted_condensate'] as const;
+export type PaintedExportDrive = (typeof PAINTED_EXPORT_DRIVES)[number];
+/** what each painted potential carries (one wording for the sidecar, the CLI and the figures) */
+export const PAINTED_WHAT: Record<PaintedExportDrive, string> = {
+  painted: 'the best momentum-linear correction ½{g, p}',
+  painted_ground: 'the one-state exact correction of the ground state',
+  painted_condensate: 'the condensate’s painted protocol (its nonlinear ground state carried exactly; verify.interaction)',
+};
 export const EXPORT_FORMAT = 'isotrap-export/1';
 
 /** one array of the export */
@@ -57,12 +67,12 @@ export interface ExportFile {
     frames_agreement: number;
     statement: string;
   };
-  /** the painted potentials (verify.json's painted drives): range per drive against the starting trap, and the
-   *  optics' blur with --psf-um */
+  /** the painted potentials (verify.json's painted drives and the condensate's painted protocol): range per drive
+   *  against the starting trap, and the optics' blur with --psf-um */
   painted: null | {
     meaning: string;
     drives: {
-      drive: 'painted' | 'painted_ground'; deepest: number; highest: number; psf_change: number | null; psf_change_at: number | null;
+      drive: PaintedExportDrive; deepest: number; highest: number; psf_change: number | null; psf_change_at: number | null;
       /** the drive simulated by the export itself (a check source has no verify.json): per state fidelity and excess energy */
       fidelity?: number[]; excess?: number[];
     }[];
@@ -101,7 +111,7 @@ const exportSchema: z.ZodType<ExportFile> = z
     painted: z
       .object({
         meaning: str,
-        drives: z.array(z.object({ drive: z.enum(['painted', 'painted_ground']), deepest: num, highest: num, psf_change: num.nullable(), psf_change_at: num.nullable(), fidelity: nums.optional(), excess: nums.optional() })),
+        drives: z.array(z.object({ drive: z.enum(PAINTED_EXPORT_DRIVES), deepest: num, highest: num, psf_change: num.nullable(), psf_change_at: num.nullable(), fidelity: nums.optional(), excess: nums.optional() })),
         start: z.object({ deepest: num, highest: num }),
         psf: z.object({ radius: num, unit: str, rule: str, drives: z.array(z.object({ drive: str, fidelity: nums, fidelity_unblurred: nums, lost: num })) }).nullable(),
       })

@@ -3,7 +3,7 @@
  * two terms of the correction against t at the sidecar's reference wavenumber, whose peaks are the sidecar's
  * max_cubic_energy and max_linear_energy.
  */
-import type { ExportFile } from '../../io/formats/export.ts';
+import { PAINTED_WHAT, type ExportFile } from '../../io/formats/export.ts';
 import type { ReportFigure, SummaryRow } from '../html.ts';
 import { lineChart } from '../line-chart.ts';
 import { heatmap } from '../heatmap.ts';
@@ -14,7 +14,7 @@ import type { FrameArray } from './design.ts';
 /** the ids (and .svg names) of the export's figures */
 export const EXPORT_FIGURE_IDS = ['export-ramp', 'export-correction'] as const;
 /** the ids of the painted potentials' space–time maps, by drive */
-export const PAINTED_FIGURE_IDS = { painted: 'export-painted', painted_ground: 'export-painted-ground' } as const;
+export const PAINTED_FIGURE_IDS = { painted: 'export-painted', painted_ground: 'export-painted-ground', painted_condensate: 'export-painted-condensate' } as const;
 
 /** the arrays the export figures read (keys of export.json arrays) */
 export interface ExportSeries {
@@ -51,7 +51,6 @@ export function exportSummaryRows(f: ExportFile): SummaryRow[] {
 /** the painted potential V + V_loc against x and lab time, one map per painted drive: the exported arrays */
 function paintedMaps(f: ExportFile, a: ExportSeries, painted: Partial<Record<keyof typeof PAINTED_FIGURE_IDS, FrameArray>>, size: FigureSize): ReportFigure[] {
   const x = a.x?.data ?? new Float64Array(0);
-  const what = { painted: 'the best momentum-linear correction ½{g, p}', painted_ground: 'the one-state exact correction of the ground state' };
   return (Object.keys(PAINTED_FIGURE_IDS) as (keyof typeof PAINTED_FIGURE_IDS)[]).flatMap((d) => {
     const arr = painted[d];
     if (!arr) return [];
@@ -63,7 +62,7 @@ function paintedMaps(f: ExportFile, a: ExportSeries, painted: Partial<Record<key
     const blurred = f.painted?.psf ? ` Blurred by the optics' point-spread function of ${f.painted.psf.radius} ${f.painted.psf.unit} (1/e² radius), as exported.` : '';
     return [{
       id: PAINTED_FIGURE_IDS[d],
-      caption: `Painted potential V + V_loc of ${what[d]} against x and lab time (${m} exported samples): the trap to program instead of V and the correction.${range}${blurred}${cropCaption(crop, f.units.length)}`,
+      caption: `Painted potential V + V_loc of ${PAINTED_WHAT[d]} against x and lab time (${m} exported samples): the trap to program instead of V and the correction.${range}${blurred}${cropCaption(crop, f.units.length)}`,
       svg: heatmap({ xLabel: `position x (${f.units.length})`, yLabel: `time t (${f.units.time})`, zLabel: `painted potential (${f.units.energy})`, x: crop.x, y: a.t.data, z: rows.map((r) => cropRow(crop, Float64Array.from(r))), width: 'double', size }),
     }];
   });
