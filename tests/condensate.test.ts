@@ -267,6 +267,12 @@ describe('verify.interaction', () => {
       expect(r.stderr).not.toMatch(/\n\s+at /);
       expect(existsSync(join(dir, 'out'))).toBe(false);
     }
+    // a bright condensate narrower than the grid: its width 4/|g| = 0.04 ℓ against a spacing of 0.12 ℓ (physics.md §10)
+    writeFileSync(join(dir, 'c.yaml'), stringify(NATURAL({ atoms: 100, g1d: -1 })));
+    const r = spawnSync(process.execPath, [BIN, 'verify', 'c.yaml', '--out', 'out', '--quiet'], { cwd: dir, encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(1);
+    expect(r.stderr).toMatch(/does not resolve the condensate.*grid\.points/);
+    expect(existsSync(join(dir, 'out'))).toBe(false);
   }, 60_000);
 
   it('a sweep over the atom number: the painted protocol keeps 1 − 1e-6 at every point, the cubic correction crosses the target', async () => {

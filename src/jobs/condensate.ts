@@ -3,7 +3,8 @@
  * sequence with the cubic correction, with its own painted protocol and bare (quantum/condensate.ts), in the config's
  * units, beside the single-particle ground state of the same run, with a plain verdict on the cubic correction.
  */
-import { UserError } from '../core/errors.ts';
+import { NumericalError, UserError } from '../core/errors.ts';
+import { resolutionAdvice, UNRESOLVED_TAIL } from './context.ts';
 import type { Config } from '../io/config.ts';
 import type { InteractionSection, VerifyFile } from '../io/formats/verify.ts';
 import type { SummaryRow } from '../report/index.ts';
@@ -13,7 +14,7 @@ import { CONDENSATE_DRIVES, CondensateNotHeldError, condensateGrounds, driveCond
 import { assertPaintableRamp, RampNotPaintableError } from '../quantum/painted.ts';
 import { BOHR_RADIUS_M, COLLAPSE_RATIO, guideCoupling, LIEB_LINIGER_MAX, OLSHANII_WARN, TRANSVERSE_FRACTION } from '../units/interaction.ts';
 import type { UnitSystem } from '../units/scales.ts';
-import type { DesignResult } from './design.ts';
+import { TAIL_WARNING, type DesignResult } from './design.ts';
 
 /** a condensate run meets the acceptance of verify (jobs/verify.ts ACCEPT_INFIDELITY) at 1 − F ≤ this */
 export const CONDENSATE_ACCEPT_INFIDELITY = 1e-6;
@@ -97,7 +98,17 @@ export function prepareInteraction(config: Config, design: DesignResult, input: 
     const mu = `μ = ${units.energyFromNatural(err.mu).toPrecision(4)} ${E}, potential at the box edge ${units.energyFromNatural(err.rim).toPrecision(4)} ${E}`;
     throw new UserError(`${config.meta.source}: verify.interaction.atoms = ${it.atoms} is not allowed with this coupling and trap: the condensate at ${err.where} of the sequence is not held by the trap (${mu}; weight ${err.edgeWeight.toExponential(2)} near the box edge); allowed: fewer atoms or a weaker coupling (verify.interaction), a deeper trap, or a longer box (grid.length)`);
   }
-  return { finish: (single, onProgress) => interactionSection(config, design, input, c, grounds, single, onProgress) };
+  const tail = Math.max(grounds.start.tail, grounds.end.tail);
+  if (tail > UNRESOLVED_TAIL) {
+    throw new NumericalError(`the grid does not resolve the condensate of ${config.meta.source} (verify.interaction.atoms = ${it.atoms}, g₁D = ${units.energyFromNatural(c.perAtom) * units.lengthFromNatural(1)} ${E}·${units.labels.length} per atom): its ground state's spectral tail is ${tail.toExponential(2)} (> ${UNRESOLVED_TAIL}; μ = ${units.energyFromNatural(grounds.start.mu).toPrecision(4)} ${E}), so every condensate result would be wrong; ${resolutionAdvice(config, units, false)}, or give fewer atoms or a weaker coupling`);
+  }
+  const tailWarning = tail > TAIL_WARNING ? [`condensate: the ground state's spectral tail is ${tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points`] : [];
+  return {
+    finish: (single, onProgress) => {
+      const out = interactionSection(config, design, input, c, grounds, single, onProgress);
+      return { ...out, warnings: [...tailWarning, ...out.warnings] };
+    },
+  };
 }
 
 function interactionSection(config: Config, design: DesignResult, input: InteractionInput, c: Coupling, grounds: CondensateGrounds, single: VerifyFile['states'][number], onProgress?: (fraction: number, stage: string) => void): InteractionOutcome {

@@ -22,6 +22,7 @@ import { complexFromReal } from '../linalg/complex.ts';
 import { gpeEnergy, gpeGroundState, type GpeGroundState } from './gpe.ts';
 import { GPE_FLOOR_FACTOR, groundStateField, paintedDrive, recordRange, SEAM_START, type GroundStateField, type VelocityField } from './painted.ts';
 import type { GaussianBlur } from '../spectral/blur.ts';
+import { bandTail } from '../spectral/ops.ts';
 import { kdvDrive, Propagator, type PotentialFn } from './propagator.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
 import { overlapReal } from './observables.ts';
@@ -54,6 +55,8 @@ export interface CondensateOptions {
 export interface CondensateGround {
   /** ψ with ∫ψ² dξ = 1 */
   psi: Float64Array;
+  /** the share of ψ in the grid's top band (spectral/ops.ts bandTail): round-off when the grid resolves it */
+  tail: number;
   mu: number;
   energy: number;
   residual: number;
@@ -109,7 +112,7 @@ function assertHeld(grid: Grid, u: Float64Array, s: CondensateGround, where: str
 /** the nonlinear ground state of u, started from the linear one (gpe.ts) */
 export function condensateGround(grid: Grid, u: Float64Array, g: number): CondensateGround {
   const r: GpeGroundState = gpeGroundState(grid, u, g, { floorFactor: GPE_FLOOR_FACTOR });
-  return { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual };
+  return { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual, tail: bandTail(grid, r.psi) };
 }
 
 export interface CondensateGrounds {
@@ -137,7 +140,7 @@ export function condensateGrounds(grid: Grid, potential: PotentialFn, lambdaEnd:
     const lambda = (lambdaEnd * i) / (HOLD_SAMPLES + 1);
     potential(lambda, u);
     const r = gpeGroundState(grid, u, g, { guess, floorFactor: GPE_FLOOR_FACTOR });
-    assertHeld(grid, u, { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual }, `λ = ${lambda.toPrecision(4)}`);
+    assertHeld(grid, u, { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual, tail: 0 }, `λ = ${lambda.toPrecision(4)}`);
     guess = r.psi;
   }
   potential(lambdaEnd, u1);

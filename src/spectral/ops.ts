@@ -23,6 +23,22 @@ export function spectrum(u: Float64Array): Float64Array {
 }
 
 /** d^order u / dx^order by Fourier differentiation (Nyquist dropped for odd orders) */
+/** the band beyond which bandTail looks: the top third of the grid's wavenumbers (the 2/3 rule's discarded band) */
+export const TAIL_BAND = 2 / 3;
+
+/** max |f̂_k| over |k| > TAIL_BAND·k_max relative to max |f̂_k|: how much of a real f the grid's top band carries (a
+ *  resolved f has a tail at round-off; common practice) */
+export function bandTail(grid: Grid, f: Float64Array): number {
+  const s = spectrum(f);
+  let top = 0, tail = 0;
+  for (let m = 0; m <= grid.n / 2; m++) {
+    const a = Math.hypot(s[2 * m], s[2 * m + 1]);
+    top = Math.max(top, a);
+    if (Math.abs(grid.kHalf[m]) > TAIL_BAND * grid.kMax) tail = Math.max(tail, a);
+  }
+  return top > 0 ? tail / top : 0;
+}
+
 export function derivative(grid: Grid, u: Float64Array, order: number): Float64Array {
   const n = grid.n;
   const s = spectrum(u);
