@@ -100,7 +100,7 @@ export class CondensateNotHeldError extends RangeError {
 }
 
 /** CondensateNotHeldError unless μ lies below the potential at the box edge and the edge band holds no weight */
-function assertHeld(grid: Grid, u: Float64Array, s: CondensateGround, where: string): void {
+function assertHeld(grid: Grid, u: Float64Array, s: { psi: Float64Array; mu: number }, where: string): void {
   const half = grid.length / 2;
   let w = 0;
   for (let j = 0; j < grid.n; j++) if (Math.abs(grid.x[j]) > SEAM_START * half) w += s.psi[j] * s.psi[j];
@@ -140,7 +140,7 @@ export function condensateGrounds(grid: Grid, potential: PotentialFn, lambdaEnd:
     const lambda = (lambdaEnd * i) / (HOLD_SAMPLES + 1);
     potential(lambda, u);
     const r = gpeGroundState(grid, u, g, { guess, floorFactor: GPE_FLOOR_FACTOR });
-    assertHeld(grid, u, { psi: r.psi, mu: r.mu, energy: r.energy, residual: r.residual, tail: 0 }, `λ = ${lambda.toPrecision(4)}`);
+    assertHeld(grid, u, r, `λ = ${lambda.toPrecision(4)}`);
     guess = r.psi;
   }
   potential(lambdaEnd, u1);
