@@ -102,22 +102,28 @@ export function prepareInteraction(config: Config, design: DesignResult, input: 
   if (tail > UNRESOLVED_TAIL) {
     throw new NumericalError(`the grid does not resolve the condensate of ${config.meta.source} (verify.interaction.atoms = ${it.atoms}, g₁D = ${units.energyFromNatural(c.perAtom) * units.lengthFromNatural(1)} ${E}·${units.labels.length} per atom): its ground state's spectral tail is ${tail.toExponential(2)} (> ${UNRESOLVED_TAIL}; μ = ${units.energyFromNatural(grounds.start.mu).toPrecision(4)} ${E}), so every condensate result would be wrong; ${resolutionAdvice(config, units, false)}, or give fewer atoms or a weaker coupling`);
   }
-  const tailWarning = tail > TAIL_WARNING ? [`condensate: the ground state's spectral tail is ${tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points`] : [];
-  return {
-    finish: (single, onProgress) => {
-      const out = interactionSection(config, design, input, c, grounds, single, onProgress);
-      return { ...out, warnings: [...tailWarning, ...out.warnings] };
-    },
-  };
+  const warnings = tail > TAIL_WARNING ? [`condensate: the ground state's spectral tail is ${tail.toExponential(2)} (> ${TAIL_WARNING}): expect relative errors of about that size from the grid; raise grid.points`] : [];
+  const prep: Prepared = { c, g, potential, grounds, warnings };
+  return { finish: (single, onProgress) => interactionSection(config, design, input, prep, single, onProgress) };
 }
 
-function interactionSection(config: Config, design: DesignResult, input: InteractionInput, c: Coupling, grounds: CondensateGrounds, single: VerifyFile['states'][number], onProgress?: (fraction: number, stage: string) => void): InteractionOutcome {
+/** what prepareInteraction found: the coupling (per atom and g), the design's potential, the ground states and the
+ *  warnings so far */
+interface Prepared {
+  c: Coupling;
+  g: number;
+  potential: (lambda: number, out: Float64Array) => void;
+  grounds: CondensateGrounds;
+  warnings: string[];
+}
+
+function interactionSection(config: Config, design: DesignResult, input: InteractionInput, prep: Prepared, single: VerifyFile['states'][number], onProgress?: (fraction: number, stage: string) => void): InteractionOutcome {
   const { units, grid } = design.ctx;
   const E = units.labels.energy;
   const it = input.interaction;
-  const g = c.perAtom * it.atoms;
+  const { c, g, potential, grounds } = prep;
   const ramp = makeRamp(input.ramp, input.duration, input.lambdaEnd);
-  const warnings: string[] = [];
+  const warnings: string[] = [...prep.warnings];
   let drives: CondensateDrive[] = [...CONDENSATE_DRIVES];
   try {
     assertPaintableRamp(ramp);
@@ -126,7 +132,6 @@ function interactionSection(config: Config, design: DesignResult, input: Interac
     drives = drives.filter((d) => d !== 'painted_condensate');
     warnings.push(`condensate: no painted protocol with protocol.ramp = ${err.ramp} (${err.reason}); use sin2 or smooth for one`);
   }
-  const potential = sequencePotential({ dense: design.run.dense.data(), lo: 0, hi: input.lambdaEnd });
   const r = driveCondensate({ grid, potential, ramp, coupling: g, tol: input.tolerance, drift: units.lengthToNatural(config.flow.drift), drives, onProgress, grounds });
   const peakDensity = Math.max(...[r.start, r.end].map((s) => s.psi.reduce((m, v) => Math.max(m, v * v), 0)));
   const peak = g * peakDensity;

@@ -509,11 +509,6 @@ function verificationSection(setup: LatticeSetup, count: number, main: LatticeRu
 }
 
 /**
- * Run the lattice job (see the module doc): setup (parameters, design on m*) → control tables → verification on
- * the configured lattice → convergence study → summary. Throws UserError for configs it cannot serve (no lattice
- * or protocol section, a broken flow, a lattice that is too large).
- */
-/**
  * The largest CD coupling of the configured lattice's realisation (lattice.json couplings.largest_cd_coupling: h·Hz
  * lab, E₀ natural): the design with m*, the chain and the control tables, without the lattice propagation. A
  * sweep's budget.coupling compares it (jobs/sweep.ts).
@@ -525,6 +520,11 @@ export function largestLatticeCoupling(config: LatticeConfig): number {
   return tablesStep(setup, seq, sites, () => undefined).couplings.largest_cd_coupling;
 }
 
+/**
+ * Run the lattice job (see the module doc): setup (parameters, design on m*) → control tables → verification on
+ * the configured lattice → convergence study → summary. Throws UserError for configs it cannot serve (no lattice
+ * or protocol section, a broken flow, a lattice that is too large).
+ */
 export function runLattice(config: LatticeConfig, opts: LatticeOptions = {}): LatticeResult {
   const progress = opts.onProgress ?? (() => {});
   const setup = latticeSetup(config, progress);

@@ -42,7 +42,7 @@ const std = (xs: readonly number[]) => {
   return Math.sqrt(xs.reduce((a, x) => a + (x - m) ** 2, 0) / (xs.length - 1));
 };
 
-/** the mean of a number field over shots, or null when the first shot has none */
+/** the mean of a number field over shots, or undefined when any shot lacks it */
 function meanOf<T>(items: readonly (T | null)[], pick: (t: T) => number | undefined): number | undefined {
   const vals = items.map((t) => (t === null ? undefined : pick(t)));
   return vals.every((v) => v !== undefined) ? mean(vals as number[]) : undefined;
