@@ -12,12 +12,19 @@
  * (physics.md §5); steps are clipped to land exactly on requested frames. Unless the
  * caller declines it (`keepDense: false`), every accepted step is kept for dense output (cubic Hermite in λ with
  * u_λ from the right-hand side), so that the Schrödinger solver can ask for u at any λ.
+ *
+ * Frame: the integrator may work in a frame moving at c_f (`frameSpeed`), w(ξ, λ) = u(ξ + c_f λ, λ), which obeys the
+ * same equation with drift c − c_f; frames are shifted back exactly (spectral/translate.ts) and the dense output
+ * carries the frame. The stage values of an exponential integrator are polynomial in λ, so its error grows with the
+ * λ-derivatives of N along the solution, |k v|^p for a structure moving at v: in the frame of the fastest soliton
+ * the dominant ones shrink (two-soliton split of −6 sech², N = 1024: 240× smaller error at 800 fixed steps, measured).
  */
 import { NumericalError } from '../core/errors.ts';
 import { errorExponent, stepFactor } from '../integrate/controller.ts';
 import { etdPairCoefficients, etdPairStep, etdPairWorkspace, WHALEN_ETD53, type EtdPairCoefficients, type EtdPairTable, type EtdPairWorkspace } from '../integrate/etd-pair.ts';
 import { RealFFT } from '../spectral/fft.ts';
 import type { Grid } from '../spectral/grid.ts';
+import { translateHalfSpectrum } from '../spectral/translate.ts';
 import { DenseFlow } from './dense.ts';
 
 
@@ -61,6 +68,9 @@ export interface FlowOptions {
    *  proportional to the frames */
   keepDense?: boolean;
   onProgress?: (lambda: number, lambdaEnd: number) => void;
+  /** speed c_f of the frame the integrator works in (module comment; default 0, the lab frame): frames and dense
+   *  output are returned in the lab frame whatever it is; it changes only the cost and the error's make-up */
+  frameSpeed?: number;
 }
 
 export interface FlowStats {
@@ -285,12 +295,14 @@ class FlowRecorder {
   readonly dense: DenseFlow;
   private readonly dv: Float64Array;
   private readonly maxPoints: number;
-  constructor(private readonly op: FlowOperator, private readonly active: number, private readonly maxBytes: number, private readonly tEnd: number, private readonly keep: boolean) {
-    this.dense = new DenseFlow(op.grid.n, new RealFFT(op.grid.n));
+  private readonly shifted: Float64Array;
+  constructor(private readonly op: FlowOperator, private readonly active: number, private readonly maxBytes: number, private readonly tEnd: number, private readonly keep: boolean, private readonly frameSpeed: number) {
+    this.dense = new DenseFlow(op.grid.n, new RealFFT(op.grid.n), op.grid.length, frameSpeed);
     this.dv = new Float64Array(2 * op.modes);
+    this.shifted = new Float64Array(2 * op.modes);
     this.maxPoints = Math.floor(maxBytes / DenseFlow.bytesPerPoint(active));
   }
-  /** dense point (λ, û, ∂_λû); fails once the record would pass its memory budget */
+  /** dense point (λ, ŵ, ∂_λŵ) in the integrator's frame; fails once the record would pass its memory budget */
   store(t: number, v: Float64Array, nv: Float64Array): void {
     if (!this.keep && this.dense.lambdas.length > 0) return;
     if (this.dense.lambdas.length >= this.maxPoints) {
@@ -305,10 +317,12 @@ class FlowRecorder {
     this.op.timeDerivative(v, nv, this.dv);
     this.dense.push(t, v, this.dv, this.active);
   }
-  /** physical frame at λ */
+  /** physical frame at λ, in the lab */
   frame(t: number, v: Float64Array): void {
     const out = new Float64Array(this.op.grid.n);
-    this.op.fft.inverse(v, out);
+    this.shifted.set(v);
+    translateHalfSpectrum(this.shifted, this.active, this.frameSpeed * t, this.op.grid.length);
+    this.op.fft.inverse(this.shifted, out);
     this.lambdas.push(t);
     this.frames.push(out);
   }
@@ -324,7 +338,9 @@ function initialLadderIndex(op: FlowOperator, scale: number, tEnd: number): numb
 /** Integrate u_t + αuu_x + βu_xxx + cu_x = 0 from u0 (at λ = 0) through the requested frames. */
 export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, opts: FlowOptions): FlowRun {
   const started = performance.now();
-  const op = new FlowOperator(grid, eq);
+  const frameSpeed = opts.frameSpeed ?? 0;
+  if (!Number.isFinite(frameSpeed)) throw new RangeError(`flow frame speed must be finite, got ${frameSpeed}`);
+  const op = new FlowOperator(grid, { ...eq, drift: eq.drift - frameSpeed });
   const frames = [...opts.frames];
   const tEnd = frames[frames.length - 1];
   if (!(tEnd > 0)) throw new RangeError(`flow end λ must be positive, got ${tEnd}`);
@@ -333,7 +349,7 @@ export function integrateFlow(grid: Grid, eq: FlowEquation, u0: Float64Array, op
   if (scale === 0) scale = 1;
   const { v, discardedTail } = retainedSpectrum(op, u0);
   const active = op.cutoff + 1;
-  const recorder = new FlowRecorder(op, active, opts.maxDenseBytes ?? DENSE_BYTES_DEFAULT, tEnd, opts.keepDense ?? true);
+  const recorder = new FlowRecorder(op, active, opts.maxDenseBytes ?? DENSE_BYTES_DEFAULT, tEnd, opts.keepDense ?? true, frameSpeed);
   const loop = runFlowLoop(op, v, frames, scale, recorder, opts);
   const ls = loop.stats;
   const stats: FlowStats = {

@@ -9,6 +9,7 @@
  * - The closed-form two-soliton from u(ξ, 0) = −6 sech²ξ (Drazin & Johnson, Solitons: an Introduction, 1989).
  */
 import { solveDenseInPlace } from '../linalg/dense-solve.ts';
+import type { FlowEquation } from './kdv.ts';
 
 export function oneSoliton(kappa: number, center: number, xi: number, tau: number): number {
   const s = 1 / Math.cosh(kappa * (xi - 4 * kappa * kappa * tau - center));
@@ -45,6 +46,17 @@ export interface SolitonShape {
 export function solitonFromBoundState(energy: number): SolitonShape {
   const kappa = Math.sqrt(-energy);
   return { kappa, depth: 2 * kappa * kappa, speed: 4 * kappa * kappa };
+}
+
+/**
+ * Speed of the frame the natural-units quantum flow (u_τ = 6uu_ξ − u_ξξξ − c u_ξ) is integrated in (kdv.ts
+ * FlowOptions.frameSpeed): that of its fastest soliton, 4κ₀² + c for the lowest bound state E₀ = −κ₀² of the
+ * starting potential (solitonFromBoundState); 0 (the lab frame) when nothing is bound or the flow is another one.
+ */
+export function solitonFrameSpeed(eq: FlowEquation, energies: readonly number[]): number {
+  if (eq.alpha !== -6 || eq.beta !== 1 || energies.length === 0) return 0;
+  const lowest = Math.min(...energies);
+  return lowest < 0 ? solitonFromBoundState(lowest).speed + eq.drift : 0;
 }
 
 /**

@@ -36,7 +36,7 @@ import { driveWithCorrection } from '../quantum/correction.ts';
 import { scalesText, toJson } from './design.ts';
 import { compareFigures, writeFigures } from './report.ts';
 import type { FigureSize } from '../report/style.ts';
-import { frameLambdas, makeContext, type JobContext } from './context.ts';
+import { frameLambdas, makeContext, sequenceFrameSpeed, type JobContext } from './context.ts';
 import type { CompareSummary, DriftJson, DriveFidelity, QuantumConsequence, TrajectoryJson } from '../io/formats/compare.ts';
 import { writeRun, type RunIdentity } from '../io/run-folder.ts';
 import { assertDesignAffordable, assertVerifyAffordable } from '../io/cost.ts';
@@ -125,7 +125,8 @@ function bothSequences(config: CompareConfig, ctx: JobContext, warnings: string[
   const breaking = hopfBreaking(grid, u0);
   const breakingGrid = gridBreaking(grid, u0);
   progress('quantum sequence', 0);
-  const quantum = integrateFlow(grid, naturalFlowEquation('quantum', drift), u0, { tolerance: flowCfg.tolerance, frames });
+  const quantumEq = naturalFlowEquation('quantum', drift);
+  const quantum = integrateFlow(grid, quantumEq, u0, { tolerance: flowCfg.tolerance, frames, frameSpeed: sequenceFrameSpeed(grid, quantumEq, u0) });
   if (quantum.breaking) warnings.push(`the quantum flow stopped at λ = ${quantum.breaking.lambdaReached}: ${quantum.breaking.reason}`);
   const quantumReached = quantum.breaking ? quantum.breaking.lambdaReached : lambdaEnd;
   progress('classical sequence', 0);

@@ -7,8 +7,9 @@ import { unitSystemOf, type Config } from '../io/config.ts';
 import { readSamplesFile } from '../io/samples.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import { resample } from '../spectral/ops.ts';
-import { naturalFlowEquation, spectralResolution } from '../flow/kdv.ts';
-import { nSolitonPotential } from '../flow/solitons.ts';
+import { naturalFlowEquation, spectralResolution, type FlowEquation } from '../flow/kdv.ts';
+import { nSolitonPotential, solitonFrameSpeed } from '../flow/solitons.ts';
+import { boundStates } from '../quantum/spectrum-track.ts';
 import { sech2Trap, wellScale, wellsTrap } from '../flow/traps.ts';
 import { dispersionNumber, type UnitSystem } from '../units/scales.ts';
 import { targetSequenceOf } from '../io/target.ts';
@@ -88,6 +89,12 @@ export function initialPotential(config: Config, units: UnitSystem, grid: Grid):
     case 'target':
       return targetSequenceOf(init, units, config.flow.lambda_end).potential(grid.x, 0);
   }
+}
+
+/** the frame speed of a designed sequence's flow (flow/solitons.ts solitonFrameSpeed from the bound states of u0);
+ *  design, export and compare integrate the same flow in the same frame */
+export function sequenceFrameSpeed(grid: Grid, eq: FlowEquation, u0: Float64Array): number {
+  return eq.beta === 0 ? 0 : solitonFrameSpeed(eq, boundStates(grid, u0).energies);
 }
 
 /** the λ of the stored frames: flow.frames points evenly spaced on [0, flow.lambda_end] */

@@ -10,7 +10,7 @@ import { invariantDrift, invariants, type Invariants } from '../flow/invariants.
 import { findWells } from '../flow/wells.ts';
 import { gridBreaking } from '../flow/breaking.ts';
 import { boundStates, spectrumTrack, type BoundStates, type SpectrumTrack } from '../quantum/spectrum-track.ts';
-import { solitonFromBoundState } from '../flow/solitons.ts';
+import { solitonFrameSpeed, solitonFromBoundState } from '../flow/solitons.ts';
 import { DISPERSION_EXPLANATION } from '../units/scales.ts';
 import { PLANCK_H } from '../units/constants.ts';
 import { frameLambdas, makeContext, resolutionAdvice, UNRESOLVED_TAIL, type JobContext } from './context.ts';
@@ -94,7 +94,9 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   const flowCfg = config.flow;
   const eq = naturalFlowEquation(flowCfg.dispersion, units.lengthToNatural(flowCfg.drift));
   const frames = frameLambdas(flowCfg);
-  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress, keepDense, maxDenseBytes: denseOutputBudget() });
+  const bound = boundStates(grid, u0);
+  const frameSpeed = solitonFrameSpeed(eq, bound.energies);
+  const run = integrateFlow(grid, eq, u0, { tolerance: flowCfg.tolerance, frames, onProgress: opts.onProgress, keepDense, maxDenseBytes: denseOutputBudget(), frameSpeed });
   if (!run.breaking && run.tail > UNRESOLVED_TAIL) {
     throw new NumericalError(
       `the grid does not resolve the designed sequence: the last frame's spectral tail is ${run.tail.toExponential(2)} (> ${UNRESOLVED_TAIL}) at λ = ${flowCfg.lambda_end}; ${resolutionAdvice(config, units, false)}`,
@@ -102,7 +104,6 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
   }
   const warnings = [...ctx.warnings];
 
-  const bound = boundStates(grid, u0);
   const perLength = units.lengthToNatural(1);
   const predicted = solitonPredictions(bound.energies, units);
   const last = run.frames[run.frames.length - 1];
@@ -160,7 +161,7 @@ export function runDesign(config: Config, opts: DesignOptions = {}): DesignResul
         }
       : null,
     integrator: {
-      method: `Fourier pseudo-spectral, 2/3 dealiasing, ${FLOW_PAIR.name} embedded exponential Runge–Kutta pair (${FLOW_PAIR.source})`,
+      method: `Fourier pseudo-spectral, 2/3 dealiasing, ${FLOW_PAIR.name} embedded exponential Runge–Kutta pair (${FLOW_PAIR.source})${frameSpeed !== 0 ? `, in the frame of the fastest soliton (speed ${frameSpeed.toPrecision(6)} ℓ per unit λ, natural units)` : ''}`,
       steps: run.stats.accepted,
       rejected: run.stats.rejected,
       seconds: run.stats.wallSeconds,

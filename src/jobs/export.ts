@@ -31,6 +31,7 @@ import { drivePieces } from '../quantum/drive-pieces.ts';
 import { makeGrid, type Grid } from '../spectral/grid.ts';
 import type { UnitSystem } from '../units/scales.ts';
 import { toJson } from './design.ts';
+import { sequenceFrameSpeed } from './context.ts';
 import type { ReportFigure } from '../report/index.ts';
 import { EXPORT_FIGURE_IDS, exportFigures, PAINTED_FIGURE_IDS } from '../report/panels/export.ts';
 export { EXPORT_FIGURE_IDS, PAINTED_FIGURE_IDS };
@@ -152,7 +153,8 @@ export interface LabSeries {
  */
 export function labSeries(input: LabSeriesInput): LabSeries {
   const { grid, ramp, times } = input;
-  const run = integrateFlow(grid, input.eq, input.u0, { tolerance: input.tolerance, frames: input.frameLambdas, keepDense: true, maxDenseBytes: denseOutputBudget() });
+  const frameSpeed = sequenceFrameSpeed(grid, input.eq, input.u0);
+  const run = integrateFlow(grid, input.eq, input.u0, { tolerance: input.tolerance, frames: input.frameLambdas, keepDense: true, maxDenseBytes: denseOutputBudget(), frameSpeed });
   if (run.breaking) throw new UserError(`the flow stops at λ = ${run.breaking.lambdaReached} before λ_end = ${ramp.lambdaEnd} (${run.breaking.reason}): only a complete design can be exported`);
   const n = grid.n;
   const m = times.length;
