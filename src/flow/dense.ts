@@ -54,9 +54,9 @@ export class DenseFlow {
     }
     return intervalIndex(ls, lambda);
   }
-  private combine(lambda: number, out: Float64Array, derivative: boolean): Float64Array {
+  private combine(lambda: number, out: Float64Array, derivative: boolean, lab = true): Float64Array {
     const spec = this.spec;
-    const c = this.frameSpeed;
+    const c = lab ? this.frameSpeed : 0;
     this.interpolate(lambda, spec, derivative);
     const modes = this.values[0].length / 2;
     if (c !== 0) {
@@ -111,6 +111,10 @@ export class DenseFlow {
   rateAt(lambda: number, out: Float64Array): Float64Array {
     return this.combine(lambda, out, true);
   }
+  /** w(·, λ) = u(· + cλ, λ) in the integrator's frame (c = frameSpeed) into out */
+  atInFrame(lambda: number, out: Float64Array): Float64Array {
+    return this.combine(lambda, out, false, false);
+  }
   /** the stored spectra as plain data (shared, not copied), for a worker thread to rebuild the interpolant */
   data(): DenseFlowData {
     return { points: this.points, length: this.length, frameSpeed: this.frameSpeed, lambdas: this.lambdas, values: this.values, rates: this.rates };
@@ -148,10 +152,13 @@ export interface SequenceSource {
   hi: number;
 }
 
-/** u(ξ; λ) of a sequence source, λ clamped to its range */
-export function sequencePotential(src: SequenceSource): (lambda: number, out: Float64Array) => void {
+/** u(ξ; λ) of a sequence source, λ clamped to its range; `inFrame`: w(ξ; λ) = u(ξ + cλ; λ) in the frame of the flow
+ *  (c = dense.frameSpeed) */
+export function sequencePotential(src: SequenceSource, inFrame = false): (lambda: number, out: Float64Array) => void {
   const flow = DenseFlow.fromData(src.dense);
   return (l, out) => {
-    flow.at(Math.min(Math.max(l, src.lo), src.hi), out);
+    const lambda = Math.min(Math.max(l, src.lo), src.hi);
+    if (inFrame) flow.atInFrame(lambda, out);
+    else flow.at(lambda, out);
   };
 }

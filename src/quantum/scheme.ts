@@ -14,12 +14,16 @@ import type { OperatorTerms, SpectralOperator } from './hamiltonian.ts';
  * The time-dependent Hamiltonian; `terms` may point out.v / out.w at arrays it reuses on the next call. With
  * `meanField` = γ ≠ 0 the equation is the Gross–Pitaevskii one, H(s)ψ + γ|ψ_j|²ψ_j on the propagated vector ψ_j
  * (γ = g/dξ for a unit vector whose density is |ψ_j|²/dξ; quantum/gpe.ts, physics.md §10); each state is then its
- * own condensate.
+ * own condensate. With `offset` it is the lab's H seen from a frame moving by X(s), T_X⁻¹HT_X − Ẋk (T_X the translation
+ * by X; its k-term is exact in the schemes' diagonal part).
  */
 export interface DrivenHamiltonian {
   readonly grid: Grid;
   terms(s: number, out: OperatorTerms): void;
   readonly meanField?: number;
+  /** a Hamiltonian written in a frame translated by X(s) propagates φ(ξ, s) = ψ(ξ + X(s), s); whoever hands it lab
+   *  states translates them in and out (drive-group.ts runGroup) */
+  readonly offset?: (s: number) => number;
 }
 
 /** what a scheme instance may use: the grid, the matrix-free operator and a Krylov exponential */

@@ -18,8 +18,8 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, recordRange, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
-import { boundStateEstimate, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
-import { mergeStats, runGroup, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
+import { boundStateEstimate, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, FRAME_STEP_FACTOR, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
+import { mergeStats, runGroup, runsInFrame, sourceDrive, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
 import { WorkerPool } from '../core/worker-pool.ts';
 import { NumericalError } from '../core/errors.ts';
 import type { SequenceSource } from '../flow/dense.ts';
@@ -300,12 +300,15 @@ function planDrive(opts: VerifyOptions, init: readonly Float64Array[], expectedS
   const traceTimes = nTrace === 1 ? [opts.duration] : evenly(nTrace);
   const strengthTimes = nStrength === 1 ? [0] : evenly(nStrength);
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
-  const expected = drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected;
+  // a KdV drive in the flow's moving frame needs fewer steps (drive-group.ts sourceDrive)
+  const framed = !isPainted(drive) && opts.source !== undefined && runsInFrame(opts.source, opts.errors ?? {});
+  const ownSteps = framed ? { corrected: Math.ceil(expectedSteps.corrected * FRAME_STEP_FACTOR), bare: Math.ceil(expectedSteps.bare * FRAME_STEP_FACTOR) } : expectedSteps;
+  const expected = drive === 'bare' ? ownSteps.bare : ownSteps.corrected;
   const control: GroupControl = { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected };
   // painted drives evaluate a closure: one group in the calling thread
   const groups = isPainted(drive) ? [[0, init.length] as [number, number]] : stateGroups(init.length);
   const tasks = groups.map(([a, b]): GroupTask => ({ states: init.slice(a, b), duration: opts.duration, sampleTimes, control }));
-  return { drive, traceTimes, strengthTimes, sampleTimes, range: { min: Infinity, max: -Infinity }, tasks, expectedSteps };
+  return { drive, traceTimes, strengthTimes, sampleTimes, range: { min: Infinity, max: -Infinity }, tasks, expectedSteps: ownSteps };
 }
 
 /** the Hamiltonian of a drive in this thread */
@@ -319,7 +322,9 @@ function localHamiltonian(ctx: DriveContext, plan: DrivePlan): DrivenHamiltonian
     const unblurred = labPotential(opts.grid, ctx.design, { ...ctx.errors, psf: 0, noise: null });
     return recordRange(withStaticNoise(paintedDrive(opts.grid, unblurred, fieldOf(ctx, drive), ramp, 0, blur), ctx.errors.noise), plan.range);
   }
-  return kdvDrive(opts.grid, ctx.design, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors);
+  return opts.source
+    ? sourceDrive(opts.grid, opts.source, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors)
+    : kdvDrive(opts.grid, ctx.design, ramp, DRIVE_SIGMA[drive], opts.drift ?? 0, ctx.errors);
 }
 
 /** H with a shot's static noise δV added to its potential after the optics (propagator.ts labPotential) */
