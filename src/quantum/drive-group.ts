@@ -110,21 +110,21 @@ export function runsInFrame(source: SequenceSource, errors: Partial<DriveErrors>
 export function runGroup(H: DrivenHamiltonian, task: GroupTask, prop: Propagator = new Propagator(H.grid), onProgress?: (fraction: number) => void): GroupResult {
   const samples: Float64Array[][] = [];
   const frame = H.offset ? { offset: H.offset, shift: new ComplexTranslation(H.grid.k) } : null;
-  // ψ(x, s) = φ(x − X(s), s): a copy translated by +X(s) (direction −1: into the frame)
-  const toLab = (s: number, x: Float64Array, direction = 1): Float64Array => {
+  // a copy translated by direction·X(s): +1 from the frame to the lab, ψ(x, s) = φ(x − X(s), s); −1 into the frame
+  const translated = (s: number, x: Float64Array, direction: 1 | -1): Float64Array => {
     const copy = Float64Array.from(x);
     frame?.shift.apply(copy, direction * frame.offset(s));
     return copy;
   };
   // φ(ξ, 0) = ψ(ξ + X(0), 0)
-  const initial = frame ? task.states.map((x) => toLab(0, x, -1)) : task.states;
+  const initial = frame ? task.states.map((x) => translated(0, x, -1)) : task.states;
   const res = prop.propagate(H, initial, 0, task.duration, {
     ...task.control,
     sampleTimes: task.sampleTimes,
-    onSample: task.sampleTimes.length > 0 ? (s, sts) => samples.push(sts.map((x) => toLab(s, x))) : undefined,
+    onSample: task.sampleTimes.length > 0 ? (s, sts) => samples.push(sts.map((x) => translated(s, x, 1))) : undefined,
     onProgress,
   });
-  const states = frame ? res.states.map((x) => toLab(task.duration, x)) : res.states;
+  const states = frame ? res.states.map((x) => translated(task.duration, x, 1)) : res.states;
   return { states, samples, stats: res.stats };
 }
 
