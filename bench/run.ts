@@ -104,7 +104,7 @@ function verifyPeerSeconds(): { seconds: number | null; note: string } {
 
 /** the verify job (eigenstates, cd and bare drives on worker threads, fidelities, correction size) of the split of
  *  −6 sech² as the numpy peer does it, through the compiled library so that the worker threads load dist/ */
-async function verifyCase(): Promise<CaseResult> {
+async function verifyCase(control: 'global' | 'local', peerTime?: { seconds: number | null; note: string }): Promise<CaseResult> {
   const lib = (await import(new URL('../dist/index.js', import.meta.url).href)) as typeof import('../src/index.ts');
   const text = `name: bench-verify
 units: { system: natural }
@@ -112,12 +112,12 @@ grid: { length: 60, points: 512 }
 initial: { kind: sech2, depth: 6, width: 1, center: 0 }
 flow: { dispersion: quantum, lambda_end: 0.5, frames: 11 }
 protocol: { duration: 2.0, ramp: sin2 }
-verify: { states: 8, tolerance: 1e-7 }
+verify: { states: 8, tolerance: 1e-7, step_control: ${control} }
 `;
   const config = lib.parseConfig(text, 'bench-verify.yaml', tmpdir());
   const design = lib.design(config);
   await lib.verify(config, { design, traceSamples: 0 }); // warm-up
-  const peer = verifyPeerSeconds();
+  const peer = peerTime ?? verifyPeerSeconds();
   let best = Infinity;
   let result = await lib.verify(config, { design, traceSamples: 0 });
   for (let r = 0; r < 3; r++) {
@@ -130,7 +130,7 @@ verify: { states: 8, tolerance: 1e-7 }
   const cd = n.drives.find((d) => d.drive === 'cd')!;
   const bare = n.drives.find((d) => d.drive === 'bare')!;
   return {
-    case: 'verify job: split of -6 sech^2, N = 512, L = 60, lambda_end = 0.5, T = 2, sin2, 8 states, cd and bare drives (no traces, as the peer)',
+    case: `verify job: split of -6 sech^2, N = 512, L = 60, lambda_end = 0.5, T = 2, sin2, 8 states, cd and bare drives (no traces, as the peer), verify.step_control: ${control}`,
     method: `${cd.stats.scheme} (${cd.stats.errorEstimator}), states in groups of 4 on ${n.timings.threads} worker thread(s); eigenstates: ${n.eigen.method}`,
     tolerance_infidelity: 1e-7,
     worst_infidelity_cd: 1 - cd.minFidelity,
@@ -146,7 +146,15 @@ verify: { states: 8, tolerance: 1e-7 }
     operator_applications: cd.stats.matvecs + bare.stats.matvecs,
     peak_rss_mbytes: process.resourceUsage().maxRSS / 1024,
     load_average_1min: loadavg()[0],
+    peer,
   };
+}
+
+/** the verify case with the default doubling ladder and with the one-pass control, against the same peer timing */
+async function verifyCases(): Promise<CaseResult[]> {
+  const ladder = await verifyCase('global');
+  const onePass = await verifyCase('local', ladder.peer as { seconds: number | null; note: string });
+  return [ladder, onePass].map(({ peer: _, ...rest }) => rest);
 }
 
 /** `check` (flow fit per interval on worker threads, spectra, repair) of the closed-form split, 41 frames × 1024 points */
@@ -235,7 +243,7 @@ verify: { temperature: 50, states: 280 }
 }
 
 const quick = process.env.ISOTRAP_BENCH_QUICK === '1';
-const results = { date: new Date().toISOString(), node: process.version, cases: [startupCase(), flowCase(), await verifyCase(), await checkCase(), ...(quick ? [] : [sweepCase(), thermalCase()])] };
+const results = { date: new Date().toISOString(), node: process.version, cases: [startupCase(), flowCase(), ...(await verifyCases()), await checkCase(), ...(quick ? [] : [sweepCase(), thermalCase()])] };
 mkdirSync('bench', { recursive: true });
 writeFileSync('bench/results.json', JSON.stringify(results, null, 2) + '\n');
 console.log(JSON.stringify(results, null, 2));

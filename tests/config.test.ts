@@ -91,7 +91,7 @@ verify: { states: 6, temperature: 50, fermions: 3, compare_classical: true }
       ],
     });
     expect(c.protocol).toEqual({ duration: 20, ramp: 'sin2' }); // ramp default sin2
-    expect(c.verify).toEqual({ states: 6, tolerance: 1e-8, temperature: 50, fermions: 3, compare_classical: true, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0, psf: 0, noise_rms: 0, noise_shots: 16, noise_seed: 1 } }); // tolerance default 1e-8
+    expect(c.verify).toEqual({ states: 6, tolerance: 1e-8, step_control: 'global', temperature: 50, fermions: 3, compare_classical: true, painted: [], errors: { correction_scale: 0, depth: 0, timing: 0, psf: 0, noise_rms: 0, noise_shots: 16, noise_seed: 1 } }); // tolerance default 1e-8, step control default global
     expect(c.description).toBe('two wells in rubidium');
     // physics.md §3: ⁸⁷Rb, ℓ = 1 µm → E₀/h ≈ 58.15 Hz, so 1 h·kHz ≈ 17.197 E₀
     const us = unitSystemOf(c.units);

@@ -8,6 +8,10 @@ import { lowestEigenpairs } from '../src/quantum/eigen.ts';
 import { NO_ERRORS } from '../src/quantum/propagator.ts';
 import { boundStates } from '../src/quantum/spectrum-track.ts';
 import { makeGrid } from '../src/spectral/grid.ts';
+import { tmpdir } from 'node:os';
+import { parseConfig } from '../src/io/config.ts';
+import { runDesign } from '../src/jobs/design.ts';
+import { runVerify } from '../src/jobs/verify.ts';
 
 // Schrödinger drives of a designed sequence in the frame of its fastest soliton (drive-group.ts sourceDrive): the
 // two-soliton split of −6 sech²ξ (Drazin & Johnson 1989 closed form; solitons of speed 16 and 4, physics.md §4)
@@ -54,5 +58,31 @@ describe('KdV drives in the moving frame of the flow', () => {
     expect(runsInFrame(moving, { ...NO_ERRORS, shift: 0.01 })).toBe(false);
     expect(runsInFrame(lab, NO_ERRORS)).toBe(false);
     expect(sourceDrive(grid, moving, ramp, 1, 0, { ...NO_ERRORS, scale: 0.1 }).offset).toBeUndefined();
+  });
+});
+
+describe('verify.step_control', () => {
+  const yaml = (control: string) => `name: one-pass
+units: { system: natural }
+grid: { length: 30, points: 256 }
+initial: { kind: sech2, depth: 6, width: 1, center: 0 }
+flow: { dispersion: quantum, lambda_end: 0.1, frames: 5 }
+protocol: { duration: 0.5, ramp: sin2 }
+verify: { states: 3, tolerance: 1e-8, step_control: ${control} }
+`;
+
+  it('local: one pass with the embedded estimate keeps the eigenstates within the budget, global: the doubling ladder', async () => {
+    // exact counterdiabatic driving along a KdV flow (physics.md §3): fidelity 1 up to the time-stepping budget
+    for (const control of ['local', 'global'] as const) {
+      const config = parseConfig(yaml(control), 'one-pass.yaml', tmpdir());
+      const cd = (await runVerify(config, runDesign(config), { traceSamples: 0, threads: 1 })).natural.drives.find((d) => d.drive === 'cd')!;
+      for (const f of cd.fidelity) expect(f).toBeGreaterThan(1 - 1e-8);
+      expect(cd.stats.errorEstimator).toBe(control === 'local' ? 'embedded pair' : 'global step halving');
+      expect(cd.stats.levels === undefined).toBe(control === 'local');
+    }
+  }, 60_000);
+
+  it('another value is refused naming the key and the allowed values', () => {
+    expect(() => parseConfig(yaml('sideways'), 'one-pass.yaml', tmpdir())).toThrow(/verify\.step_control.*global, local/);
   });
 });

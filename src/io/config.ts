@@ -332,6 +332,9 @@ export const errorsSchema = strictSection(
 /** painted corrections verify can simulate (quantum/painted.ts): the best momentum-linear correction on the
  *  occupied states, and the one-state exact correction of the ground state */
 export const PAINTED_KINDS = ['variational', 'ground'] as const;
+/** step control of the Schrödinger drives (quantum/propagator.ts PropagateOptions.errorControl): `global`, uniform
+ *  steps halved until the final states converge; `local`, one pass with the embedded estimate of every step */
+export const STEP_CONTROLS = ['global', 'local'] as const;
 export type PaintedKind = (typeof PAINTED_KINDS)[number];
 
 /** a condensate driven through the same sequence (quantum/condensate.ts; physics.md §10): N atoms with either a
@@ -360,6 +363,7 @@ export const verifySchema = strictSection(
   {
     states: intBetween(1, 1000).optional(),
     tolerance: numberWhere(`must be a number from ${VERIFY_TOLERANCE_MIN} to 1e-3 (infidelity budget of the time stepping; ${VERIFY_TOLERANCE_MIN} is the smallest double precision can confirm)`, (v) => v >= VERIFY_TOLERANCE_MIN && v <= 1e-3).default(1e-8),
+    step_control: oneOf(STEP_CONTROLS).default('global'),
     temperature: z
       .number({ error: TEMPERATURE_RULE })
       .superRefine((v, ctx) => {

@@ -149,6 +149,7 @@ function verifySize(config: Config, start: StartSize, durationNatural: number, t
     correctedDrives: drives.corrected, bareDrives: drives.bare, traceSamples, u0: start.u0,
     shots: verifyShots(config),
     condensate: config.verify?.interaction !== undefined,
+    stepControl: config.verify?.step_control,
   };
 }
 

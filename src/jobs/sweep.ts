@@ -261,6 +261,7 @@ function pointWork(config: Config, c: JobContext): number {
     duration: c.units.timeToNatural(config.protocol?.duration ?? 1), states: config.verify?.states ?? 8, tol: config.verify?.tolerance ?? 1e-8,
     correctedDrives: 1, bareDrives: 1, traceSamples: TRACE_SAMPLES, u0: c.u0,
     shots: verifyShots(config),
+    stepControl: config.verify?.step_control,
   }).seconds;
 }
 

@@ -5,7 +5,7 @@
  * Converts the natural-units results of quantum/verify.ts into the config's units.
  */
 import { UserError } from '../core/errors.ts';
-import { errorsSchema, type Config } from '../io/config.ts';
+import { verifySchema, type Config } from '../io/config.ts';
 import { encodeNpy } from '../io/npy.ts';
 import { driveClassicalSequence } from '../classical/corrected.ts';
 import type { UnitSystem } from '../units/scales.ts';
@@ -82,7 +82,7 @@ function verifyInput(config: Config, design: DesignResult): VerifyInput {
   const src = config.meta.source;
   if (!config.protocol) throw new UserError(`${src}: protocol is missing: verify needs e.g. protocol: { duration: 2.0, ramp: sin2 } (duration in ${units.labels.time})`);
   if (!design.summary.complete) throw new UserError(`${src}: the designed sequence stops at λ = ${design.summary.lambda_reached} before flow.lambda_end = ${config.flow.lambda_end}; verify needs a complete sequence`);
-  const v = config.verify ?? { tolerance: 1e-8, compare_classical: false, painted: [], errors: errorsSchema.parse({}) };
+  const v = config.verify ?? verifySchema.parse({});
   return {
     protocol: config.protocol,
     verify: v,
@@ -320,6 +320,7 @@ export async function runVerify(config: Config, design: DesignResult, opts: Veri
     drift: design.ctx.units.lengthToNatural(config.flow.drift),
     states: input.verify.states,
     tol: input.verify.tolerance,
+    errorControl: input.verify.step_control,
     temperature: input.temperature,
     fermions: input.verify.fermions,
     drives: ['cd', 'bare', ...painted.map((k) => PAINTED_DRIVE[k])],

@@ -18,7 +18,7 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, recordRange, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
-import { boundStateEstimate, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, FRAME_STEP_FACTOR, ladderSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
+import { boundStateEstimate, driveSteps, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, FRAME_STEP_FACTOR, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
 import { mergeStats, runGroup, runsInFrame, sourceDrive, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
 import { WorkerPool } from '../core/worker-pool.ts';
 import { NumericalError } from '../core/errors.ts';
@@ -302,7 +302,7 @@ function planDrive(opts: VerifyOptions, init: readonly Float64Array[], expectedS
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
   // a KdV drive in the flow's moving frame needs fewer steps (drive-group.ts sourceDrive)
   const framed = !isPainted(drive) && opts.source !== undefined && runsInFrame(opts.source, opts.errors ?? {});
-  const ownSteps = framed ? { corrected: Math.ceil(expectedSteps.corrected * FRAME_STEP_FACTOR), bare: Math.ceil(expectedSteps.bare * FRAME_STEP_FACTOR) } : expectedSteps;
+  const ownSteps = framed ? { ...expectedSteps, corrected: Math.ceil(expectedSteps.corrected * FRAME_STEP_FACTOR), bare: Math.ceil(expectedSteps.bare * FRAME_STEP_FACTOR) } : expectedSteps;
   const expected = drive === 'bare' ? ownSteps.bare : ownSteps.corrected;
   const control: GroupControl = { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected };
   // painted drives evaluate a closure: one group in the calling thread
@@ -452,18 +452,18 @@ function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: re
 }
 
 /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
-type ExpectedSteps = { corrected: number; bare: number };
+type ExpectedSteps = { corrected: number; bare: number; control: 'global' | 'local' };
 
 /** estimated products with H of a group of states under a drive (a gauge check propagates like a corrected drive) */
 function workOfGroup(expectedSteps: ExpectedSteps, drive: DriveKind | 'gauge', states: number): number {
-  return ladderSteps(drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected) * SCHRODINGER_MATVECS_PER_STEP * states;
+  return driveSteps(drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected, expectedSteps.control) * SCHRODINGER_MATVECS_PER_STEP * states;
 }
 
 function expectedLevels(opts: VerifyOptions, u0: Float64Array, u1: Float64Array): ExpectedSteps {
   let maxAbsU = 0;
   for (let j = 0; j < u0.length; j++) maxAbsU = Math.max(maxAbsU, Math.abs(u0[j]), Math.abs(u1[j]));
   const size = { points: opts.grid.n, length: opts.grid.length, maxAbsU, lambdaEnd: opts.lambdaEnd, ramp: opts.ramp, duration: opts.duration, tol: opts.tol ?? TOL_DEFAULT };
-  return { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false) };
+  return { corrected: estimateSchrodingerSteps(size, true), bare: estimateSchrodingerSteps(size, false), control: opts.errorControl ?? 'global' };
 }
 
 /** the work meter of a verify (eigen solves at the ends and the interior trace samples, the drives) and the expected
