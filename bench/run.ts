@@ -104,7 +104,7 @@ function verifyPeerSeconds(): { seconds: number | null; note: string } {
 
 /** the verify job (eigenstates, cd and bare drives on worker threads, fidelities, correction size) of the split of
  *  −6 sech² as the numpy peer does it, through the compiled library so that the worker threads load dist/ */
-async function verifyCase(control: 'global' | 'local', peerTime?: { seconds: number | null; note: string }): Promise<CaseResult> {
+async function verifyCase(control: 'global' | 'local', tolerance: number, peerTime?: { seconds: number | null; note: string }): Promise<CaseResult> {
   const lib = (await import(new URL('../dist/index.js', import.meta.url).href)) as typeof import('../src/index.ts');
   const text = `name: bench-verify
 units: { system: natural }
@@ -112,7 +112,7 @@ grid: { length: 60, points: 512 }
 initial: { kind: sech2, depth: 6, width: 1, center: 0 }
 flow: { dispersion: quantum, lambda_end: 0.5, frames: 11 }
 protocol: { duration: 2.0, ramp: sin2 }
-verify: { states: 8, tolerance: 1e-7, step_control: ${control} }
+verify: { states: 8, tolerance: ${tolerance}, step_control: ${control} }
 `;
   const config = lib.parseConfig(text, 'bench-verify.yaml', tmpdir());
   const design = lib.design(config);
@@ -130,9 +130,9 @@ verify: { states: 8, tolerance: 1e-7, step_control: ${control} }
   const cd = n.drives.find((d) => d.drive === 'cd')!;
   const bare = n.drives.find((d) => d.drive === 'bare')!;
   return {
-    case: `verify job: split of -6 sech^2, N = 512, L = 60, lambda_end = 0.5, T = 2, sin2, 8 states, cd and bare drives (no traces, as the peer), verify.step_control: ${control}`,
+    case: `verify job: split of -6 sech^2, N = 512, L = 60, lambda_end = 0.5, T = 2, sin2, 8 states, cd and bare drives (no traces, as the peer), verify.step_control: ${control}, verify.tolerance: ${tolerance}`,
     method: `${cd.stats.scheme} (${cd.stats.errorEstimator}), states in groups of 4 on ${n.timings.threads} worker thread(s); eigenstates: ${n.eigen.method}`,
-    tolerance_infidelity: 1e-7,
+    tolerance_infidelity: tolerance,
     worst_infidelity_cd: 1 - cd.minFidelity,
     wall_seconds: best,
     peer_wall_seconds: peer.seconds,
@@ -150,11 +150,18 @@ verify: { states: 8, tolerance: 1e-7, step_control: ${control} }
   };
 }
 
-/** the verify case with the default doubling ladder and with the one-pass control, against the same peer timing */
+/** budget of the one-pass control whose achieved infidelity matches the ladder's at 1e-7 (measured: 5.6e-9 against
+ *  7.0e-9; the one-pass budget is a bound, about 10⁴ above what it achieves) */
+const ONE_PASS_MATCHED_TOLERANCE = 1e-4;
+
+/** the verify case with the default doubling ladder, with the one-pass control at the same budget and at the budget
+ *  that reaches the same accuracy, against the same peer timing */
 async function verifyCases(): Promise<CaseResult[]> {
-  const ladder = await verifyCase('global');
-  const onePass = await verifyCase('local', ladder.peer as { seconds: number | null; note: string });
-  return [ladder, onePass].map(({ peer: _, ...rest }) => rest);
+  const ladder = await verifyCase('global', 1e-7);
+  const peer = ladder.peer as { seconds: number | null; note: string };
+  const sameBudget = await verifyCase('local', 1e-7, peer);
+  const sameAccuracy = await verifyCase('local', ONE_PASS_MATCHED_TOLERANCE, peer);
+  return [ladder, sameBudget, sameAccuracy].map(({ peer: _, ...rest }) => rest);
 }
 
 /** `check` (flow fit per interval on worker threads, spectra, repair) of the closed-form split, 41 frames × 1024 points */
