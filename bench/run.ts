@@ -150,12 +150,12 @@ verify: { states: 8, tolerance: ${tolerance}, step_control: ${control} }
   };
 }
 
-/** budget of the one-pass control whose achieved infidelity matches the ladder's at 1e-7 (measured: 5.6e-9 against
- *  7.0e-9; the one-pass budget is a bound, about 10⁴ above what it achieves) */
+/** budget of the one-pass control whose achieved infidelity is the peer's accuracy, amplitude error² ≈ 1e-8
+ *  (shared/peers/README.md; measured 5.6e-9: the one-pass budget is a bound, about 10⁴ above what it achieves) */
 const ONE_PASS_MATCHED_TOLERANCE = 1e-4;
 
 /** the verify case with the default doubling ladder, with the one-pass control at the same budget and at the budget
- *  that reaches the same accuracy, against the same peer timing */
+ *  that reaches the peer's accuracy, against the same peer timing */
 async function verifyCases(): Promise<CaseResult[]> {
   const ladder = await verifyCase('global', 1e-7);
   const peer = ladder.peer as { seconds: number | null; note: string };

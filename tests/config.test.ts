@@ -52,8 +52,8 @@ describe('valid configs', () => {
     expect(c.units).toEqual({ system: 'natural' });
     expect(c.grid).toEqual({ length: 60, points: 1024 });
     expect(c.initial).toEqual({ kind: 'sech2', depth: 6, width: 1, center: 0 });
-    // defaults: tolerance 1e-9, drift 0 (README, Configs table)
-    expect(c.flow).toEqual({ dispersion: 'quantum', lambda_end: 0.5, frames: 11, tolerance: 1e-9, drift: 0 });
+    // defaults: tolerance 5e-10, drift 0 (README, Configs table)
+    expect(c.flow).toEqual({ dispersion: 'quantum', lambda_end: 0.5, frames: 11, tolerance: 5e-10, drift: 0 });
     expect(c.protocol).toBeUndefined();
     expect(c.verify).toBeUndefined();
     expect(c.meta).toEqual({ source: SRC, baseDir: work });
@@ -121,7 +121,7 @@ verify: { states: 6, temperature: 50, fermions: 3, compare_classical: true }
     const extended = configSchema.extend({ lattice: strictSection({ spacing: z.number() }, 'lattice').optional() });
     const c = parseConfigWith(extended, { ...parseYaml(SPLIT_TWO), lattice: { spacing: 0.5 } }, SRC, work);
     expect(c.lattice).toEqual({ spacing: 0.5 });
-    expect(c.flow.tolerance).toBe(1e-9);
+    expect(c.flow.tolerance).toBe(5e-10);
     // the unknown-key message lists the extended key set
     expect(() => parseConfigWith(extended, { ...parseYaml(SPLIT_TWO), lattis: 1 }, SRC, work)).toThrow(
       'configs/x.yaml: lattis = 1 is not allowed: unknown key; allowed keys in the config are name, description, units, grid, initial, flow, protocol, verify, budget, lattice',

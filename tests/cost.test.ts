@@ -184,7 +184,7 @@ describe('cost estimates against measured runs', () => {
     for (const [n, L, depth, lambdaEnd] of [[256, 40, 6, 0.1], [128, 40, 6, 0.3], [512, 60, 2, 0.5]] as const) {
       const g = makeGrid(L, n);
       const u0 = g.x.map((x) => -depth / Math.cosh(x) ** 2);
-      // at the default flow.tolerance (README, Configs), which FLOW_STEP_NUMBER describes
+      // at flow.tolerance 1e-9 in the lab frame, which FLOW_STEP_NUMBER describes
       const run = integrateFlow(g, naturalFlowEquation('quantum'), u0, { tolerance: 1e-9, frames: [0, lambdaEnd] });
       const est = estimateFlowSteps({ points: n, length: L, maxAbsU: depth, lambdaEnd });
       const ratio = est / run.stats.accepted;

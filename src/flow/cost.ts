@@ -16,7 +16,7 @@
  */
 import { DenseFlow } from './dense.ts';
 
-/** h·|α|·max|u₀|·k_cut of the accepted steps at the default tolerance 1e-9 in the lab frame: measured 0.05–0.4 (N = 128
+/** h·|α|·max|u₀|·k_cut of the accepted steps at tolerance 1e-9 in the lab frame: measured 0.05–0.4 (N = 128
  *  … 2048, sech² depths 2 and 6; grids that do not resolve the solitons at the low end), common practice. A design
  *  integrates in the frame of its fastest soliton (kdv.ts `frameSpeed`) and takes 1.5–15× fewer steps (measured, N =
  *  128 … 8192), so for it the estimate is an upper bound */

@@ -38,10 +38,6 @@ export const SCHRODINGER_STEP_NUMBER = 3.3;
 export const TOL_REFERENCE = 1e-8;
 /** products per state and step of the ETD5(3) pair: six stages, the last (FSAL) one reused */
 export const SCHRODINGER_MATVECS_PER_STEP = 6;
-/** accepted steps of a KdV drive run in the flow's moving frame (drive-group.ts sourceDrive) relative to the lab
- *  estimate: measured 0.37–0.55 (two-soliton split, N = 512, 8 states: 128 steps err 9.2e-5 where the lab needs 256
- *  for 2.5e-4; equal-step errors 16–27× smaller, which is 0.52–0.57 of the steps at fifth order) */
-export const FRAME_STEP_FACTOR = 0.5;
 /** the smallest first level of the doubling ladder (a coarser level is never resolved; common practice) */
 export const LADDER_MIN_START = 8;
 /** wall time of one product per N log₂N on a 2-core laptop: measured 24–38 ns in propagation (N = 1024 / 256) and

@@ -18,8 +18,8 @@ import { GaussianBlur } from '../spectral/blur.ts';
 import { groundStateField, paintedDrive, recordRange, velocityDrive, type VelocityField } from './painted.ts';
 import type { OperatorTerms } from './hamiltonian.ts';
 import type { DrivenHamiltonian } from './scheme.ts';
-import { boundStateEstimate, driveSteps, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, FRAME_STEP_FACTOR, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
-import { mergeStats, runGroup, runsInFrame, sourceDrive, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
+import { boundStateEstimate, driveSteps, eigenMethodFor, eigenSolveMatvecs, estimateSchrodingerSteps, SCHRODINGER_MATVECS_PER_STEP, SECONDS_PER_MATVEC_POINT } from './cost.ts';
+import { mergeStats, runGroup, sourceDrive, stateGroups, type GroupControl, type GroupResult, type GroupTask, type KdvDriveSpec } from './drive-group.ts';
 import { WorkerPool } from '../core/worker-pool.ts';
 import { NumericalError } from '../core/errors.ts';
 import type { SequenceSource } from '../flow/dense.ts';
@@ -300,15 +300,12 @@ function planDrive(opts: VerifyOptions, init: readonly Float64Array[], expectedS
   const traceTimes = nTrace === 1 ? [opts.duration] : evenly(nTrace);
   const strengthTimes = nStrength === 1 ? [0] : evenly(nStrength);
   const sampleTimes = [...new Set([...traceTimes, ...strengthTimes])].sort((a, b) => a - b);
-  // a KdV drive in the flow's moving frame needs fewer steps (drive-group.ts sourceDrive)
-  const framed = !isPainted(drive) && opts.source !== undefined && runsInFrame(opts.source, opts.errors ?? {});
-  const ownSteps = framed ? { ...expectedSteps, corrected: Math.ceil(expectedSteps.corrected * FRAME_STEP_FACTOR), bare: Math.ceil(expectedSteps.bare * FRAME_STEP_FACTOR) } : expectedSteps;
-  const expected = drive === 'bare' ? ownSteps.bare : ownSteps.corrected;
+  const expected = drive === 'bare' ? expectedSteps.bare : expectedSteps.corrected;
   const control: GroupControl = { scheme: opts.scheme, tol: opts.tol, errorControl: opts.errorControl ?? 'global', expectedSteps: expected };
   // painted drives evaluate a closure: one group in the calling thread
   const groups = isPainted(drive) ? [[0, init.length] as [number, number]] : stateGroups(init.length);
   const tasks = groups.map(([a, b]): GroupTask => ({ states: init.slice(a, b), duration: opts.duration, sampleTimes, control }));
-  return { drive, traceTimes, strengthTimes, sampleTimes, range: { min: Infinity, max: -Infinity }, tasks, expectedSteps: ownSteps };
+  return { drive, traceTimes, strengthTimes, sampleTimes, range: { min: Infinity, max: -Infinity }, tasks, expectedSteps };
 }
 
 /** the Hamiltonian of a drive in this thread */
