@@ -22,6 +22,7 @@
  * Memory: the propagated states (2N doubles each) are held STATE_COPIES times (scheme buffers, step-doubling copies,
  * and the copy the global control keeps at each sample time), the eigen solver's Krylov basis and every trace basis.
  */
+import type { ErrorControl } from './propagator.ts';
 import { makeRamp, type RampKind } from '../protocol/ramp.ts';
 import { densePointsFor, MAX_KRYLOV_DEFAULT } from './eigen.ts';
 
@@ -73,7 +74,7 @@ export interface VerifySize {
   /** a condensate (verify.interaction): three one-state drives and its painted field, in the calling thread, once */
   condensate?: boolean;
   /** step control of the drives (verify.step_control; default 'global', the doubling ladder) */
-  stepControl?: 'global' | 'local';
+  stepControl?: ErrorControl;
 }
 
 /** the condensate's painted field (quantum/painted.ts: 64–128 nonlinear ground states of its density series, each
@@ -143,7 +144,7 @@ export function ladderStart(accepted: number): number {
 export const ONE_PASS_STEP_FACTOR = 5;
 
 /** steps a drive takes in all for an expected accepted level: the doubling ladder (global control) or one pass */
-export function driveSteps(accepted: number, control: 'global' | 'local' = 'global'): number {
+export function driveSteps(accepted: number, control: ErrorControl = 'global'): number {
   return control === 'local' ? Math.ceil(accepted * ONE_PASS_STEP_FACTOR) : ladderSteps(accepted);
 }
 

@@ -138,6 +138,9 @@ export function labPotential(grid: Grid, design: PotentialFn, errors: DriveError
   };
 }
 
+/** the step controls of `PropagateOptions.errorControl` */
+export type ErrorControl = 'local' | 'global';
+
 export interface PropagateOptions {
   /** a scheme name of the propagator's registry (default DEFAULT_SCHEME) */
   scheme?: Scheme;
@@ -162,7 +165,7 @@ export interface PropagateOptions {
    * order) is known, the next level is the predicted count ×1.2 (growth f ∈ [1.25, 2]) and its error is d/(f^p − 1).
    * Samples are reported from the accepted level only.
    */
-  errorControl?: 'local' | 'global';
+  errorControl?: ErrorControl;
   /** first level of the global control (default: quantum/cost.ts ladderStart(expectedSteps), else 64 steps) */
   initialSteps?: number;
   /** largest level of the global control (default 65,536 steps): when it is reached before the estimate meets the

@@ -11,7 +11,7 @@ import { densePointsFor, lowestEigenpairs, groupDegenerate, type EigenMethod, ty
 import { complexFromReal } from '../linalg/complex.ts';
 import { laxTerms, SpectralOperator } from './hamiltonian.ts';
 import { eigenspaceFidelity, excessEnergy, fermionFidelity, boltzmannWeights, groupOf, occupiedCoupling, uhlmannFidelity, thermalSummary, type FermionSummary, type ThermalSummary } from './observables.ts';
-import { kdvDrive, labPotential, NO_ERRORS, Propagator, type DriveErrors, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
+import { kdvDrive, labPotential, NO_ERRORS, Propagator, type DriveErrors, type ErrorControl, type PotentialFn, type PropagationStats, type Scheme } from './propagator.ts';
 import { makeRamp, type Ramp, type RampKind } from '../protocol/ramp.ts';
 import { boxThreshold } from './bound.ts';
 import { GaussianBlur } from '../spectral/blur.ts';
@@ -58,7 +58,7 @@ export interface VerifyOptions {
   drives?: DriveKind[];
   scheme?: Scheme;
   /** time-step error control (propagator.ts); default 'global' (measured faster at equal true accuracy) */
-  errorControl?: 'local' | 'global';
+  errorControl?: ErrorControl;
   eigenMethod?: EigenMethod;
   degeneracyTol?: number;
   /** number of fidelity-trace samples per drive, equally spaced from s = 0 to s = T inclusive, so the trace starts
@@ -449,7 +449,7 @@ function traceFidelities(ctx: DriveContext, s: number, uS: Float64Array, sts: re
 }
 
 /** expected accepted level of the global step control (quantum/cost.ts), corrected and bare drives */
-type ExpectedSteps = { corrected: number; bare: number; control: 'global' | 'local' };
+type ExpectedSteps = { corrected: number; bare: number; control: ErrorControl };
 
 /** estimated products with H of a group of states under a drive (a gauge check propagates like a corrected drive) */
 function workOfGroup(expectedSteps: ExpectedSteps, drive: DriveKind | 'gauge', states: number): number {
