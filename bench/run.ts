@@ -104,7 +104,7 @@ function verifyPeerSeconds(): { seconds: number | null; note: string } {
 
 /** the verify job (eigenstates, cd and bare drives on worker threads, fidelities, correction size) of the split of
  *  −6 sech² as the numpy peer does it, through the compiled library so that the worker threads load dist/ */
-async function verifyCase(control: 'global' | 'local', tolerance: number, peerTime?: { seconds: number | null; note: string }): Promise<CaseResult> {
+async function verifyCase(control: 'global' | 'local', tolerance: number, peer: { seconds: number | null; note: string }): Promise<CaseResult> {
   const lib = (await import(new URL('../dist/index.js', import.meta.url).href)) as typeof import('../src/index.ts');
   const text = `name: bench-verify
 units: { system: natural }
@@ -117,7 +117,6 @@ verify: { states: 8, tolerance: ${tolerance}, step_control: ${control} }
   const config = lib.parseConfig(text, 'bench-verify.yaml', tmpdir());
   const design = lib.design(config);
   await lib.verify(config, { design, traceSamples: 0 }); // warm-up
-  const peer = peerTime ?? verifyPeerSeconds();
   let best = Infinity;
   let result = await lib.verify(config, { design, traceSamples: 0 });
   for (let r = 0; r < 3; r++) {
@@ -146,7 +145,6 @@ verify: { states: 8, tolerance: ${tolerance}, step_control: ${control} }
     operator_applications: cd.stats.matvecs + bare.stats.matvecs,
     peak_rss_mbytes: process.resourceUsage().maxRSS / 1024,
     load_average_1min: loadavg()[0],
-    peer,
   };
 }
 
@@ -157,11 +155,8 @@ const ONE_PASS_MATCHED_TOLERANCE = 1e-4;
 /** the verify case with the default doubling ladder, with the one-pass control at the same budget and at the budget
  *  that reaches the peer's accuracy, against the same peer timing */
 async function verifyCases(): Promise<CaseResult[]> {
-  const ladder = await verifyCase('global', 1e-7);
-  const peer = ladder.peer as { seconds: number | null; note: string };
-  const sameBudget = await verifyCase('local', 1e-7, peer);
-  const sameAccuracy = await verifyCase('local', ONE_PASS_MATCHED_TOLERANCE, peer);
-  return [ladder, sameBudget, sameAccuracy].map(({ peer: _, ...rest }) => rest);
+  const peer = verifyPeerSeconds();
+  return [await verifyCase('global', 1e-7, peer), await verifyCase('local', 1e-7, peer), await verifyCase('local', ONE_PASS_MATCHED_TOLERANCE, peer)];
 }
 
 /** `check` (flow fit per interval on worker threads, spectra, repair) of the closed-form split, 41 frames × 1024 points */

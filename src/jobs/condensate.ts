@@ -140,17 +140,17 @@ function interactionSection(config: Config, design: DesignResult, input: Interac
   const painted = r.drives.find((d) => d.drive === 'painted_condensate');
   if (!cd || !bare) throw new Error('internal error: condensate drives missing');
   // round-off can put F a few ulps above 1
-  const lossCd = Math.max(0, 1 - cd.fidelity), lossBare = Math.max(0, 1 - bare.fidelity);
+  const lossCd = Math.max(0, 1 - cd.fidelity), lossBare = Math.max(0, 1 - bare.fidelity), lossPainted = painted ? Math.max(0, 1 - painted.fidelity) : 0;
   const helps = lossCd < lossBare;
   const fmt = (x: number) => x.toExponential(2);
-  const paintedNote = painted ? `; the painted condensate protocol reaches 1 − F = ${fmt(1 - painted.fidelity)}` : '';
+  const paintedNote = painted ? `; the painted condensate protocol reaches 1 − F = ${fmt(lossPainted)}` : '';
   const verdict = lossCd <= CONDENSATE_ACCEPT_INFIDELITY
     ? `the cubic correction still keeps the condensate of ${it.atoms} atoms: 1 − F = ${fmt(lossCd)} ≤ ${CONDENSATE_ACCEPT_INFIDELITY.toExponential(0)}${paintedNote}`
     : helps
       ? `the cubic correction no longer keeps the condensate of ${it.atoms} atoms: 1 − F = ${fmt(lossCd)} (accepted: ≤ ${CONDENSATE_ACCEPT_INFIDELITY.toExponential(0)}); it still beats the bare drive (${fmt(lossBare)})${paintedNote}`
       : `the cubic correction no longer helps the condensate of ${it.atoms} atoms: 1 − F = ${fmt(lossCd)}, no better than the bare drive (${fmt(lossBare)})${paintedNote}`;
   if (lossCd > CONDENSATE_ACCEPT_INFIDELITY) warnings.push(`condensate: ${verdict}`);
-  if (painted && 1 - painted.fidelity > CONDENSATE_ACCEPT_INFIDELITY) warnings.push(`condensate: the painted condensate protocol ends at 1 − F = ${fmt(1 - painted.fidelity)}, above ${CONDENSATE_ACCEPT_INFIDELITY.toExponential(0)} (clipped density weight ${fmt(r.field?.clippedWeight ?? 0)}; a finer grid or a longer duration may help)`);
+  if (painted && lossPainted > CONDENSATE_ACCEPT_INFIDELITY) warnings.push(`condensate: the painted condensate protocol ends at 1 − F = ${fmt(lossPainted)}, above ${CONDENSATE_ACCEPT_INFIDELITY.toExponential(0)} (clipped density weight ${fmt(r.field?.clippedWeight ?? 0)}; a finer grid or a longer duration may help)`);
   if (c.olshanii !== null && Math.abs(c.olshanii) > OLSHANII_WARN) {
     warnings.push(`condensate: a_s is not small against the transverse oscillator length a⊥ = ${c.aPerp?.toPrecision(3)} ${units.labels.length}: C·a_s/a_rel = ${c.olshanii.toPrecision(3)} (a_rel = √2 a⊥), so g₁D = 2ħω⊥a_s is off by about ${(100 * Math.abs(c.olshanii / (1 - c.olshanii))).toPrecision(2)} % (Olshanii, PRL 81, 938, 1998)`);
   }

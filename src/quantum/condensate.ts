@@ -185,12 +185,11 @@ export function driveCondensate(opts: CondensateOptions): CondensateResult {
       onProgress: (f) => report((i + 1 + f) * share, stage),
     });
     const psi = res.states[0];
-    const dens = psi.map((v) => v / root);
     const [re, im] = overlapReal(target, psi);
     results.push({
       drive,
       fidelity: re * re + im * im,
-      excess: gpeEnergy(grid, u1, g, dens) - end.energy,
+      excess: gpeEnergy(grid, u1, g, psi.map((v) => v / root)) - end.energy, // ψ with ∫|ψ|² dξ = 1
       steps: res.stats.steps,
       levels: res.stats.levels ?? [],
       range: drive === 'painted_condensate' ? range : null,
